@@ -1,0 +1,7 @@
+"""arcflash: arc-flash hazard studies by IEEE 1584-2018 and NFPA 70E.
+
+Results are for qualified persons; local codes and licensed engineering
+practice govern. See ``arcflash.output.cautions``.
+"""
+
+__version__ = "0.1.0"
