@@ -1,0 +1,96 @@
+"""The single-equipment command, through click's CliRunner."""
+
+from __future__ import annotations
+
+import json
+
+import pytest
+from click.testing import CliRunner
+
+from arcflash.cli import main
+from arcflash.output.cautions import CAUTION
+
+D2 = ["equipment", "--voltage-kv", "0.48", "--bolted-ka", "45", "--config", "VCB", "--gap-mm", "32",
+      "--working-distance-mm", "609.6", "--height-mm", "508", "--width-mm", "508", "--depth-mm", "508",
+      "--clearing-time-s", "0.0613", "--reduced-clearing-time-s", "0.319"]
+
+
+def run(args):
+    return CliRunner().invoke(main, args)
+
+
+def test_readable_table_with_caution():
+    result = run(D2)
+    assert result.exit_code == 0, result.output
+    out = result.output
+    # IEEE 1584-2018 Annex D.2 prints the final arcing current 28.793 kA for these inputs.
+    assert "28.793" in out
+    assert "cal/cm2" in out and "J/cm2" in out
+    assert " ft " in out and " mm)" in out  # boundary in ft-in and mm
+    assert "Governing case" in out
+    assert "CAUTION" in out and "qualified persons" in out
+    assert "Flags: none" in out
+
+
+def test_json_output():
+    result = run(D2 + ["--json"])
+    assert result.exit_code == 0, result.output
+    record = json.loads(result.output)
+    # IEEE 1584-2018 Annex D.2: 28.793 kA (3 decimals printed).
+    assert record["full_case"]["arcing_current_ka"] == pytest.approx(28.793, abs=5e-4)
+    assert record["caution"] == CAUTION
+    assert record["governing"]["case"] in {"full", "reduced"}
+    assert record["flags"] == []
+    assert record["inputs"]["config"] == "VCB"
+
+
+def test_equipment_class_supplies_typical_values():
+    result = run(["equipment", "--class", "panelboard-shallow", "--voltage-kv", "0.208", "--bolted-ka", "10",
+                  "--clearing-time-s", "0.025", "--json"])
+    assert result.exit_code == 0, result.output
+    inputs = json.loads(result.output)["inputs"]
+    # IEEE 1584-2018 Tables 9 and 10 (from memory): panelboard gap 25 mm, working distance 457.2 mm.
+    assert inputs["gap_mm"] == 25.0 and inputs["working_distance_mm"] == 457.2
+    assert inputs["equipment_class"] == "panelboard-shallow"
+
+
+def test_explicit_value_overrides_class():
+    result = run(["equipment", "--class", "switchgear-lv", "--gap-mm", "40", "--voltage-kv", "0.48",
+                  "--bolted-ka", "30", "--clearing-time-s", "0.05", "--json"])
+    assert json.loads(result.output)["inputs"]["gap_mm"] == 40.0
+
+
+def test_missing_reduced_time_is_noted():
+    result = run(D2[:-2])
+    assert result.exit_code == 0
+    assert "No clearing time was given for the reduced arcing current" in result.output
+
+
+def test_out_of_range_is_flagged_in_output():
+    result = run(["equipment", "--class", "switchgear-lv", "--voltage-kv", "0.48", "--bolted-ka", "120",
+                  "--clearing-time-s", "0.05"])
+    assert result.exit_code == 0
+    assert "FLAGS" in result.output and "bolted_ka outside 0.5–106 kA" in result.output
+
+
+@pytest.mark.parametrize("args, message", [
+    (["--bolted-ka", "nan"], "bolted_ka: expected a finite positive number"),
+    (["--bolted-ka", "-5"], "bolted_ka: expected a finite positive number"),
+    (["--bolted-ka", "ten"], "'ten' is not a valid float"),
+    (["--config", "VXB"], "'VXB' is not one of"),
+    (["--strict", "--bolted-ka", "120"], "outside the range of IEEE 1584-2018"),
+])
+def test_bad_input_exits_2_with_message(args, message):
+    base = ["equipment", "--class", "switchgear-lv", "--voltage-kv", "0.48", "--bolted-ka", "45",
+            "--clearing-time-s", "0.05"]
+    result = run(base + args)
+    assert result.exit_code == 2
+    assert message in result.output
+    assert "Traceback" not in result.output
+
+
+def test_missing_geometry_without_class():
+    result = run(["equipment", "--voltage-kv", "0.48", "--bolted-ka", "45", "--clearing-time-s", "0.05",
+                  "--config", "VCB"])
+    assert result.exit_code == 2
+    assert "missing gap_mm, working_distance_mm, height_mm, width_mm" in result.output
