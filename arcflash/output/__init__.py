@@ -1,0 +1,1 @@
+"""Outputs for people: text tables, reports, labels. Built on the models."""

@@ -1,0 +1,105 @@
+"""Plain-text rendering of arc-flash results for the terminal."""
+
+from __future__ import annotations
+
+import math
+import textwrap
+
+from ..models.units import mm_to_feet_inches
+from .cautions import CAUTION
+
+
+def feet_inches(length_mm):
+    """A length as ``3 ft 7 in (1,083 mm)``, rounded up to the inch and the mm.
+
+    Parameters
+    ----------
+    length_mm : float
+        Length [mm]
+
+    Returns
+    -------
+    str
+        The length in feet and inches, then in millimetres.
+
+    Examples
+    --------
+    >>> feet_inches(1082.44)
+    '3 ft 7 in (1,083 mm)'
+    """
+    if length_mm is None or not math.isfinite(length_mm):
+        return "not computed"
+    feet, inches = mm_to_feet_inches(length_mm)
+    return f"{int(feet)} ft {int(inches)} in ({math.ceil(length_mm - 1e-9):,} mm)"
+
+
+def _fmt(value, spec):
+    return "not computed" if value is None else format(value, spec)
+
+
+def _row(label, *values, width=30):
+    return f"  {label:<{width}}" + "".join(f"{v:>24}" for v in values)
+
+
+def equipment_report(record):
+    """Render one equipment result (the dict of :func:`arcflash.cli` ``--json``).
+
+    Parameters
+    ----------
+    record : dict
+        Inputs, results, flags and caution as built by the CLI.
+
+    Returns
+    -------
+    str
+        A readable multi-line report.
+    """
+    i, full, red, gov = record["inputs"], record["full_case"], record["reduced_case"], record["governing"]
+    enclosure = "open air (not used)" if i["height_mm"] is None else (
+        f"{i['height_mm']:g} x {i['width_mm']:g} x "
+        + (f"{i['depth_mm']:g}" if i["depth_mm"] is not None else "(depth unknown)")
+        + " mm (H x W x D)"
+    )
+    lines = [
+        f"Arc-flash result for one equipment - {record['method']}",
+        "",
+        "Inputs",
+        _row("nominal voltage", f"{i['voltage_kv']:g} kV"),
+        _row("bolted fault current", f"{i['bolted_ka']:g} kA"),
+        _row("electrode configuration", i["config"]),
+        _row("gap", f"{i['gap_mm']:g} mm"),
+        _row("working distance", f"{i['working_distance_mm']:g} mm"),
+        f"  {'enclosure':<30}{enclosure}",
+    ]
+    if i.get("equipment_class"):
+        lines.append(f"  {'typical values from class':<30}{i['equipment_class']}")
+    lines += [
+        "",
+        _row("Results", "full arcing current", "reduced current"),
+        _row("arcing current (kA)", _fmt(full["arcing_current_ka"], ".3f"), _fmt(red["arcing_current_ka"], ".3f")),
+        _row("clearing time (s)", _fmt(full["clearing_time_s"], ".3f"), _fmt(red["clearing_time_s"], ".3f")),
+        _row("incident energy (cal/cm2)", _fmt(full["incident_energy_cal_cm2"], ".2f"),
+             _fmt(red["incident_energy_cal_cm2"], ".2f")),
+        _row("incident energy (J/cm2)", _fmt(full["incident_energy_j_cm2"], ".2f"),
+             _fmt(red["incident_energy_j_cm2"], ".2f")),
+        _row("arc-flash boundary", feet_inches(full["arc_flash_boundary_mm"]),
+             feet_inches(red["arc_flash_boundary_mm"])),
+        _row("enclosure correction factor", f"{record['enclosure_correction']:.3f}"),
+        "",
+        f"Governing case: {gov['case']} arcing current",
+        f"  incident energy {_fmt(gov['incident_energy_cal_cm2'], '.2f')} cal/cm2 "
+        f"({_fmt(gov['incident_energy_j_cm2'], '.2f')} J/cm2) at {i['working_distance_mm']:g} mm",
+        f"  arc-flash boundary {feet_inches(gov['arc_flash_boundary_mm'])}",
+        "",
+    ]
+    if record["notes"]:
+        lines.append("Notes")
+        lines += [textwrap.fill(n, 78, initial_indent="  - ", subsequent_indent="    ") for n in record["notes"]]
+        lines.append("")
+    if record["flags"]:
+        lines.append("FLAGS - outside the tested range of the model; results extrapolated:")
+        lines += [textwrap.fill(f, 78, initial_indent="  ! ", subsequent_indent="    ") for f in record["flags"]]
+    else:
+        lines.append("Flags: none (all inputs inside the range of IEEE 1584-2018)")
+    lines += ["", textwrap.fill(CAUTION, 78)]
+    return "\n".join(lines)

@@ -1,0 +1,1 @@
+"""Studies: run the models over equipment and sites, producing result records."""
