@@ -27,7 +27,7 @@ import numpy as np
 
 from . import ieee1584_tables as tables
 from .errors import ModelRangeError
-from .ieee1584_batch import evaluate_group
+from .ieee1584_batch import UPPER_BAND_FROM_KV, evaluate_run
 from .ieee1584_equations import (
     LOW_VOLTAGE_LIMIT_KV,
     enclosure_correction_factor,
@@ -51,10 +51,43 @@ __all__ = [
     "variation_correction_factor",
 ]
 
-#: Cases evaluated together inside one group, sized so that the temporaries
-#: of a chunk stay in the processor cache [-].
-CHUNK_CASES = 32768
-_UPPER_BAND_KV = 2.7
+#: Cases taken together from the batch: sorted, evaluated and put back
+#: while their arrays stay in the processor cache [-].
+BLOCK_CASES = 65536
+
+
+def _evaluate_block(config_code, columns, outputs):
+    """Evaluate one block of cases into ``outputs`` (views of the results).
+
+    The block is sorted by (configuration, voltage band), so that each
+    configuration is one run, band after band, evaluated with scalar
+    coefficients; sorting a block rather than the batch keeps the
+    permutation in cache.
+    """
+    v = columns[0]
+    key = (v > LOW_VOLTAGE_LIMIT_KV).view(np.int8) + (v > UPPER_BAND_FROM_KV).view(np.int8)
+    key += config_code * np.int8(3)
+    counts = np.bincount(key, minlength=3 * len(tables.CONFIGURATIONS)).reshape(-1, 3)
+    per_config = counts.sum(axis=1)
+    if np.count_nonzero(counts) > 1:
+        order = np.argsort(key, kind="stable")
+        columns = [np.take(c, order) for c in columns]
+        sorted_outputs = [np.empty_like(out) for out in outputs]
+    else:
+        order, sorted_outputs = None, outputs
+    start = 0
+    for code, name in enumerate(tables.CONFIGURATIONS):
+        if not per_config[code]:
+            continue
+        width = 9 if name in tables.ENCLOSED_CONFIGURATIONS else 6
+        part = slice(start, start + per_config[code])
+        values = evaluate_run(name, counts[code], *(c[part] for c in columns[:width]))
+        for out, value in zip(sorted_outputs, values):
+            out[part] = value
+        start += per_config[code]
+    if order is not None:
+        for out, value in zip(outputs, sorted_outputs):
+            out[order] = value
 
 
 def _per_configuration(cases, function, default):
@@ -248,32 +281,13 @@ def evaluate(
         voltage_kv, bolted_ka, gap_mm, working_distance_mm, clearing_time_s,
         reduced_clearing_time_s, config, height_mm, width_mm, depth_mm,
     )
-    v = cases.voltage_kv
-    band = (v > LOW_VOLTAGE_LIMIT_KV).view(np.int8) + (v > _UPPER_BAND_KV).view(np.int8)
-    key = cases.config_code * np.int8(3)
-    key += band
-    counts = np.bincount(key, minlength=3 * len(tables.CONFIGURATIONS))
-    groups = np.flatnonzero(counts)
-    # Sort once by (configuration, voltage band): each group is a run of
-    # ``order`` evaluated chunk by chunk with scalar coefficients.
-    order = np.argsort(key, kind="stable") if groups.size > 1 else None
-    starts = np.concatenate(([0], np.cumsum(counts)))
-    columns = cases.columns(any(tables.CONFIGURATIONS[g // 3] in tables.ENCLOSED_CONFIGURATIONS for g in groups))
-    if order is not None:
-        columns = tuple(np.take(c, order) for c in columns)
-    outputs = [np.empty(v.size) for _ in range(5)] + [np.empty(v.size, dtype=np.int16)]
-    for group in groups:
-        name = tables.CONFIGURATIONS[group // 3]
-        width = 9 if name in tables.ENCLOSED_CONFIGURATIONS else 6
-        for lo in range(starts[group], starts[group + 1], CHUNK_CASES):
-            part = slice(lo, min(lo + CHUNK_CASES, starts[group + 1]))
-            values = evaluate_group(name, group % 3, *(c[part] for c in columns[:width]))
-            for out, value in zip(outputs, values):
-                out[part] = value
-    if order is not None:
-        for k, out in enumerate(outputs):
-            outputs[k] = np.empty_like(out)
-            outputs[k][order] = out
+    n = cases.voltage_kv.size
+    outputs = [np.empty(n) for _ in range(5)] + [np.empty(n, dtype=np.int16)]
+    enclosed_columns = cases.columns(True)
+    for lo in range(0, n, BLOCK_CASES):
+        block = slice(lo, min(lo + BLOCK_CASES, n))
+        _evaluate_block(cases.config_code[block], [c[block] for c in enclosed_columns],
+                        [out[block] for out in outputs])
     iarc, e, afb, e_r, afb_r, code = (out.reshape(cases.shape) for out in outputs)
     if strict and code.any():
         raise_out_of_range(code.ravel(), cases)

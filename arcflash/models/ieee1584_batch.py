@@ -1,12 +1,19 @@
-"""Evaluation of IEEE 1584-2018 over a group of cases that share a configuration.
+"""Evaluation of IEEE 1584-2018 over a run of cases of one configuration.
 
-:func:`arcflash.models.ieee1584.evaluate` sorts a batch by configuration and
-voltage band and calls :func:`evaluate_group` on each run of cases, so that
-every coefficient is a scalar. The equations are rearranged here only to share
-work between the full and reduced cases and between the energy and the
-boundary; each step names the equation of IEEE 1584-2018 it implements (see
-:mod:`.ieee1584_equations` for the equations one by one; numbers other than
-Eq. (1) and Tables 1–5 are from memory).
+:func:`arcflash.models.ieee1584.evaluate` sorts each block of a batch by
+configuration and voltage band, and calls :func:`evaluate_run` once per
+configuration, so that every coefficient is a scalar. Within a run the cases
+come in band order (up to 600 V, 0.6–2.7 kV, above 2.7 kV), so each voltage
+level of the model is computed on one contiguous slice:
+
+* 600 V (Table 1, 3) for the cases up to 2.7 kV;
+* 2700 V and 14300 V (Tables 1, 4, 5) for the cases above 600 V.
+
+The equations are rearranged only to share work: the full and reduced cases
+share one exponent, energy and boundary share it too, and logarithms are
+natural, with the coefficients that multiply a constant scaled by ln 10
+(lg x = ln x / ln 10). :mod:`.ieee1584_equations` has the equations one by
+one; numbers other than Eq. (1) and Tables 1–5 are from memory.
 """
 
 from __future__ import annotations
@@ -26,15 +33,16 @@ from .ieee1584_equations import (
 from .ieee1584_range import range_code
 
 _LN10 = float(np.log(10.0))
-#: lg(12.552/50) plus 3 for seconds to milliseconds, added to lg T [s].
-_LG_ENERGY_PER_S = float(np.log10(ENERGY_CONSTANT)) + 3.0
-#: lg(12.552/50 × 20): the boundary energy 5.0208 J/cm² on the same scale.
-_LG_BOUNDARY_ENERGY = float(np.log10(ENERGY_CONSTANT * BOUNDARY_TERM))
+#: ln(12.552/50 × 1000): the energy constant with T in s instead of ms.
+_LN_ENERGY_PER_S = float(np.log(ENERGY_CONSTANT * 1000.0))
+#: ln(12.552/50 × 20): the boundary energy 5.0208 J/cm² on the ln(C·T) scale.
+_LN_BOUNDARY_ENERGY = float(np.log(ENERGY_CONSTANT * BOUNDARY_TERM))
 
 #: Voltage bands: up to 600 V (Eqs. 7, 11, 25); 0.6–2.7 kV (three levels,
 #: Eqs. 16–24, X_3); above 2.7 kV (2700 and 14300 V only, X_2).
 LOW_BAND, LOWER_BAND, UPPER_BAND = 0, 1, 2
-_LEVELS = {LOW_BAND: (0,), LOWER_BAND: (0, 1, 2), UPPER_BAND: (1, 2)}
+#: Upper limit of the lower band [kV].
+UPPER_BAND_FROM_KV = 2.7
 
 for _level, _table in enumerate(tables.ENERGY_COEFFICIENTS):
     for _c in tables.CONFIGURATIONS:
@@ -44,59 +52,102 @@ for _level, _table in enumerate(tables.ENERGY_COEFFICIENTS):
             raise AssertionError(f"IEEE 1584 Tables 3-5 k4..k10 differ from Table 1 ({_c}, level {_level})")
 
 
-def _level_terms(name, level, lg_ibf, lg_gap, ibf, polys):
-    """Eq. (1) at one level: current, its lg, and the k3-term ratio.
+class _Run:
+    """Per-case terms of a run that every voltage level uses (natural logs)."""
 
-    Returns I_arc,V [kA], lg I_arc,V and q = I_arc,V/(k4 Ibf^7 + ... + k10 Ibf),
-    which equals 10^(k1 + k2 lg Ibf + k3 lg G)/Ibf because Tables 3–5 repeat
-    k4..k10 of Table 1. ``polys`` caches the polynomial and its lg by
-    coefficients (2700 V and 14300 V share them for most configurations).
-    """
-    row = tables.ARCING_CURRENT_COEFFICIENTS[name][level]
-    k1, k2, k3 = row[:3]
-    key = tuple(row[3:])
-    if key not in polys:
-        poly = polynomial(key, ibf)
-        polys[key] = (poly, np.log10(poly))
-    poly, lg_poly = polys[key]
-    exponent = k2 * lg_ibf
-    exponent += k1
-    exponent += k3 * lg_gap
-    lg_current = exponent + lg_poly
-    exponent *= _LN10
-    scale = np.exp(exponent, out=exponent)  # 10^(k1 + k2 lg Ibf + k3 lg G)
-    return scale * poly, lg_current, scale / ibf
+    def __init__(self, name, v, ibf, gap, dist, t_s, tr_s, h, w, d):
+        self.name, self.v, self.ibf = name, v, ibf
+        self.ln_ibf = np.log(ibf)
+        self.ln_gap = np.log(gap)
+        self.ln_dist = np.log(dist)
+        # ln(12.552/50 · T[ms]) - ln CF: the duration and enclosure terms of Eqs. (3)-(11).
+        self.base = np.log(t_s)
+        self.base += _LN_ENERGY_PER_S
+        if h is not None:
+            self.base -= np.log(enclosure_correction_factor(v, h, w, d, name))  # Eqs. (11)-(15)
+        self.shift_r = np.log(tr_s / t_s)  # the reduced case has its own duration ...
+        self.half_var = polynomial(tables.VARIATION_COEFFICIENTS[name], v)  # Eq. (2), Table 2
+        self.half_var *= -0.5  # ... and Iarc_min = Iarc (1 - 0.5 VarCf), Eq. (3)
+        self.ln_factor = np.log1p(self.half_var)
+        self.polys = {}
+
+    def level(self, level, part, n_final=0):
+        """Eq. (1) and the energy and boundary at one level for cases ``part``.
+
+        The first ``n_final`` cases of ``part`` are at most 600 V: for them the
+        k13 term takes the Eq. (25) current and the reduction applies to it
+        only (Eq. 7); above 600 V the intermediate current is reduced in both
+        the k3 and the k13 terms.
+
+        Returns
+        -------
+        list of numpy.ndarray
+            Current [kA] (Eq. 25 for the first ``n_final``), energy [J/cm²],
+            boundary [mm], reduced energy [J/cm²], reduced boundary [mm].
+        """
+        row = tables.ARCING_CURRENT_COEFFICIENTS[self.name][level]
+        ibf, ln_ibf, ln_gap = self.ibf[part], self.ln_ibf[part], self.ln_gap[part]
+        key = (tuple(row[3:]), part.start, part.stop)
+        if key not in self.polys:
+            poly = polynomial(row[3:], ibf)
+            self.polys[key] = (poly, np.log(poly))
+        poly, ln_poly = self.polys[key]
+        # Eq. (1): I = 10^(k1 + k2 lg Ibf + k3 lg G) × poly.
+        scaled = row[1] * ln_ibf
+        scaled += row[0] * _LN10
+        scaled += row[2] * ln_gap
+        ln_current = scaled + ln_poly
+        scale = np.exp(scaled, out=scaled)
+        current = scale * poly
+        scale /= ibf  # q = I/(k4 Ibf^7 + ... + k10 Ibf) = 10^(k1 + ...)/Ibf
+        k1, k2, k3 = tables.ENERGY_COEFFICIENTS[level][self.name][:3]
+        k11, k12, k13 = tables.ENERGY_COEFFICIENTS[level][self.name][10:13]
+        k3q = scale
+        k3q *= k3 * _LN10
+        if n_final:
+            low = slice(0, n_final)
+            current[low] = low_voltage_arcing_current_ka(self.v[part][low], ibf[low], current[low])  # Eq. (25)
+            ln_current[low] = np.log(current[low])
+        # Eqs. (3)-(11) times ln 10: x = ln10 (k1 + k2 lg G + k3 q + k11 lg Ibf
+        # + k13 lg Iarc + lg(1/CF) + lg(C T)).
+        x = k13 * ln_current
+        x += k1 * _LN10
+        x += k2 * ln_gap
+        if k11:
+            x += k11 * ln_ibf
+        x += k3q
+        x += self.base[part]
+        boundary = x - _LN_BOUNDARY_ENERGY
+        boundary *= 1.0 / -k12
+        np.exp(boundary, out=boundary)
+        x += k12 * self.ln_dist[part]
+        energy = np.exp(x, out=x)
+        # Reduced case: + k13 ln(1 - 0.5 VarCf), + ln(T_min/T), and above
+        # 600 V also the reduction of the intermediate current in the k3 term.
+        delta = k13 * self.ln_factor[part]
+        delta += self.shift_r[part]
+        k3q *= self.half_var[part]
+        if n_final:
+            k3q[:n_final] = 0.0
+        delta += k3q
+        boundary_r = delta * (1.0 / -k12)
+        np.exp(boundary_r, out=boundary_r)
+        boundary_r *= boundary
+        energy_r = np.exp(delta, out=delta)
+        energy_r *= energy
+        return [current, energy, boundary, energy_r, boundary_r]
 
 
-def _energy_boundary(x, k12, lg_dist):
-    """E = 10^(x + k12 lg D) and AFB = 10^((x - lg(20 C))/-k12), x holding lg(C T)."""
-    boundary = x - _LG_BOUNDARY_ENERGY
-    boundary *= _LN10 / -k12
-    np.exp(boundary, out=boundary)
-    energy = k12 * lg_dist
-    energy += x
-    energy *= _LN10
-    np.exp(energy, out=energy)
-    return energy, boundary
-
-
-def _weighted_sum(weights, values):
-    total = weights[0] * values[0]
-    for weight, value in zip(weights[1:], values[1:]):
-        value *= weight  # the level results are not used again
-        total += value
-    return total
-
-
-def evaluate_group(name, band, v, ibf, gap, dist, t_s, tr_s, h=None, w=None, d=None):
-    """Full and reduced-case results for cases of one configuration and band.
+def evaluate_run(name, band_counts, v, ibf, gap, dist, t_s, tr_s, h=None, w=None, d=None):
+    """Full and reduced-case results for a run of one configuration.
 
     Parameters
     ----------
     name : str
         Electrode configuration [-]
-    band : int
-        LOW_BAND, LOWER_BAND or UPPER_BAND [-]
+    band_counts : sequence of int
+        Number of cases in each band, in the order of the run: up to 600 V,
+        0.6–2.7 kV, above 2.7 kV [-]
     v, ibf, gap, dist, t_s, tr_s : numpy.ndarray
         Voltage [kV], bolted current [kA], gap [mm], working distance [mm],
         full- and reduced-case arc duration [s]
@@ -109,53 +160,34 @@ def evaluate_group(name, band, v, ibf, gap, dist, t_s, tr_s, h=None, w=None, d=N
         Arcing current [kA], energy [J/cm²], boundary [mm], reduced energy
         [J/cm²], reduced boundary [mm], range code (int16).
     """
-    lg_ibf = np.log10(ibf)
-    lg_gap = np.log10(gap)
-    lg_dist = np.log10(dist)
-    lg_ct = np.log10(t_s)
-    lg_ct += _LG_ENERGY_PER_S  # lg(12.552/50 · T[ms]), Eqs. (3)-(7)
-    shift_r = np.log10(tr_s / t_s)  # the reduced case differs in T ...
-    half_var = polynomial(tables.VARIATION_COEFFICIENTS[name], v)  # Eq. (2), Table 2
-    half_var *= -0.5  # ... and in Iarc_min = Iarc (1 - 0.5 VarCf), Eq. (3)
-    lg_factor = np.log10(1.0 + half_var)
-    enclosed = h is not None
-    if enclosed:
-        lg_cf = np.log10(enclosure_correction_factor(v, h, w, d, name))  # Eqs. (11)-(15)
-    polys = {}
-    results = []
-    for level in _LEVELS[band]:
-        i_v, lg_i, q = _level_terms(name, level, lg_ibf, lg_gap, ibf, polys)
-        k1, k2, k3 = tables.ENERGY_COEFFICIENTS[level][name][:3]
-        k11, k12, k13 = tables.ENERGY_COEFFICIENTS[level][name][10:13]
-        if band == LOW_BAND:
-            i_v = low_voltage_arcing_current_ka(v, ibf, i_v)  # Eq. (25)
-            lg_i = np.log10(i_v)  # Eq. (7): the final current in the k13 term
-        # Eqs. (3)-(11): x = k1 + k2 lg G + k3 q + k11 lg Ibf + k13 lg Iarc
-        # + lg(1/CF) + lg(C T).
-        x = k13 * lg_i
-        x += k1
-        x += k2 * lg_gap
-        if k11:
-            x += k11 * lg_ibf
-        if enclosed:
-            x -= lg_cf
-        k3q = k3 * q
-        x += k3q
-        x += lg_ct
-        energy, boundary = _energy_boundary(x, k12, lg_dist)
-        # Reduced case: lg Iarc_min = lg Iarc + lg(1 - 0.5 VarCf) in the k13
-        # term; above 600 V the intermediate current of the k3 term is reduced
-        # too (up to 600 V it stays I_arc,600).
-        x += shift_r
-        x += k13 * lg_factor
-        if band != LOW_BAND:
-            x += k3q * half_var
-        results.append((i_v, energy, boundary, *_energy_boundary(x, k12, lg_dist)))
-    if band == LOW_BAND:
-        values = results[0]
-    else:
-        weights = upper_band_weights(v) if band == UPPER_BAND else lower_band_weights(v)
-        # Eqs. (16)-(24): one linear interpolation for every quantity.
-        values = [_weighted_sum(weights, [r[k] for r in results]) for k in range(5)]
-    code = range_code(band == LOW_BAND, v, ibf, gap, dist, enclosed, h, w, values[0] if band == LOW_BAND else None)
-    return (*values, code)
+    n_low, n_lower, _ = (int(c) for c in band_counts)
+    n = v.size
+    run = _Run(name, v, ibf, gap, dist, t_s, tr_s, h, w, d)
+    low, lower, medium = slice(0, n_low), slice(n_low, n_low + n_lower), slice(n_low, n)
+    results = [np.empty(n) for _ in range(5)]
+    code = np.zeros(n, dtype=np.int16)
+    if n_low + n_lower:
+        at_600 = run.level(0, slice(0, n_low + n_lower), n_final=n_low)
+        for out, value in zip(results, at_600):
+            out[low] = value[low]
+        code[low] = range_code(True, v[low], ibf[low], gap[low], dist[low], h is not None,
+                               None if h is None else h[low], None if w is None else w[low], results[0][low])
+    if n_low < n:
+        # Eqs. (16)-(24): one interpolation for every quantity; weights per band.
+        w2700, w14300 = np.empty(n - n_low), np.empty(n - n_low)
+        w2700[n_lower:], w14300[n_lower:] = upper_band_weights(v[n_low + n_lower:])
+        if n_lower:
+            w600, w2700[:n_lower], w14300[:n_lower] = lower_band_weights(v[lower])
+        totals = [value * w2700 for value in run.level(1, medium)]
+        for total, value in zip(totals, run.level(2, medium)):
+            value *= w14300
+            total += value
+        if n_lower:
+            for total, value in zip(totals, at_600):
+                value = value[lower] * w600
+                total[:n_lower] += value
+        for out, total in zip(results, totals):
+            out[medium] = total
+        code[medium] = range_code(False, v[medium], ibf[medium], gap[medium], dist[medium], h is not None,
+                                  None if h is None else h[medium], None if w is None else w[medium])
+    return (*results, code)

@@ -68,6 +68,9 @@ def range_code(low_voltage, v, ibf, gap, dist, enclosed, h=None, w=None, iarc=No
         Sum of the bits of the rules broken by each case.
     """
     rng = _LV if low_voltage else _MV
+    code = np.zeros(v.shape, dtype=np.int16)
+    if v.size and iarc is None and _all_inside(rng, low_voltage, v, ibf, gap, dist, enclosed, h, w):
+        return code
     checks = [
         (VOLTAGE, lambda: (v < _LV.voltage_min_kv) if low_voltage else (v > _MV.voltage_max_kv)),
         (BOLTED_LV if low_voltage else BOLTED_MV, lambda: (ibf < rng.bolted_min_ka) | (ibf > rng.bolted_max_ka)),
@@ -82,12 +85,27 @@ def range_code(low_voltage, v, ibf, gap, dist, enclosed, h=None, w=None, iarc=No
         ]
     if iarc is not None:
         checks.append((NO_SOLUTION, lambda: np.isnan(iarc)))
-    code = np.zeros(v.shape, dtype=np.int16)
     for bit, test in checks:
         broken = test()
         if broken.any():
             np.bitwise_or(code, bit, out=code, where=broken)
     return code
+
+
+def _all_inside(rng, low_voltage, v, ibf, gap, dist, enclosed, h, w):
+    """Quick test by extremes: True when no case of the group can break a rule."""
+    inside = (
+        (v.min() >= _LV.voltage_min_kv if low_voltage else v.max() <= _MV.voltage_max_kv)
+        and rng.bolted_min_ka <= ibf.min() and ibf.max() <= rng.bolted_max_ka
+        and rng.gap_min_mm <= gap.min() and gap.max() <= rng.gap_max_mm
+        and dist.min() >= tables.WORKING_DISTANCE_MIN_MM
+    )
+    if inside and enclosed:
+        inside = (
+            h.max() <= tables.ENCLOSURE_MAX_MM and w.max() <= tables.ENCLOSURE_MAX_MM
+            and w.min() > tables.WIDTH_TO_GAP_MIN * gap.max()
+        )
+    return bool(inside)
 
 
 def reason_text(code):
