@@ -39,9 +39,7 @@ _LN_ENERGY_PER_S = float(np.log(ENERGY_CONSTANT * 1000.0))
 _LN_BOUNDARY_ENERGY = float(np.log(ENERGY_CONSTANT * BOUNDARY_TERM))
 
 #: Voltage bands: up to 600 V (Eqs. 7, 11, 25); 0.6–2.7 kV (three levels,
-#: Eqs. 16–24, X_3); above 2.7 kV (2700 and 14300 V only, X_2).
-LOW_BAND, LOWER_BAND, UPPER_BAND = 0, 1, 2
-#: Upper limit of the lower band [kV].
+#: Eqs. 16–24, X_3); above this voltage only 2700 and 14300 V enter (X_2) [kV].
 UPPER_BAND_FROM_KV = 2.7
 
 for _level, _table in enumerate(tables.ENERGY_COEFFICIENTS):
