@@ -138,7 +138,7 @@ class ArcFlashResult:
 
     @cached_property
     def enclosure_correction(self):
-        """Enclosure-size correction factor CF, Eqs. (11)-(15); 1 in open air [-]."""
+        """Enclosure-size correction factor CF, clause 4.8; 1 in open air [-]."""
         c = self._cases
 
         def cf(name, m):

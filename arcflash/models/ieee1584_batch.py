@@ -58,11 +58,11 @@ class _Run:
         self.ln_ibf = np.log(ibf)
         self.ln_gap = np.log(gap)
         self.ln_dist = np.log(dist)
-        # ln(12.552/50 · T[ms]) - ln CF: the duration and enclosure terms of Eqs. (3)-(11).
+        # ln(12.552/50 · T[ms]) - ln CF: the duration and enclosure terms of Eqs. (4)-(11).
         self.base = np.log(t_s)
         self.base += _LN_ENERGY_PER_S
         if h is not None:
-            self.base -= np.log(enclosure_correction_factor(v, h, w, d, name))  # Eqs. (11)-(15)
+            self.base -= np.log(enclosure_correction_factor(v, h, w, d, name))  # clause 4.8
         self.shift_r = np.log(tr_s / t_s)  # the reduced case has its own duration ...
         self.half_var = polynomial(tables.VARIATION_COEFFICIENTS[name], v)  # Eq. (2), Table 2
         self.half_var *= -0.5  # ... and Iarc_min = Iarc (1 - 0.5 VarCf), Eq. (3)
@@ -106,7 +106,7 @@ class _Run:
             low = slice(0, n_final)
             current[low] = low_voltage_arcing_current_ka(self.v[part][low], ibf[low], current[low])  # Eq. (25)
             ln_current[low] = np.log(current[low])
-        # Eqs. (3)-(11) times ln 10: x = ln10 (k1 + k2 lg G + k3 q + k11 lg Ibf
+        # Eqs. (4)-(11) times ln 10: x = ln10 (k1 + k2 lg G + k3 q + k11 lg Ibf
         # + k13 lg Iarc + lg(1/CF) + lg(C T)).
         x = k13 * ln_current
         x += k1 * _LN10

@@ -21,9 +21,9 @@ import numpy as np
 from . import ieee1584_tables as tables
 
 _LN10 = float(np.log(10.0))
-#: Energy constant 12.552/50 of Eqs. (3)–(7) [J/cm² per ms at the model's scale].
+#: Energy constant 12.552/50 of Eqs. (4)–(7) [J/cm² per ms at the model's scale].
 ENERGY_CONSTANT = 12.552 / 50.0
-#: The 20 in the lg(20/T) term of the boundary Eqs. (7)–(10): the boundary is
+#: The 20 in the lg(20/T) term of the boundary Eqs. (8)–(11): the boundary is
 #: where E = 20 × 12.552/50 = 5.0208 J/cm² (1.2 cal/cm²) [1], clause 4.7.
 BOUNDARY_TERM = 20.0
 #: Open-circuit voltages up to this use the low-voltage forms, Eqs. (7), (11), (25) [kV].
@@ -286,7 +286,7 @@ def enclosure_correction_factor(voltage_kv, height_mm, width_mm, depth_mm, confi
     r"""Enclosure-size correction factor CF.
 
     Width and height are first adjusted (IEEE 1584-2018 [1]_, clause 4.8,
-    Table 6; Eqs. (11) and (12) with A and B of Table 7):
+    Table 6; the width/height adjustment (clause 4.8) with A and B of Table 7):
 
     * below 508 mm: 20 in for a typical enclosure, the actual size for a
       shallow one;
@@ -344,7 +344,7 @@ def enclosure_correction_factor(voltage_kv, height_mm, width_mm, depth_mm, confi
 
 
 def enclosure_correction_from_constants(v, h, w, d, a, b, height_by_equation, typical_b, shallow_b):
-    """Eqs. (11)–(15) with the constants given, scalars or one per case.
+    """clause 4.8 with the constants given, scalars or one per case.
 
     Parameters
     ----------
@@ -353,7 +353,7 @@ def enclosure_correction_from_constants(v, h, w, d, a, b, height_by_equation, ty
     a, b : float or numpy.ndarray
         A and B of Table 7 [-]
     height_by_equation : bool or numpy.ndarray
-        Whether the height above 660.4 mm follows Eq. (12) (VCBB, HCB) or
+        Whether the height above 660.4 mm follows the adjustment equation (VCBB, HCB) or
         keeps its actual size (VCB) [-]
     typical_b, shallow_b : sequence of float or numpy.ndarray
         b1, b2, b3 of Table 8, typical and shallow [-]
@@ -368,7 +368,7 @@ def enclosure_correction_from_constants(v, h, w, d, a, b, height_by_equation, ty
     if shallow.any():
         shallow = shallow & (h < small) & (w < small) & (d <= tables.SHALLOW_DEPTH_MAX_MM)
     any_shallow = bool(shallow.any())
-    slope = (v + a) / b  # Eqs. (11)/(12)
+    slope = (v + a) / b  # clause 4.8, width/height adjustment
 
     def adjusted_in(size_mm, by_equation):
         size = np.minimum(size_mm, largest)
@@ -385,8 +385,8 @@ def enclosure_correction_from_constants(v, h, w, d, a, b, height_by_equation, ty
 
     ees = adjusted_in(h, height_by_equation)
     ees += adjusted_in(w, True)
-    ees *= 0.5  # Eq. (13), inches
-    typical = polynomial(typical_b, ees)  # Eq. (14)
+    ees *= 0.5  # EES, clause 4.8, inches
+    typical = polynomial(typical_b, ees)  # CF, typical enclosure
     if not any_shallow:
         return typical
-    return np.where(shallow, 1.0 / polynomial(shallow_b, ees), typical)  # Eq. (15)
+    return np.where(shallow, 1.0 / polynomial(shallow_b, ees), typical)  # CF, shallow enclosure

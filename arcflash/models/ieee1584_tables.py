@@ -111,7 +111,7 @@ ENERGY_COEFFICIENTS: tuple[dict[str, tuple[float, ...]], ...] = (
 )
 
 # ---------------------------------------------------------------------------
-# Table 7 — constants A and B of Eqs. (11) and (12), the width and height
+# Table 7 — constants A and B of the width/height adjustment (clause 4.8), the width and height
 # adjustment of enclosures larger than 660.4 mm. Status: from memory.
 # ---------------------------------------------------------------------------
 ENCLOSURE_ADJUSTMENT_CONSTANTS: dict[str, tuple[float, float]] = {
@@ -121,7 +121,7 @@ ENCLOSURE_ADJUSTMENT_CONSTANTS: dict[str, tuple[float, float]] = {
 }
 
 # ---------------------------------------------------------------------------
-# Table 8 — coefficients b1, b2, b3 of Eqs. (14) (typical enclosure) and (15)
+# Table 8 — coefficients b1, b2, b3 of the CF equations, typical enclosure and
 # (shallow enclosure). Status: from memory. Self-check used by the tests:
 # each polynomial equals 1.0 (to the printed digits) at EES = 20 in, the
 # reference enclosure of the model.
@@ -143,7 +143,7 @@ ENCLOSURE_CORRECTION_SHALLOW: dict[str, tuple[float, float, float]] = {
 #: Below this height or width the enclosure may count as shallow, and a
 #: typical enclosure is taken as 20 in (508 mm) [mm].
 ENCLOSURE_SMALL_MM = 508.0
-#: Dimension above which Eqs. (11)/(12) adjust width and height [mm].
+#: Dimension above which clause 4.8, width/height adjustment adjust width and height [mm].
 ENCLOSURE_ADJUST_FROM_MM = 660.4
 #: Largest height or width of the model; larger enclosures use this value [mm].
 ENCLOSURE_MAX_MM = 1244.6

@@ -41,7 +41,7 @@ def cases(draw, voltage=None):
 
 @given(cases(), st.floats(1.1, 10.0))
 def test_energy_proportional_to_clearing_time(case, k):
-    # Source: IEEE 1584-2018 Eqs. (3)-(7): E = 12.552/50 x T x 10^(...), linear in T.
+    # Source: IEEE 1584-2018 Eqs. (4)-(7): E = 12.552/50 x T x 10^(...), linear in T.
     base = ieee1584.evaluate(**case)
     longer = ieee1584.evaluate(**{**case, "clearing_time_s": k * case["clearing_time_s"],
                                   "reduced_clearing_time_s": k * case["reduced_clearing_time_s"]})
@@ -62,7 +62,7 @@ def test_energy_falls_with_distance(case, k):
 
 @given(st.one_of(st.floats(0.208, 0.6), st.sampled_from([2.7, 14.3])).flatmap(lambda v: cases(voltage=v)))
 def test_energy_at_boundary_is_threshold(case):
-    # Source: IEEE 1584-2018 clause 3.1 and boundary Eqs. (7)-(11): at the arc-flash boundary the
+    # Source: IEEE 1584-2018 clause 3.1 and boundary Eqs. (8)-(11): at the arc-flash boundary the
     # incident energy is 1.2 cal/cm2 (5.0208 J/cm2). Exact where a single energy equation applies:
     # up to 600 V, and at 2.7 and 14.3 kV where the interpolation returns one level's value.
     # Between levels the standard interpolates E and AFB separately, so the identity is approximate.
