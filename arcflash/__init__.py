@@ -4,4 +4,8 @@ Results are for qualified persons; local codes and licensed engineering
 practice govern. See ``arcflash.output.cautions``.
 """
 
+from .site.loader import load_site
+from .study.faults import bolted_faults
+
 __version__ = "0.1.0"
+__all__ = ["bolted_faults", "load_site"]

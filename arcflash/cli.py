@@ -3,13 +3,19 @@
 from __future__ import annotations
 
 import json
+import sys
 
 import click
 
+from .errors import SiteDataError
 from .models.errors import ModelRangeError
 from .models.ieee1584_tables import CONFIGURATIONS, EQUIPMENT_CLASSES
-from .output.text import equipment_report
+from .output.files import write_atomic
+from .output.text import equipment_report, fault_table
+from .site.loader import load_site
+from .site.schema import site_json_schema
 from .study.equipment import assess_equipment
+from .study.faults import solve_scenario
 
 
 @click.group(context_settings={"help_option_names": ["-h", "--help"]})
@@ -56,6 +62,49 @@ def equipment(voltage_kv, bolted_ka, clearing_time_s, reduced_clearing_time_s, e
         click.echo(json.dumps(record, indent=2))
     else:
         click.echo(equipment_report(record))
+
+
+def _load(site_dir):
+    """Load a site or exit 2 listing every problem (no traceback)."""
+    try:
+        return load_site(site_dir)
+    except SiteDataError as exc:
+        click.echo(str(exc), err=True)
+        sys.exit(2)
+
+
+@main.command("faults")
+@click.argument("site_dir", type=click.Path(file_okay=True, dir_okay=True))
+@click.option("--scenario", default=None, help="Scenario name (default: the site's default scenario).")
+@click.option("--csv", "csv_path", type=click.Path(dir_okay=False), default=None,
+              help="Write the bus fault table to this CSV file.")
+@click.option("--devices-csv", type=click.Path(dir_okay=False), default=None,
+              help="Write the current through each protective device, per bus fault, to this CSV file.")
+def faults(site_dir, scenario, csv_path, devices_csv):
+    """Bolted three-phase fault current at every bus of a site."""
+    site = _load(site_dir)
+    try:
+        result = solve_scenario(site, scenario)
+    except KeyError as exc:
+        raise click.UsageError(str(exc.args[0])) from None
+    click.echo(fault_table(site.facility.name, result.scenario, result.buses))
+    if csv_path:
+        write_atomic(csv_path, lambda tmp: result.buses.to_csv(tmp, float_format="%.6g"))
+        click.echo(f"Bus fault table written to {csv_path}")
+    if devices_csv:
+        write_atomic(devices_csv, lambda tmp: result.devices.to_csv(tmp, index=False, float_format="%.6g"))
+        click.echo(f"Device currents written to {devices_csv}")
+
+
+@main.command("site-schema")
+@click.option("--out", type=click.Path(dir_okay=False), default=None, help="Write to this file instead of printing.")
+def site_schema(out):
+    """JSON Schema of the site-data files, for editors that check YAML."""
+    text = json.dumps(site_json_schema(), indent=2) + "\n"
+    if out:
+        write_atomic(out, lambda tmp: open(tmp, "w", encoding="utf-8").write(text))
+    else:
+        click.echo(text, nl=False)
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -103,3 +103,30 @@ def equipment_report(record):
         lines.append("Flags: none (all inputs inside the range of IEEE 1584-2018)")
     lines += ["", textwrap.fill(CAUTION, 78)]
     return "\n".join(lines)
+
+
+def fault_table(facility_name, scenario, buses):
+    """Bolted fault table of one scenario as text.
+
+    Parameters
+    ----------
+    facility_name, scenario : str
+        Titles [-]
+    buses : pandas.DataFrame
+        From :func:`arcflash.bolted_faults`.
+
+    Returns
+    -------
+    str
+    """
+    lines = [f"Bolted three-phase faults - {facility_name} - scenario '{scenario}'", "",
+             f"  {'bus':<16}{'kV':>8}{'bolted kA':>12}{'X/R':>8}"]
+    for bus, row in buses.iterrows():
+        if row["energized"]:
+            lines.append(f"  {bus:<16}{row['nominal_kv']:>8.3f}{row['bolted_ka']:>12.3f}{row['x_over_r']:>8.2f}")
+        else:
+            lines.append(f"  {bus:<16}{row['nominal_kv']:>8.3f}    de-energised")
+    off = buses.index[~buses["energized"]].tolist()
+    if off:
+        lines += ["", f"De-energised in this scenario (no source reaches them): {', '.join(off)}"]
+    return "\n".join(lines)

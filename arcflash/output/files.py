@@ -1,0 +1,33 @@
+"""Writing output files atomically: a temporary file in the same folder, then a rename."""
+
+from __future__ import annotations
+
+import os
+import tempfile
+from pathlib import Path
+
+
+def write_atomic(path, write):
+    """Call ``write(temporary_path)`` and move the result onto ``path``.
+
+    A failure leaves ``path`` as it was (absent or the previous version) and
+    removes the temporary file.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        Final file.
+    write : callable
+        Writes the whole content to the path it is given.
+    """
+    path = Path(path)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    handle, temporary = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
+    os.close(handle)
+    try:
+        write(temporary)
+        os.replace(temporary, path)
+    except BaseException:
+        if os.path.exists(temporary):
+            os.unlink(temporary)
+        raise

@@ -1,0 +1,124 @@
+"""Cross-checks of a site after each element is valid on its own.
+
+Every reference resolves; ids are unique across element types; the two buses
+of a cable, busway or switch have the same nominal kV; transformer, source
+and motor voltages match their buses; scenarios name existing elements.
+Connectivity (a bus reached by no source) is not an error: the fault table
+reports such buses as de-energised.
+"""
+
+from __future__ import annotations
+
+from ..errors import Problem
+
+#: Relative mismatch allowed between a rated voltage and its bus's nominal kV.
+VOLTAGE_MATCH = 0.05
+
+_BUS_REFERENCES = {
+    "utilities": ("bus",), "generators": ("bus",), "motors": ("bus",),
+    "transformers": ("primary_bus", "secondary_bus"),
+    "cables": ("from_bus", "to_bus"), "impedances": ("from_bus", "to_bus"), "switches": ("from_bus", "to_bus"),
+    "devices": ("at_bus",),
+}
+_BRANCHES = ("transformers", "cables", "impedances", "switches")
+
+
+def _at(origin, section, ident, field, value, expected):
+    file, line = origin[(section, ident)]
+    return Problem(file, line, f"{section}[{ident}].{field}", value, expected)
+
+
+def _kv_mismatch(rated, nominal):
+    return abs(rated - nominal) > VOLTAGE_MATCH * nominal
+
+
+def cross_check(facility, elements, origin):
+    """Problems that involve more than one element (list, empty if none)."""
+    problems = []
+    buses = elements["buses"]
+    owners = {}
+    for section, items in elements.items():
+        if section in ("buses", "scenarios"):
+            continue
+        for ident in items:
+            if ident in owners:
+                problems.append(_at(origin, section, ident, "id", ident,
+                                    f"an id not used by another element (also a {owners[ident][:-1]})"))
+            owners.setdefault(ident, section)
+    for section, fields in _BUS_REFERENCES.items():
+        for ident, element in elements[section].items():
+            for name in fields:
+                bus = getattr(element, name)
+                if bus not in buses:
+                    problems.append(_at(origin, section, ident, name, bus, "the id of a bus in 'buses'"))
+    problems += _voltage_checks(elements, origin)
+    problems += _device_checks(elements, origin)
+    problems += _scenario_checks(facility, elements, origin)
+    return problems
+
+
+def _voltage_checks(elements, origin):
+    problems = []
+    buses = elements["buses"]
+
+    def kv(bus):
+        return buses[bus].nominal_kv if bus in buses else None
+
+    for section in ("cables", "impedances", "switches"):
+        for ident, e in elements[section].items():
+            a, b = kv(e.from_bus), kv(e.to_bus)
+            if a is not None and b is not None and a != b:
+                problems.append(_at(origin, section, ident, "to_bus", e.to_bus,
+                                    f"a bus of the same nominal kV as {e.from_bus} ({a:g} kV), not {b:g} kV"))
+    for ident, t in elements["transformers"].items():
+        for side in ("primary", "secondary"):
+            nominal, rated = kv(getattr(t, f"{side}_bus")), getattr(t, f"{side}_kv")
+            if nominal is not None and _kv_mismatch(rated, nominal):
+                problems.append(_at(origin, "transformers", ident, f"{side}_kv", rated,
+                                    f"within 5 % of the {side} bus's nominal {nominal:g} kV"))
+    for section in ("utilities", "generators", "motors"):
+        for ident, e in elements[section].items():
+            nominal = kv(e.bus)
+            if nominal is not None and _kv_mismatch(e.kv, nominal):
+                problems.append(_at(origin, section, ident, "kv", e.kv,
+                                    f"within 5 % of bus {e.bus}'s nominal {nominal:g} kV"))
+    return problems
+
+
+def _device_checks(elements, origin):
+    problems = []
+    branches = {ident: (section, e) for section in _BRANCHES for ident, e in elements[section].items()}
+    for ident, device in elements["devices"].items():
+        if device.branch not in branches:
+            problems.append(_at(origin, "devices", ident, "branch", device.branch,
+                                "the id of a transformer, cable, impedance or switch"))
+            continue
+        section, branch = branches[device.branch]
+        ends = ((branch.primary_bus, branch.secondary_bus) if section == "transformers"
+                else (branch.from_bus, branch.to_bus))
+        if device.at_bus not in ends:
+            problems.append(_at(origin, "devices", ident, "at_bus", device.at_bus,
+                                f"one of the buses of {device.branch}: {ends[0]} or {ends[1]}"))
+    return problems
+
+
+def _scenario_checks(facility, elements, origin):
+    problems = []
+    lists = {
+        "close": ("switches",), "open": ("switches",),
+        "generators_running": ("generators",), "generators_stopped": ("generators",),
+        "utilities_off": ("utilities",), "motors_off": ("motors",),
+    }
+    for name, scenario in elements["scenarios"].items():
+        for field, sections in lists.items():
+            for ident in getattr(scenario, field):
+                if not any(ident in elements[s] for s in sections):
+                    problems.append(_at(origin, "scenarios", name, field, ident,
+                                        f"the id of one of the site's {' or '.join(sections)}"))
+        both = set(scenario.close) & set(scenario.open)
+        if both:
+            problems.append(_at(origin, "scenarios", name, "open", sorted(both), "switches not also in 'close'"))
+    if facility.default_scenario and facility.default_scenario not in elements["scenarios"]:
+        problems.append(Problem("(site)", None, "facility.default_scenario", facility.default_scenario,
+                                f"one of the scenarios: {', '.join(elements['scenarios'])}"))
+    return problems

@@ -1,0 +1,190 @@
+"""Load a facility folder into a validated :class:`Site`.
+
+A facility is a folder of YAML files (any names, ``*.yaml`` / ``*.yml``),
+each holding any of the sections of :class:`~.schema.SiteFile`, and CSV files
+named after a section (``buses.csv``, ``cables.csv``, …) for long lists.
+Everything is validated before anything is computed; every problem found is
+reported at once, each with file, line, field, value and what was expected.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from pydantic import ValidationError
+
+from ..errors import MISSING, Problem, SiteDataError
+from . import checks
+from .reading import LineMap, read_csv, read_yaml
+from .schema import SECTIONS, Facility, Scenario
+
+#: The scenario used when a facility defines none.
+NORMAL = Scenario(name="normal", description="Normal state: utility at maximum, switches as drawn.")
+
+
+@dataclass(frozen=True)
+class Site:
+    """A validated facility: its elements by id and where each was defined."""
+
+    path: Path
+    facility: Facility
+    buses: dict
+    utilities: dict
+    generators: dict
+    motors: dict
+    transformers: dict
+    cables: dict
+    impedances: dict
+    switches: dict
+    devices: dict
+    scenarios: dict
+    origin: dict = field(repr=False)
+
+    @property
+    def default_scenario(self):
+        """Name of the scenario used when none is asked for."""
+        return self.facility.default_scenario or next(iter(self.scenarios))
+
+    def scenario(self, name=None):
+        """A scenario by name (the default when None); KeyError lists the names."""
+        name = name or self.default_scenario
+        if name not in self.scenarios:
+            raise KeyError(f"unknown scenario {name!r}; the site has {', '.join(self.scenarios)}")
+        return self.scenarios[name]
+
+
+def _expected(message):
+    for prefix in ("Value error, ", "Assertion failed, "):
+        if message.startswith(prefix):
+            return message[len(prefix):]
+    return message[:1].lower() + message[1:]
+
+
+def _validation_problems(exc, file, item, label):
+    problems = []
+    for error in exc.errors():
+        loc = error["loc"]
+        key = loc[0] if loc else None
+        line = item.key_lines.get(key, item.line) if isinstance(item, LineMap) else None
+        name = ".".join(str(part) for part in loc) if loc else "(item)"
+        value = MISSING if error["type"] == "missing" or not loc else error.get("input", MISSING)
+        problems.append(Problem(file, line, f"{label}.{name}", value, _expected(error["msg"])))
+    return problems
+
+
+def _files(path):
+    path = Path(path)
+    if path.is_file():
+        return [path]
+    if not path.is_dir():
+        raise SiteDataError([Problem(str(path), None, "site", MISSING, "an existing folder of site-data files")])
+    files = sorted(p for p in path.iterdir() if p.suffix.lower() in {".yaml", ".yml", ".csv"})
+    if not files:
+        raise SiteDataError([Problem(str(path), None, "site", MISSING, "YAML or CSV site-data files in the folder")])
+    return files
+
+
+def _read_documents(files, problems):
+    """(file name, section, item) for every item of every file; facility entries apart."""
+    items, facilities = [], []
+    for path in files:
+        if path.suffix.lower() == ".csv":
+            section = path.stem
+            if section not in SECTIONS:
+                problems.append(Problem(path.name, None, "file name", path.name,
+                                        f"a CSV named after a section: {', '.join(f'{s}.csv' for s in SECTIONS)}"))
+                continue
+            rows = read_csv(path, problems)
+            items += [(path.name, section, row) for row in rows or []]
+            continue
+        document = read_yaml(path, problems)
+        if document is None:
+            continue
+        if not isinstance(document, dict):
+            problems.append(Problem(path.name, getattr(document, "line", 1), "document", type(document).__name__,
+                                    "a mapping of sections (facility, buses, cables, ...)"))
+            continue
+        for section, content in document.items():
+            line = document.key_lines.get(section)
+            if section == "facility":
+                facilities.append((path.name, content))
+            elif section not in SECTIONS:
+                problems.append(Problem(path.name, line, "section", section,
+                                        f"one of facility, {', '.join(SECTIONS)}"))
+            elif not isinstance(content, list):
+                problems.append(Problem(path.name, line, section, content, "a list of items"))
+            else:
+                items += [(path.name, section, item) for item in content]
+    return items, facilities
+
+
+def _validate_facility(facilities, problems):
+    if not facilities:
+        problems.append(Problem("(site)", None, "facility", MISSING, "one 'facility:' section in a YAML file"))
+        return None
+    if len(facilities) > 1:
+        for file, content in facilities[1:]:
+            problems.append(Problem(file, getattr(content, "line", None), "facility", MISSING,
+                                    f"a single 'facility:' section (first one in {facilities[0][0]})"))
+    file, content = facilities[0]
+    try:
+        return Facility.model_validate(content)
+    except ValidationError as exc:
+        problems += _validation_problems(exc, file, content, "facility")
+    return None
+
+
+def load_site(path):
+    """Read, validate and cross-check a facility folder.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        Folder of site-data files (or one YAML file).
+
+    Returns
+    -------
+    Site
+
+    Raises
+    ------
+    SiteDataError
+        With every problem found, each naming file, line, field, value and
+        what was expected.
+    """
+    files = _files(path)
+    problems = []
+    items, facilities = _read_documents(files, problems)
+    facility = _validate_facility(facilities, problems)
+    elements = {section: {} for section in SECTIONS}
+    origin = {}
+    for file, section, item in items:
+        key = "name" if section == "scenarios" else "id"
+        ident = item.get(key, "?") if isinstance(item, dict) else "?"
+        label = f"{section}[{ident}]"
+        if not isinstance(item, dict):
+            problems.append(Problem(file, None, label, item, "a mapping of fields"))
+            continue
+        try:
+            element = SECTIONS[section].model_validate(item)
+        except ValidationError as exc:
+            problems += _validation_problems(exc, file, item, label)
+            continue
+        ident = getattr(element, key)
+        where = (file, item.line if isinstance(item, LineMap) else None)
+        if ident in elements[section]:
+            first = origin[(section, ident)]
+            problems.append(Problem(file, where[1], f"{label}.{key}", ident,
+                                    f"a unique {key} (also defined at {first[0]}:{first[1]})"))
+            continue
+        elements[section][ident] = element
+        origin[(section, ident)] = where
+    if not elements["scenarios"]:
+        elements["scenarios"] = {NORMAL.name: NORMAL}
+        origin[("scenarios", NORMAL.name)] = ("(built in)", None)
+    if facility is not None:
+        problems += checks.cross_check(facility, elements, origin)
+    if problems:
+        raise SiteDataError(problems)
+    return Site(path=Path(path), facility=facility, origin=origin, **elements)

@@ -1,0 +1,317 @@
+"""Schema of the site data (pydantic models, one per element type).
+
+Numbers whose unit is fixed carry it in the field name (``kva``, ``kv``,
+``z_percent``, ``gap_mm``). Where the user may choose a unit, the value is a
+quantity string with the unit written out: ``length: 150 ft`` or ``45 m``;
+``fault: 12 kA`` or ``250 MVA``; motor ``size: 200 hp`` or ``150 kVA``.
+Unknown fields are errors. :func:`site_json_schema` publishes the schema.
+"""
+
+from __future__ import annotations
+
+import re
+from typing import Annotated, Literal
+
+from pydantic import BaseModel, ConfigDict, Field, field_validator, model_validator
+
+from ..models.conductors import CONDUITS, MATERIALS, normalize_size
+from ..models.ieee1584_tables import CONFIGURATIONS, EQUIPMENT_CLASSES
+
+Positive = Annotated[float, Field(gt=0)]
+NonNegative = Annotated[float, Field(ge=0)]
+Identifier = Annotated[str, Field(min_length=1, max_length=200)]
+
+_QUANTITY = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*([A-Za-z/]+)\s*$")
+
+#: Units accepted per kind of quantity, with the factor to the canonical unit.
+UNITS = {
+    "length": {"ft": ("ft", 1.0), "m": ("ft", 1.0 / 0.3048), "km": ("ft", 1000.0 / 0.3048)},
+    "fault": {"ka": ("kA", 1.0), "a": ("kA", 0.001), "mva": ("MVA", 1.0)},
+    "motor": {"hp": ("hp", 1.0), "kva": ("kVA", 1.0)},
+}
+
+
+def parse_quantity(text, kind):
+    """Parse '150 ft' into (150.0, 'ft') in the canonical unit of ``kind``.
+
+    Raises
+    ------
+    ValueError
+        Not a number followed by one of the accepted units.
+    """
+    accepted = UNITS[kind]
+    names = ", ".join(accepted)
+    match = _QUANTITY.match(str(text))
+    if not match:
+        raise ValueError(f"a number and a unit ({names}), e.g. '{_EXAMPLES[kind]}'")
+    value, unit = float(match.group(1)), match.group(2).lower()
+    if unit not in accepted:
+        raise ValueError(f"a unit among {names} (got {match.group(2)!r})")
+    if value <= 0:
+        raise ValueError("a positive value")
+    canonical, factor = accepted[unit]
+    return value * factor, canonical
+
+
+_EXAMPLES = {"length": "150 ft", "fault": "25 kA", "motor": "200 hp"}
+
+
+class _Element(BaseModel):
+    model_config = ConfigDict(extra="forbid", str_strip_whitespace=True)
+
+
+class Facility(_Element):
+    """Facility and study settings."""
+
+    name: str
+    description: str = ""
+    study_revision: str = "0"
+    study_date: str | None = None
+    voltage_factor: Annotated[float, Field(gt=0.5, le=1.2)] = Field(
+        1.0, description="Prefault voltage c [pu]; 1.0 by default."
+    )
+    s_base_mva: Positive = 100.0
+    default_scenario: str | None = None
+
+
+class Bus(_Element):
+    """A bus: a piece of equipment where an arc can occur."""
+
+    id: Identifier
+    description: str = ""
+    nominal_kv: Annotated[float, Field(gt=0, le=50)]
+    equipment_class: str | None = Field(None, description="Typical values: " + ", ".join(EQUIPMENT_CLASSES))
+    config: Literal[CONFIGURATIONS] | None = None  # type: ignore[valid-type]
+    gap_mm: Positive | None = None
+    working_distance_mm: Positive | None = None
+    height_mm: Positive | None = None
+    width_mm: Positive | None = None
+    depth_mm: Positive | None = None
+
+    @field_validator("equipment_class")
+    @classmethod
+    def _known_class(cls, value):
+        if value is not None and value not in EQUIPMENT_CLASSES:
+            raise ValueError(f"one of {', '.join(EQUIPMENT_CLASSES)}")
+        return value
+
+    @field_validator("config", mode="before")
+    @classmethod
+    def _upper(cls, value):
+        return value.upper() if isinstance(value, str) else value
+
+
+class SourceLevel(_Element):
+    """Available three-phase fault current of a utility at one level."""
+
+    fault: str = Field(description="Available fault current or power, e.g. '25 kA' or '500 MVA'.")
+    x_over_r: Positive
+
+    @field_validator("fault")
+    @classmethod
+    def _fault(cls, value):
+        parse_quantity(value, "fault")
+        return value
+
+
+class Utility(_Element):
+    """Utility source, maximum and minimum available fault current."""
+
+    id: Identifier
+    bus: Identifier
+    kv: Positive = Field(description="Voltage at which the fault level is stated [kV].")
+    max: SourceLevel
+    min: SourceLevel
+    in_service: bool = True
+
+
+class Generator(_Element):
+    """Generator behind its subtransient reactance."""
+
+    id: Identifier
+    bus: Identifier
+    kva: Positive
+    kv: Positive
+    subtransient_reactance_percent: Positive
+    x_over_r: Positive
+    running: bool = Field(False, description="Running in the normal state; scenarios may start it.")
+
+
+class Motor(_Element):
+    """Motor (or group of motors) contributing to faults."""
+
+    id: Identifier
+    bus: Identifier
+    size: str = Field(description="'200 hp' or '150 kVA'; 1 hp is taken as 1 kVA (common practice).")
+    kv: Positive
+    subtransient_reactance_percent: Positive = 16.7
+    x_over_r: Positive = 10.0
+    contributes: bool = True
+
+    @field_validator("size")
+    @classmethod
+    def _size(cls, value):
+        parse_quantity(value, "motor")
+        return value
+
+
+class ImpedanceTest(_Element):
+    """Short-circuit (impedance-voltage) test readings of a transformer."""
+
+    applied_v: Positive = Field(description="Primary voltage that circulates the test current [V].")
+    measured_a: Positive | None = Field(None, description="Test current, if not rated current [A].")
+
+
+class Transformer(_Element):
+    """Two-winding transformer."""
+
+    id: Identifier
+    primary_bus: Identifier
+    secondary_bus: Identifier
+    kva: Positive
+    primary_kv: Positive
+    secondary_kv: Positive
+    z_percent: Annotated[float, Field(gt=0, le=50)] | None = None
+    test: ImpedanceTest | None = None
+    x_over_r: Positive
+    z_tolerance_percent: Annotated[float, Field(ge=0, lt=50)] = 7.5
+    connection: str | None = Field(None, description="Winding connection, for information.")
+
+    @model_validator(mode="after")
+    def _one_impedance(self):
+        if (self.z_percent is None) == (self.test is None):
+            raise ValueError("either z_percent or test readings (not both)")
+        return self
+
+
+class Cable(_Element):
+    """Cable run: NEC Chapter 9 Table 9 conductor or explicit impedance per length."""
+
+    id: Identifier
+    from_bus: Identifier
+    to_bus: Identifier
+    length: str = Field(description="Route length, e.g. '150 ft' or '45 m'.")
+    sets: Annotated[int, Field(ge=1, le=50)] = 1
+    size: str | None = Field(None, description="Conductor size, AWG or kcmil, e.g. '4/0' or '500 kcmil'.")
+    material: Literal[MATERIALS] | None = None  # type: ignore[valid-type]
+    conduit: Literal[CONDUITS] | None = None  # type: ignore[valid-type]
+    r_ohm_per_kft: NonNegative | None = None
+    x_ohm_per_kft: NonNegative | None = None
+
+    @field_validator("length")
+    @classmethod
+    def _length(cls, value):
+        parse_quantity(value, "length")
+        return value
+
+    @field_validator("size")
+    @classmethod
+    def _size(cls, value):
+        if value is not None:
+            normalize_size(value)
+        return value
+
+    @field_validator("material", "conduit", mode="before")
+    @classmethod
+    def _lower(cls, value):
+        if isinstance(value, str):
+            value = value.strip().lower()
+            return {"aluminium": "aluminum", "al": "aluminum", "cu": "copper"}.get(value, value)
+        return value
+
+    @model_validator(mode="after")
+    def _one_impedance(self):
+        table = (self.size, self.material, self.conduit)
+        explicit = (self.r_ohm_per_kft, self.x_ohm_per_kft)
+        if all(v is not None for v in table) and all(v is None for v in explicit):
+            return self
+        if all(v is not None for v in explicit) and all(v is None for v in table):
+            return self
+        raise ValueError("size, material and conduit (NEC Chapter 9 Table 9), or r_ohm_per_kft and x_ohm_per_kft")
+
+
+class Impedance(_Element):
+    """Busway or other series branch with explicit impedance per phase."""
+
+    id: Identifier
+    from_bus: Identifier
+    to_bus: Identifier
+    kind: str = "busway"
+    r_ohm: NonNegative
+    x_ohm: NonNegative
+
+    @model_validator(mode="after")
+    def _not_zero(self):
+        if self.r_ohm == 0 and self.x_ohm == 0:
+            raise ValueError("a non-zero impedance (use a switch for a zero-impedance link)")
+        return self
+
+
+class Switch(_Element):
+    """Switch, breaker or tie between two buses of the same voltage."""
+
+    id: Identifier
+    from_bus: Identifier
+    to_bus: Identifier
+    kind: Literal["switch", "breaker", "tie"] = "switch"
+    normally: Literal["open", "closed"] = "closed"
+
+
+class Device(_Element):
+    """Protective device on a branch, at one of its buses. Settings: next issue."""
+
+    id: Identifier
+    branch: Identifier = Field(description="Id of the transformer, cable, impedance or switch it protects.")
+    at_bus: Identifier = Field(description="The branch's bus on the device's side.")
+    kind: Literal["relay-breaker", "trip-unit-breaker", "thermal-magnetic-breaker", "fuse"] = "trip-unit-breaker"
+    settings: dict = Field(default_factory=dict, description="Reserved for curve settings.")
+
+
+class Scenario(_Element):
+    """A named set of changes from the normal state."""
+
+    name: Identifier
+    description: str = ""
+    utility: Literal["max", "min"] = "max"
+    transformer_z: Literal["low", "nominal", "high"] | None = Field(
+        None, description="Side of the %Z tolerance; default low for 'max', high for 'min'."
+    )
+    close: list[Identifier] = []
+    open: list[Identifier] = []
+    generators_running: list[Identifier] = []
+    generators_stopped: list[Identifier] = []
+    utilities_off: list[Identifier] = []
+    motors: Literal["on", "off"] = "on"
+    motors_off: list[Identifier] = []
+
+
+class SiteFile(_Element):
+    """One site-data file: any of these sections (a facility may split them over files)."""
+
+    facility: Facility | None = None
+    buses: list[Bus] = []
+    utilities: list[Utility] = []
+    generators: list[Generator] = []
+    motors: list[Motor] = []
+    transformers: list[Transformer] = []
+    cables: list[Cable] = []
+    impedances: list[Impedance] = []
+    switches: list[Switch] = []
+    devices: list[Device] = []
+    scenarios: list[Scenario] = []
+
+
+#: Section name -> element model, in reading order.
+SECTIONS = {
+    "buses": Bus, "utilities": Utility, "generators": Generator, "motors": Motor,
+    "transformers": Transformer, "cables": Cable, "impedances": Impedance, "switches": Switch,
+    "devices": Device, "scenarios": Scenario,
+}
+
+
+def site_json_schema():
+    """JSON Schema of a site-data file (for editors)."""
+    schema = SiteFile.model_json_schema()
+    schema["$schema"] = "https://json-schema.org/draft/2020-12/schema"
+    schema["title"] = "arcflash site data"
+    return schema
