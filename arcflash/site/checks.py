@@ -3,8 +3,9 @@
 Every reference resolves; ids are unique across element types; the two buses
 of a cable, busway or switch have the same nominal kV; transformer, source
 and motor voltages match their buses; scenarios name existing elements.
-Connectivity (a bus reached by no source) is not an error: the fault table
-reports such buses as de-energised.
+A bus that no utility or generator could reach even with every switch
+closed is an error (an island, usually a mistyped id); a bus cut off only in
+some scenarios is not: the fault table reports it as de-energised.
 """
 
 from __future__ import annotations
@@ -32,8 +33,12 @@ def _kv_mismatch(rated, nominal):
     return abs(rated - nominal) > VOLTAGE_MATCH * nominal
 
 
-def cross_check(facility, elements, origin):
-    """Problems that involve more than one element (list, empty if none)."""
+def cross_check(facility, elements, origin, invalid=frozenset()):
+    """Problems that involve more than one element (list, empty if none).
+
+    ``invalid`` holds ids of items already reported invalid; references to
+    them are not reported again.
+    """
     problems = []
     buses = elements["buses"]
     owners = {}
@@ -49,12 +54,37 @@ def cross_check(facility, elements, origin):
         for ident, element in elements[section].items():
             for name in fields:
                 bus = getattr(element, name)
-                if bus not in buses:
+                if bus not in buses and bus not in invalid:
                     problems.append(_at(origin, section, ident, name, bus, "the id of a bus in 'buses'"))
     problems += _voltage_checks(elements, origin)
-    problems += _device_checks(elements, origin)
-    problems += _scenario_checks(facility, elements, origin)
+    problems += _device_checks(elements, origin, invalid)
+    problems += _scenario_checks(facility, elements, origin, invalid)
+    if not problems and not invalid:
+        problems += _island_checks(elements, origin)
     return problems
+
+
+def _island_checks(elements, origin):
+    """Buses that no source can reach with every switch closed."""
+    parent = {bus: bus for bus in elements["buses"]}
+
+    def find(bus):
+        while parent[bus] != bus:
+            parent[bus] = parent[parent[bus]]
+            bus = parent[bus]
+        return bus
+
+    for section in _BRANCHES:
+        for element in elements[section].values():
+            a, b = ((element.primary_bus, element.secondary_bus) if section == "transformers"
+                    else (element.from_bus, element.to_bus))
+            parent[find(a)] = find(b)
+    fed = {find(e.bus) for section in ("utilities", "generators") for e in elements[section].values()}
+    return [
+        _at(origin, "buses", bus, "id", bus,
+            "a bus connected to a utility or generator: no source can reach it, even with every switch closed")
+        for bus in elements["buses"] if find(bus) not in fed
+    ]
 
 
 def _voltage_checks(elements, origin):
@@ -85,10 +115,12 @@ def _voltage_checks(elements, origin):
     return problems
 
 
-def _device_checks(elements, origin):
+def _device_checks(elements, origin, invalid):
     problems = []
     branches = {ident: (section, e) for section in _BRANCHES for ident, e in elements[section].items()}
     for ident, device in elements["devices"].items():
+        if device.branch in invalid:
+            continue
         if device.branch not in branches:
             problems.append(_at(origin, "devices", ident, "branch", device.branch,
                                 "the id of a transformer, cable, impedance or switch"))
@@ -102,7 +134,7 @@ def _device_checks(elements, origin):
     return problems
 
 
-def _scenario_checks(facility, elements, origin):
+def _scenario_checks(facility, elements, origin, invalid):
     problems = []
     lists = {
         "close": ("switches",), "open": ("switches",),
@@ -112,7 +144,7 @@ def _scenario_checks(facility, elements, origin):
     for name, scenario in elements["scenarios"].items():
         for field, sections in lists.items():
             for ident in getattr(scenario, field):
-                if not any(ident in elements[s] for s in sections):
+                if ident not in invalid and not any(ident in elements[s] for s in sections):
                     problems.append(_at(origin, "scenarios", name, field, ident,
                                         f"the id of one of the site's {' or '.join(sections)}"))
         both = set(scenario.close) & set(scenario.open)

@@ -54,14 +54,25 @@ class Site:
         return self.scenarios[name]
 
 
-def _expected(message):
+def _expected(error, model):
+    """What was expected, in words, from a pydantic error."""
+    kind, message = error["type"], error["msg"]
+    if kind == "missing":
+        return "a value (this field is required)"
+    if kind == "extra_forbidden":
+        return f"a known field: {', '.join(model.model_fields)}"
     for prefix in ("Value error, ", "Assertion failed, "):
         if message.startswith(prefix):
             return message[len(prefix):]
+    message = message.split(", unable to parse")[0]
+    if message.startswith("Input should be "):
+        message = message[len("Input should be "):]
+        if message.startswith(("greater", "less")):
+            message = "a number " + message
     return message[:1].lower() + message[1:]
 
 
-def _validation_problems(exc, file, item, label):
+def _validation_problems(exc, file, item, label, model):
     problems = []
     for error in exc.errors():
         loc = error["loc"]
@@ -69,7 +80,7 @@ def _validation_problems(exc, file, item, label):
         line = item.key_lines.get(key, item.line) if isinstance(item, LineMap) else None
         name = ".".join(str(part) for part in loc) if loc else "(item)"
         value = MISSING if error["type"] == "missing" or not loc else error.get("input", MISSING)
-        problems.append(Problem(file, line, f"{label}.{name}", value, _expected(error["msg"])))
+        problems.append(Problem(file, line, f"{label}.{name}", value, _expected(error, model)))
     return problems
 
 
@@ -119,7 +130,9 @@ def _read_documents(files, problems):
     return items, facilities
 
 
-def _validate_facility(facilities, problems):
+def _validate_facility(facilities, problems, unreadable):
+    if not facilities and unreadable:
+        return None  # the facility may be in the file that could not be read
     if not facilities:
         problems.append(Problem("(site)", None, "facility", MISSING, "one 'facility:' section in a YAML file"))
         return None
@@ -131,7 +144,7 @@ def _validate_facility(facilities, problems):
     try:
         return Facility.model_validate(content)
     except ValidationError as exc:
-        problems += _validation_problems(exc, file, content, "facility")
+        problems += _validation_problems(exc, file, content, "facility", Facility)
     return None
 
 
@@ -156,9 +169,10 @@ def load_site(path):
     files = _files(path)
     problems = []
     items, facilities = _read_documents(files, problems)
-    facility = _validate_facility(facilities, problems)
+    facility = _validate_facility(facilities, problems, unreadable=bool(problems))
     elements = {section: {} for section in SECTIONS}
     origin = {}
+    invalid = set()  # ids of items already reported invalid: references to them are not reported again
     for file, section, item in items:
         key = "name" if section == "scenarios" else "id"
         ident = item.get(key, "?") if isinstance(item, dict) else "?"
@@ -169,7 +183,8 @@ def load_site(path):
         try:
             element = SECTIONS[section].model_validate(item)
         except ValidationError as exc:
-            problems += _validation_problems(exc, file, item, label)
+            problems += _validation_problems(exc, file, item, label, SECTIONS[section])
+            invalid.add(ident)
             continue
         ident = getattr(element, key)
         where = (file, item.line if isinstance(item, LineMap) else None)
@@ -184,7 +199,7 @@ def load_site(path):
         elements["scenarios"] = {NORMAL.name: NORMAL}
         origin[("scenarios", NORMAL.name)] = ("(built in)", None)
     if facility is not None:
-        problems += checks.cross_check(facility, elements, origin)
+        problems += checks.cross_check(facility, elements, origin, invalid)
     if problems:
         raise SiteDataError(problems)
     return Site(path=Path(path), facility=facility, origin=origin, **elements)

@@ -14,7 +14,7 @@ from typing import Annotated, Literal
 
 from pydantic import BaseModel, ConfigDict, Field, field_validator, model_validator
 
-from ..models.conductors import CONDUITS, MATERIALS, normalize_size
+from ..models.conductors import CONDUITS, MATERIALS, SIZES, normalize_size
 from ..models.ieee1584_tables import CONFIGURATIONS, EQUIPMENT_CLASSES
 
 Positive = Annotated[float, Field(gt=0)]
@@ -208,7 +208,10 @@ class Cable(_Element):
     @classmethod
     def _size(cls, value):
         if value is not None:
-            normalize_size(value)
+            try:
+                normalize_size(value)
+            except ValueError:
+                raise ValueError("a conductor size of NEC Chapter 9 Table 9: " + ", ".join(SIZES)) from None
         return value
 
     @field_validator("material", "conduit", mode="before")
