@@ -21,6 +21,8 @@ import scipy.sparse as sp
 from scipy.sparse.csgraph import connected_components
 from scipy.sparse.linalg import splu
 
+from .network_radial import RadialNetwork
+
 _SQRT3 = float(np.sqrt(3.0))
 #: Right-hand sides solved together [-].
 BLOCK_COLUMNS = 256
@@ -48,7 +50,11 @@ class FaultSolution:
         Device current over the bus fault current (per unit of I_f) [-]
     device_direction : numpy.ndarray of int
         +1 where the current flows from the branch's first bus to its second,
-        -1 the other way [-]
+        -1 the other way [-]. In a radial network the direction is along the
+        tree: from the sources' side into the subtree holding the fault, or
+        out of a subtree whose motors or generators feed a fault elsewhere.
+        A meshed network has no such tree; there the direction is that of the
+        active power through the branch.
     """
 
     z_thevenin_pu: np.ndarray
@@ -145,49 +151,36 @@ def solve_faults(base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_
     branch_to = np.asarray(branch_to, dtype=np.intp)
     branch_z_pu = np.asarray(branch_z_pu, dtype=complex)
     shunt_bus = np.asarray(shunt_bus, dtype=np.intp)
+    shunt_z_pu = np.asarray(shunt_z_pu, dtype=complex)
     device_branch = np.asarray(device_branch, dtype=np.intp)
     device_kv = np.asarray(device_kv, dtype=float)
-    energized = energized_buses(n, branch_from, branch_to, source_bus) if len(source_bus) else np.zeros(n, bool)
+    source_bus = np.asarray(source_bus, dtype=np.intp)
+    energized = energized_buses(n, branch_from, branch_to, source_bus) if source_bus.size else np.zeros(n, bool)
     z_th = np.full(n, np.nan + 0j)
-    empty = np.array([], dtype=np.intp)
-    table = ([empty], [empty], [np.array([])], [np.array([])], [empty])
+    rows = _empty_rows()
     if energized.any():
         index = np.full(n, -1, dtype=np.intp)
         active = np.flatnonzero(energized)
         index[active] = np.arange(active.size)
         keep = energized[branch_from]
-        f, t = index[branch_from[keep]], index[branch_to[keep]]
-        shunt_keep = energized[shunt_bus]
-        y = admittance_matrix(active.size, f, t, branch_z_pu[keep], index[shunt_bus[shunt_keep]],
-                              np.asarray(shunt_z_pu, dtype=complex)[shunt_keep])
-        lu = splu(y)
-        m = active.size
-        diag = np.empty(m, dtype=complex)
-        for lo in range(0, m, BLOCK_COLUMNS):
-            cols = np.arange(lo, min(lo + BLOCK_COLUMNS, m))
-            rhs = np.zeros((m, cols.size), dtype=complex)
-            rhs[cols, np.arange(cols.size)] = 1.0
-            diag[cols] = lu.solve(rhs)[cols, np.arange(cols.size)]
+        sub = _Active(
+            m=active.size,
+            f=np.where(keep, index[branch_from], -1),
+            t=np.where(keep, index[branch_to], -1),
+            z=branch_z_pu,
+            keep=keep,
+            shunt_bus=index[shunt_bus[energized[shunt_bus]]],
+            shunt_y=1.0 / shunt_z_pu[energized[shunt_bus]],
+            roots=_one_per_part(active.size, index[branch_from[keep]], index[branch_to[keep]],
+                                index[source_bus]),
+        )
+        live = np.flatnonzero(keep[device_branch]) if device_branch.size else np.array([], dtype=np.intp)
+        solver = _radial if _is_radial(sub) else _meshed
+        diag, (k, d, current_pu, direction) = solver(sub, device_branch, live, voltage_factor, min_share)
         z_th[active] = diag
-        i_fault = voltage_factor / diag  # [pu], at every active bus
-        live = np.flatnonzero(energized[branch_from[device_branch]]) if device_branch.size else empty
-        for lo in range(0, live.size, BLOCK_COLUMNS):
-            devices = live[lo:lo + BLOCK_COLUMNS]
-            b = device_branch[devices]
-            rhs = np.zeros((m, devices.size), dtype=complex)
-            rhs[index[branch_from[b]], np.arange(devices.size)] += 1.0
-            rhs[index[branch_to[b]], np.arange(devices.size)] -= 1.0
-            # (Z_ki - Z_kj) for every fault bus k; Y is symmetric.
-            x = lu.solve(rhs)
-            current_pu = -x * (i_fault[:, None] / branch_z_pu[b][None, :])
-            share = np.abs(current_pu) / np.abs(i_fault)[:, None]
-            k, d = np.nonzero(share >= min_share)
-            ratio = current_pu[k, d] / i_fault[k]
-            table[0].append(active[k])
-            table[1].append(devices[d])
-            table[2].append(np.abs(current_pu[k, d]) * base_current_ka(s_base_mva, device_kv[devices[d]]))
-            table[3].append(share[k, d])
-            table[4].append(np.where(ratio.real >= 0.0, 1, -1))
+        i_fault = voltage_factor / np.abs(diag[k])
+        rows = (active[k], d, np.abs(current_pu) * base_current_ka(s_base_mva, device_kv[d]),
+                np.abs(current_pu) / i_fault, direction)
     bolted = np.where(energized, voltage_factor / np.abs(z_th), 0.0) * base_current_ka(s_base_mva, base_kv)
     bolted = np.nan_to_num(bolted, nan=0.0)
     with np.errstate(invalid="ignore", divide="ignore"):
@@ -197,9 +190,165 @@ def solve_faults(base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_
         bolted_ka=bolted,
         x_over_r=x_over_r,
         energized=energized,
-        device_fault_bus=np.concatenate(table[0]),
-        device=np.concatenate(table[1]),
-        device_current_ka=np.concatenate(table[2]),
-        device_share=np.concatenate(table[3]),
-        device_direction=np.concatenate(table[4]).astype(np.int8),
+        device_fault_bus=rows[0],
+        device=rows[1],
+        device_current_ka=rows[2],
+        device_share=rows[3],
+        device_direction=np.asarray(rows[4], dtype=np.int8),
     )
+
+
+@dataclass(frozen=True)
+class _Active:
+    """The energised part: buses renumbered 0..m-1; branches outside it have -1 ends."""
+
+    m: int
+    f: np.ndarray
+    t: np.ndarray
+    z: np.ndarray
+    keep: np.ndarray
+    shunt_bus: np.ndarray
+    shunt_y: np.ndarray
+    roots: np.ndarray
+
+
+def _empty_rows():
+    empty = np.array([], dtype=np.intp)
+    return empty, empty, np.array([]), np.array([]), empty
+
+
+def _one_per_part(m, f, t, sources):
+    """One source bus of each connected part of the energised network."""
+    graph = sp.coo_matrix((np.ones(f.size), (f, t)), shape=(m, m))
+    _, label = connected_components(graph, directed=False)
+    _, first = np.unique(label[sources], return_index=True)
+    return sources[first]
+
+
+def _merged_edges(sub):
+    """Parallel branches merged: edge of each kept branch, edge ends, edge admittance."""
+    idx = np.flatnonzero(sub.keep)
+    a = np.minimum(sub.f[idx], sub.t[idx])
+    b = np.maximum(sub.f[idx], sub.t[idx])
+    pairs, edge_of = np.unique(a * sub.m + b, return_inverse=True)
+    edge_y = np.zeros(pairs.size, dtype=complex)
+    np.add.at(edge_y, edge_of, 1.0 / sub.z[idx])
+    branch_edge = np.full(sub.keep.size, -1, dtype=np.intp)
+    branch_edge[idx] = edge_of
+    return branch_edge, pairs // sub.m, pairs % sub.m, edge_y
+
+
+def _is_radial(sub):
+    """True when the energised network, parallel branches merged, is a forest."""
+    _, ea, eb, _ = _merged_edges(sub)
+    return bool(np.all(ea != eb)) and ea.size == sub.m - sub.roots.size
+
+
+def _meshed(sub, device_branch, live, voltage_factor, min_share):
+    """General network: sparse LU of Y, Z columns solved in blocks."""
+    idx = np.flatnonzero(sub.keep)
+    y = admittance_matrix(sub.m, sub.f[idx], sub.t[idx], sub.z[idx], sub.shunt_bus, 1.0 / sub.shunt_y)
+    lu = splu(y)
+    m = sub.m
+    diag = np.empty(m, dtype=complex)
+    for lo in range(0, m, BLOCK_COLUMNS):
+        cols = np.arange(lo, min(lo + BLOCK_COLUMNS, m))
+        rhs = np.zeros((m, cols.size), dtype=complex)
+        rhs[cols, np.arange(cols.size)] = 1.0
+        diag[cols] = lu.solve(rhs)[cols, np.arange(cols.size)]
+    i_fault = voltage_factor / diag
+    out = [[], [], [], []]
+    for lo in range(0, live.size, BLOCK_COLUMNS // 2):
+        devices = live[lo:lo + BLOCK_COLUMNS // 2]
+        b = device_branch[devices]
+        cols = np.arange(devices.size)
+        rhs = np.zeros((m, 2 * devices.size), dtype=complex)
+        rhs[sub.f[b], cols] += 1.0
+        rhs[sub.t[b], cols] -= 1.0
+        rhs[sub.f[b], cols + devices.size] += 1.0
+        rhs[sub.t[b], cols + devices.size] += 1.0
+        solved = lu.solve(rhs)  # Y is symmetric: rows k hold Z_ki -/+ Z_kj
+        drop = -solved[:, : devices.size] * i_fault[:, None]  # V_i - V_j during the fault at k
+        total = 2.0 * voltage_factor - solved[:, devices.size:] * i_fault[:, None]  # V_i + V_j
+        current_pu = drop / sub.z[b][None, :]
+        share = np.abs(current_pu) / np.abs(i_fault)[:, None]
+        k, d = np.nonzero(share >= min_share)
+        # Direction in a meshed network: that of the active power through the branch,
+        # Re((V_i + V_j)/2 conj(I_ij)) (in a radial one, _radial uses the tree instead).
+        toward_j = (total[k, d] * np.conj(current_pu[k, d])).real >= 0.0
+        out[0].append(k)
+        out[1].append(devices[d])
+        out[2].append(current_pu[k, d])
+        out[3].append(np.where(toward_j, 1, -1))
+    return diag, _joined(out)
+
+
+def _joined(out):
+    if not out[0]:
+        return _empty_rows()[:2] + (np.array([], dtype=complex), np.array([], dtype=np.int8))
+    return tuple(np.concatenate(part) for part in out)
+
+
+def _radial(sub, device_branch, live, voltage_factor, min_share):
+    """Radial network: the passes of :mod:`.network_radial`, O(N) for the diagonal."""
+    branch_edge, ea, eb, edge_y = _merged_edges(sub)
+    shunt = np.zeros(sub.m, dtype=complex)
+    np.add.at(shunt, sub.shunt_bus, sub.shunt_y)
+    tree = RadialNetwork(sub.m, ea, eb, edge_y, shunt, sub.roots)
+    child_of_edge = np.full(edge_y.size, -1, dtype=np.intp)
+    has_parent = tree.parent >= 0
+    child_of_edge[tree.edge[has_parent]] = np.flatnonzero(has_parent)
+    b = device_branch[live]
+    child = child_of_edge[branch_edge[b]]
+    fraction = (1.0 / sub.z[b]) / edge_y[branch_edge[b]]  # share of a merged parallel edge
+    toward_child = np.where(sub.t[b] == child, 1, -1)  # +1 when from -> to is parent -> child
+    out = [[], [], [], []]
+    # Faults below the device: current from the parent into the child's subtree.
+    mask = np.zeros(sub.m, dtype=bool)
+    mask[child] = True
+    k, node, current = tree.downstream_currents(mask, voltage_factor)
+    # Each row (fault, child node) applies to every device on that child's edge.
+    order = np.argsort(child, kind="stable")
+    starts = np.searchsorted(child[order], node, side="left")
+    counts = np.searchsorted(child[order], node, side="right") - starts
+    rows = np.repeat(np.arange(node.size), counts)
+    offsets = np.arange(rows.size) - np.repeat(np.cumsum(counts) - counts, counts)
+    pick = order[np.repeat(starts, counts) + offsets]
+    i_dev = current[rows] * fraction[pick]
+    share = np.abs(i_dev) * np.abs(tree.z_kk[k[rows]]) / voltage_factor
+    keep = share >= min_share
+    out[0].append(k[rows][keep])
+    out[1].append(live[pick][keep])
+    out[2].append(i_dev[keep])
+    out[3].append(toward_child[pick][keep])
+    # Faults elsewhere: sources inside the child's subtree feed out through the device.
+    # |Z_pk| <= |Z_pp| bounds the share by |Z_pp x gain|; devices below the threshold are skipped.
+    gain = tree.contrib[child] * fraction
+    parent = tree.parent[child]
+    candidates = np.flatnonzero(np.abs(tree.z_kk[parent] * gain) >= min_share)
+    nodes, which = np.unique(parent[candidates], return_inverse=True)
+    by_block = np.argsort(which, kind="stable")
+    edges = np.searchsorted(which[by_block], np.arange(0, nodes.size + BLOCK_COLUMNS, BLOCK_COLUMNS))
+    for number, lo in enumerate(range(0, nodes.size, BLOCK_COLUMNS)):
+        columns = tree.columns(nodes[lo:lo + BLOCK_COLUMNS])  # Z[:, p] for each parent bus p
+        devices = candidates[by_block[edges[number]:edges[number + 1]]]
+        column_of = which[np.searchsorted(candidates, devices)] - lo
+        limit = np.full(columns.shape[1], np.inf)
+        np.minimum.at(limit, column_of, min_share / np.abs(gain[devices]))
+        k, col = np.nonzero(np.abs(columns) >= limit[None, :])
+        # Expand each (fault, column) pair to the devices of that column.
+        per_column = np.argsort(column_of, kind="stable")
+        first = np.searchsorted(column_of[per_column], col, side="left")
+        count = np.searchsorted(column_of[per_column], col, side="right") - first
+        rows = np.repeat(np.arange(k.size), count)
+        offsets = np.arange(rows.size) - np.repeat(np.cumsum(count) - count, count)
+        dev = devices[per_column[np.repeat(first, count) + offsets]]
+        k, col = k[rows], col[rows]
+        current = columns[k, col] * gain[dev] * voltage_factor / tree.z_kk[k]
+        keep = (np.abs(current) * np.abs(tree.z_kk[k]) / voltage_factor >= min_share) & ~tree.in_subtree(child[dev], k)
+        k, dev = k[keep], dev[keep]
+        out[0].append(k)
+        out[1].append(live[dev])
+        out[2].append(current[keep])
+        out[3].append(-toward_child[dev])
+    return tree.z_kk, _joined(out)

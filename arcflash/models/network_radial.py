@@ -1,0 +1,161 @@
+"""Bolted faults on a radial network in time proportional to its size.
+
+For a network whose branches form a tree (parallel branches between the same
+two buses merged), the Thevenin impedance of every bus follows from two
+passes over the tree, and the current through a branch for a fault at any
+bus from the voltage drops along the tree (common practice: series-parallel
+reduction; the same results as inverting the admittance matrix, which
+``network.py`` does for meshed networks and which the tests compare).
+
+Notation, for a node c with parent p through impedance z_c:
+
+- ``Yd[c]``: admittance at c of c's own sources and everything below c;
+- ``contrib[c] = Yd[c]/(1 + z_c Yd[c])``: what c's subtree adds at p;
+- ``Yu[c]``: admittance at c of everything above c (through z_c);
+- ``A[c] = Yd[p] + Yu[p] - contrib[c]``: admittance at p of everything but
+  c's subtree; Z_kk = 1/(Yd[k] + Yu[k]).
+
+A fault at k drops the voltage at k by c (the voltage factor). Climbing from
+k, the drop at the parent of m is the drop at m times
+``up[m] = 1/(1 + z_m A[m])``, and the current into m's subtree through z_m
+is (drop at m) × A[m]/(1 + z_m A[m]). For a fault outside c's subtree, the
+current out of it through z_c is (drop at p) × contrib[c], and the drop at p
+is c Z_pk / Z_kk (a column of Z, spread down the tree with
+``down[m] = 1/(1 + z_m Yd[m])``).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import scipy.sparse as sp
+from scipy.sparse.csgraph import breadth_first_order, depth_first_order
+
+#: Columns of Z spread down the tree together [-].
+BLOCK_COLUMNS = 256
+
+
+class RadialNetwork:
+    """A tree (forest) of energised buses with the passes of the module docstring.
+
+    Parameters
+    ----------
+    n : int
+        Number of buses (all energised) [-]
+    edge_a, edge_b : numpy.ndarray of int
+        Buses of each (merged) edge [-]
+    edge_y : numpy.ndarray of complex
+        Total admittance of each edge [pu]
+    shunt_y : numpy.ndarray of complex
+        Shunt source admittance at each bus [pu]
+    roots : sequence of int
+        One source bus per connected part [-]
+    """
+
+    def __init__(self, n, edge_a, edge_b, edge_y, shunt_y, roots):
+        graph = sp.coo_matrix((np.arange(1, edge_a.size + 1), (edge_a, edge_b)), shape=(n, n)).tocsr()
+        graph = graph + graph.T
+        self.parent = np.full(n, -1, dtype=np.intp)
+        self.edge = np.full(n, -1, dtype=np.intp)  # merged edge to the parent
+        order_parts, pre_parts = [], []
+        for root in roots:
+            order, pred = breadth_first_order(graph, root, directed=False, return_predecessors=True)
+            nodes = order[1:]
+            self.parent[nodes] = pred[nodes]
+            self.edge[nodes] = np.asarray(graph[nodes, pred[nodes]]).ravel() - 1
+            order_parts.append(order)
+            pre_parts.append(depth_first_order(graph, root, directed=False, return_predecessors=False))
+        self.order = np.concatenate(order_parts)
+        self.depth = np.zeros(n, dtype=np.intp)
+        for node in self.order:  # BFS order: parents first
+            if self.parent[node] >= 0:
+                self.depth[node] = self.depth[self.parent[node]] + 1
+        levels = np.argsort(self.depth[self.order], kind="stable")
+        by_depth = self.order[levels]
+        bounds = np.searchsorted(self.depth[by_depth], np.arange(self.depth.max() + 2))
+        self.levels = [by_depth[bounds[d]:bounds[d + 1]] for d in range(1, self.depth.max() + 1)]
+        self.levels_root = by_depth[bounds[0]:bounds[1]]
+        preorder = np.concatenate(pre_parts)
+        self.tin = np.empty(n, dtype=np.intp)
+        self.tin[preorder] = np.arange(n)
+        self.size = np.ones(n, dtype=np.intp)
+        for level in reversed(self.levels):
+            np.add.at(self.size, self.parent[level], self.size[level])
+        z = np.zeros(n, dtype=complex)
+        has_parent = self.parent >= 0
+        z[has_parent] = 1.0 / edge_y[self.edge[has_parent]]
+        self.z = z
+        yd = np.asarray(shunt_y, dtype=complex).copy()
+        contrib = np.zeros(n, dtype=complex)
+        for level in reversed(self.levels):
+            contrib[level] = yd[level] / (1.0 + z[level] * yd[level])
+            np.add.at(yd, self.parent[level], contrib[level])
+        yu = np.zeros(n, dtype=complex)
+        a = np.zeros(n, dtype=complex)
+        for level in self.levels:
+            p = self.parent[level]
+            a[level] = yd[p] + yu[p] - contrib[level]
+            yu[level] = a[level] / (1.0 + z[level] * a[level])
+        self.yd, self.yu, self.a, self.contrib = yd, yu, a, contrib
+        self.z_kk = 1.0 / (yd + yu)
+        self.up = 1.0 / (1.0 + z * a)
+        self.down = 1.0 / (1.0 + z * yd)
+
+    def in_subtree(self, root, nodes):
+        """Whether each of ``nodes`` lies in the subtree of ``root`` (element-wise) [-]."""
+        t = self.tin[nodes]
+        start = self.tin[root]
+        return (t >= start) & (t < start + self.size[root])
+
+    def downstream_currents(self, edge_nodes_mask, voltage_factor):
+        """Currents into a device's subtree for faults inside it.
+
+        Returns
+        -------
+        tuple of numpy.ndarray
+            Faulted bus, child node of the edge, current into the child [pu].
+        """
+        faults = np.arange(self.parent.size)
+        node = faults.copy()
+        drop = np.full(node.size, voltage_factor, dtype=complex)
+        out_k, out_node, out_i = [], [], []
+        while node.size:
+            live = self.parent[node] >= 0
+            faults, node, drop = faults[live], node[live], drop[live]
+            pick = edge_nodes_mask[node]
+            a, z = self.a[node[pick]], self.z[node[pick]]
+            out_k.append(faults[pick])
+            out_node.append(node[pick])
+            out_i.append(drop[pick] * a / (1.0 + z * a))
+            drop = drop * self.up[node]
+            node = self.parent[node]
+        return np.concatenate(out_k), np.concatenate(out_node), np.concatenate(out_i)
+
+    def columns(self, sources):
+        """Z[:, s] for each bus s in ``sources`` (N × len(sources)) [pu]."""
+        n, b = self.parent.size, len(sources)
+        cols = np.arange(b)
+        node = np.asarray(sources, dtype=np.intp)
+        value = self.z_kk[node].copy()
+        path = [(node, cols, value)]  # the sources and their ancestors, with their values
+        while cols.size:
+            live = self.parent[node] >= 0
+            node, value, cols = node[live], value[live], cols[live]
+            value = value * self.up[node]
+            node = self.parent[node]
+            path.append((node, cols, value))
+        path_node = np.concatenate([p[0] for p in path])
+        path_col = np.concatenate([p[1] for p in path])
+        path_value = np.concatenate([p[2] for p in path])
+        order = np.argsort(self.depth[path_node], kind="stable")
+        path_node, path_col, path_value = path_node[order], path_col[order], path_value[order]
+        bounds = np.searchsorted(self.depth[path_node], np.arange(self.depth.max() + 2))
+        v = np.empty((n, b), dtype=complex)
+        roots = self.levels_root
+        v[roots] = 0.0
+        at = slice(bounds[0], bounds[1])
+        v[path_node[at], path_col[at]] = path_value[at]
+        for depth, level in enumerate(self.levels, start=1):
+            v[level] = v[self.parent[level]] * self.down[level][:, None]
+            at = slice(bounds[depth], bounds[depth + 1])
+            v[path_node[at], path_col[at]] = path_value[at]
+        return v

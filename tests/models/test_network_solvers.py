@@ -1,0 +1,66 @@
+"""The radial (tree) solver against the general (sparse LU) solver on the same networks.
+
+Both implement the same superposition (common practice); on a radial network
+they must give the same Thevenin impedances and the same device currents.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+import arcflash
+import arcflash.models.network as network
+from arcflash.study.faults import build_network
+from tests.synthetic import synthetic_site
+
+DEMO = Path(__file__).resolve().parents[2] / "site_data" / "fenwick_ridge"
+
+
+def _solve(net, meshed, monkeypatch):
+    with monkeypatch.context() as patch:
+        if meshed:
+            patch.setattr(network, "_is_radial", lambda sub: False)
+        else:
+            def refuse(*args):
+                raise AssertionError("the general solver was used on a radial network")
+            patch.setattr(network, "_meshed", refuse)
+        return network.solve_faults(net.base_kv, net.branch_from, net.branch_to, net.branch_z_pu, net.shunt_bus,
+                                    net.shunt_z_pu, net.source_bus, net.device_branch, net.device_kv)
+
+
+def _sorted(solution):
+    key = solution.device_fault_bus.astype(np.int64) * 1_000_000 + solution.device
+    order = np.argsort(key)
+    return key[order], solution.device_current_ka[order]
+
+
+@pytest.mark.parametrize("source", ["demo", "synthetic"])
+def test_radial_equals_general(source, tmp_path, monkeypatch):
+    folder = DEMO if source == "demo" else synthetic_site(tmp_path / "s", 400, substation_size=100)
+    site = arcflash.load_site(folder)
+    net = build_network(site, site.scenario("normal"))
+    radial = _solve(net, False, monkeypatch)
+    general = _solve(net, True, monkeypatch)
+    live = radial.energized
+    np.testing.assert_allclose(radial.z_thevenin_pu[live], general.z_thevenin_pu[live], rtol=1e-7)
+    key_r, current_r = _sorted(radial)
+    key_g, current_g = _sorted(general)
+    np.testing.assert_array_equal(key_r, key_g)
+    np.testing.assert_allclose(current_r, current_g, rtol=1e-6)
+
+
+def test_parallel_branches_are_merged(monkeypatch):
+    # Two equal parallel branches between a source bus and a load bus: the radial solver merges
+    # them and gives each device half the edge current (arithmetic).
+    z = 0.1 + 0.5j
+    net = dict(base_kv=[13.8, 13.8], branch_from=[0, 0], branch_to=[1, 1], branch_z_pu=[z, z],
+               shunt_bus=[0], shunt_z_pu=[0.01 + 0.1j], source_bus=[0], device_branch=[0, 1],
+               device_kv=[13.8, 13.8])
+    solution = network.solve_faults(**net)
+    z_th = 1 / (1 / (0.01 + 0.1j)) + z / 2
+    assert solution.z_thevenin_pu[1] == pytest.approx(z_th, rel=1e-12)
+    at_1 = solution.device_fault_bus == 1
+    np.testing.assert_allclose(solution.device_share[at_1], [0.5, 0.5], rtol=1e-12)
