@@ -12,7 +12,7 @@ from __future__ import annotations
 import re
 from typing import Annotated, Literal
 
-from pydantic import BaseModel, ConfigDict, Field, field_validator, model_validator
+from pydantic import AfterValidator, BaseModel, ConfigDict, Field, field_validator, model_validator
 
 from ..models.conductors import CONDUITS, MATERIALS, SIZES, normalize_size
 from ..models.ieee1584_tables import CONFIGURATIONS, EQUIPMENT_CLASSES
@@ -54,6 +54,21 @@ def parse_quantity(text, kind):
 
 
 _EXAMPLES = {"length": "150 ft", "fault": "25 kA", "motor": "200 hp"}
+
+
+def _quantity_of(kind):
+    """A string field that must parse as a quantity of ``kind``."""
+
+    def check(value):
+        parse_quantity(value, kind)
+        return value
+
+    return Annotated[str, AfterValidator(check)]
+
+
+FaultQuantity = _quantity_of("fault")
+LengthQuantity = _quantity_of("length")
+MotorSize = _quantity_of("motor")
 
 
 class _Element(BaseModel):
@@ -104,14 +119,8 @@ class Bus(_Element):
 class SourceLevel(_Element):
     """Available three-phase fault current of a utility at one level."""
 
-    fault: str = Field(description="Available fault current or power, e.g. '25 kA' or '500 MVA'.")
+    fault: FaultQuantity = Field(description="Available fault current or power, e.g. '25 kA' or '500 MVA'.")
     x_over_r: Positive
-
-    @field_validator("fault")
-    @classmethod
-    def _fault(cls, value):
-        parse_quantity(value, "fault")
-        return value
 
 
 class Utility(_Element):
@@ -142,17 +151,11 @@ class Motor(_Element):
 
     id: Identifier
     bus: Identifier
-    size: str = Field(description="'200 hp' or '150 kVA'; 1 hp is taken as 1 kVA (common practice).")
+    size: MotorSize = Field(description="'200 hp' or '150 kVA'; 1 hp is taken as 1 kVA (common practice).")
     kv: Positive
     subtransient_reactance_percent: Positive = 16.7
     x_over_r: Positive = 10.0
     contributes: bool = True
-
-    @field_validator("size")
-    @classmethod
-    def _size(cls, value):
-        parse_quantity(value, "motor")
-        return value
 
 
 class ImpedanceTest(_Element):
@@ -190,19 +193,13 @@ class Cable(_Element):
     id: Identifier
     from_bus: Identifier
     to_bus: Identifier
-    length: str = Field(description="Route length, e.g. '150 ft' or '45 m'.")
+    length: LengthQuantity = Field(description="Route length, e.g. '150 ft' or '45 m'.")
     sets: Annotated[int, Field(ge=1, le=50)] = 1
     size: str | None = Field(None, description="Conductor size, AWG or kcmil, e.g. '4/0' or '500 kcmil'.")
     material: Literal[MATERIALS] | None = None  # type: ignore[valid-type]
     conduit: Literal[CONDUITS] | None = None  # type: ignore[valid-type]
     r_ohm_per_kft: NonNegative | None = None
     x_ohm_per_kft: NonNegative | None = None
-
-    @field_validator("length")
-    @classmethod
-    def _length(cls, value):
-        parse_quantity(value, "length")
-        return value
 
     @field_validator("size")
     @classmethod
