@@ -3,8 +3,8 @@
 A 13.8 kV service bus with a utility feeds unit substations (13.8/0.48 kV
 transformers); each substation's switchboard feeds a random radial tree of
 480 V buses through NEC Table 9 cables, with motors on some buses and a
-protective device at the source end of every cable and on every transformer
-secondary. With ``ties`` > 0, that many normally open ties join random pairs
+protective device at the source end of every cable (a trip unit or a
+thermal-magnetic breaker) and on every transformer secondary. With ``ties`` > 0, that many normally open ties join random pairs
 of 480 V buses of different substations, and the scenario ``ties-closed``
 closes them all (a meshed network).
 """
@@ -17,6 +17,10 @@ from pathlib import Path
 import numpy as np
 import yaml
 
+#: An invented 225 A thermal-magnetic breaker curve.
+SYNTHETIC_CURVE = {"id": "TM-225", "kind": "thermal-magnetic-breaker", "current_a": [290, 450, 900, 1500, 2250],
+                   "max_time_s": [1500, 300, 40, 12, 6], "min_time_s": [400, 80, 12, 4, 2],
+                   "instantaneous_a": 2250, "instantaneous_s": 0.025}
 _SIZES = ["500 kcmil", "350 kcmil", "4/0", "2/0", "1/0", "2", "4", "6"]
 
 
@@ -35,7 +39,8 @@ def synthetic_site(folder, n_buses, ties=0, seed=1, substation_size=200):
         buses.append((f"{sub}-SWBD", 0.48, "switchgear-lv"))
         transformers.append({"id": f"T{s}", "primary_bus": "MV", "secondary_bus": f"{sub}-SWBD", "kva": 2000,
                              "primary_kv": 13.8, "secondary_kv": 0.48, "z_percent": 5.75, "x_over_r": 8})
-        devices.append({"id": f"M{s}", "branch": f"T{s}", "at_bus": f"{sub}-SWBD", "kind": "trip-unit-breaker"})
+        devices.append({"id": f"M{s}", "branch": f"T{s}", "at_bus": f"{sub}-SWBD", "kind": "trip-unit-breaker",
+                        "trip_unit": {"rating_a": 3000, "short_time_pickup": 3.0, "short_time_delay_s": 0.3}})
         nodes = [f"{sub}-SWBD"]
         count = per_sub + (n_buses - 1 - n_sub - per_sub * n_sub if s == n_sub - 1 else 0)
         for k in range(count):
@@ -47,7 +52,14 @@ def synthetic_site(folder, n_buses, ties=0, seed=1, substation_size=200):
             cable = f"C{counter}"
             depth_size = _SIZES[min(len(_SIZES) - 1, int(rng.integers(0, len(_SIZES))))]
             cables.append([cable, parent, bus, f"{int(rng.integers(20, 300))} ft", 1, depth_size, "copper", "steel"])
-            devices.append({"id": f"D{counter}", "branch": cable, "at_bus": parent, "kind": "thermal-magnetic-breaker"})
+            if rng.random() < 0.5:
+                devices.append({"id": f"D{counter}", "branch": cable, "at_bus": parent,
+                                "kind": "thermal-magnetic-breaker", "curve": "TM-225"})
+            else:
+                devices.append({"id": f"D{counter}", "branch": cable, "at_bus": parent, "kind": "trip-unit-breaker",
+                                "trip_unit": {"rating_a": int(rng.choice([250, 400, 600, 800])),
+                                              "short_time_pickup": 6.0, "short_time_delay_s": 0.1,
+                                              "instantaneous_pickup": 10.0}})
             if kind.startswith("mcc") and rng.random() < 0.5:
                 motors.append({"id": f"MOT-{bus}", "bus": bus, "size": f"{int(rng.integers(10, 150))} hp", "kv": 0.46})
             nodes.append(bus)
@@ -70,6 +82,8 @@ def synthetic_site(folder, n_buses, ties=0, seed=1, substation_size=200):
         "motors": motors,
         "switches": switches,
         "scenarios": scenarios,
+        "curves": [SYNTHETIC_CURVE],
+        "devices": devices,
     }
     (folder / "site.yaml").write_text(yaml.safe_dump(document, sort_keys=False), encoding="utf-8")
     with open(folder / "buses.csv", "w", newline="", encoding="utf-8") as handle:
@@ -80,8 +94,4 @@ def synthetic_site(folder, n_buses, ties=0, seed=1, substation_size=200):
         writer = csv.writer(handle)
         writer.writerow(["id", "from_bus", "to_bus", "length", "sets", "size", "material", "conduit"])
         writer.writerows(cables)
-    with open(folder / "devices.csv", "w", newline="", encoding="utf-8") as handle:
-        writer = csv.DictWriter(handle, fieldnames=["id", "branch", "at_bus", "kind"])
-        writer.writeheader()
-        writer.writerows(devices)
     return folder

@@ -43,7 +43,7 @@ def cross_check(facility, elements, origin, invalid=frozenset()):
     buses = elements["buses"]
     owners = {}
     for section, items in elements.items():
-        if section in ("buses", "scenarios"):
+        if section in ("buses", "scenarios", "curves"):
             continue
         for ident in items:
             if ident in owners:
@@ -58,6 +58,7 @@ def cross_check(facility, elements, origin, invalid=frozenset()):
                     problems.append(_at(origin, section, ident, name, bus, "the id of a bus in 'buses'"))
     problems += _voltage_checks(elements, origin)
     problems += _device_checks(elements, origin, invalid)
+    problems += _protection_checks(elements, origin, invalid)
     problems += _scenario_checks(facility, elements, origin, invalid)
     if not problems and not invalid:
         problems += _island_checks(elements, origin)
@@ -134,12 +135,37 @@ def _device_checks(elements, origin, invalid):
     return problems
 
 
+def _protection_checks(elements, origin, invalid):
+    """Curves named by devices exist and suit them; maintenance and exclusions name devices."""
+    problems = []
+    curves, devices = elements["curves"], elements["devices"]
+    for ident, device in devices.items():
+        if device.curve is None or device.curve in invalid:
+            continue
+        if device.curve not in curves:
+            problems.append(_at(origin, "devices", ident, "curve", device.curve,
+                                "the id of a curve in a 'curves:' section or device-library file"))
+        elif curves[device.curve].kind != device.kind:
+            problems.append(_at(origin, "devices", ident, "curve", device.curve,
+                                f"a {device.kind} curve (this one is a {curves[device.curve].kind})"))
+    for name, scenario in elements["scenarios"].items():
+        for ident in scenario.maintenance_mode:
+            if ident in devices and not devices[ident].maintenance:
+                problems.append(_at(origin, "scenarios", name, "maintenance_mode", ident,
+                                    "a device with 'maintenance:' settings"))
+    for ident, bus in elements["buses"].items():
+        for device in bus.arc_not_cleared_by:
+            if device not in devices and device not in invalid:
+                problems.append(_at(origin, "buses", ident, "arc_not_cleared_by", device, "the id of a device"))
+    return problems
+
+
 def _scenario_checks(facility, elements, origin, invalid):
     problems = []
     lists = {
         "close": ("switches",), "open": ("switches",),
         "generators_running": ("generators",), "generators_stopped": ("generators",),
-        "utilities_off": ("utilities",), "motors_off": ("motors",),
+        "utilities_off": ("utilities",), "motors_off": ("motors",), "maintenance_mode": ("devices",),
     }
     for name, scenario in elements["scenarios"].items():
         for field, sections in lists.items():

@@ -38,6 +38,7 @@ class Site:
     impedances: dict
     switches: dict
     devices: dict
+    curves: dict
     scenarios: dict
     origin: dict = field(repr=False)
 
@@ -130,6 +131,27 @@ def _read_documents(files, problems):
     return items, facilities
 
 
+def _read_libraries(folder, names, problems):
+    """Items of device-library files: only 'curves:' sections."""
+    items = []
+    for name in names:
+        library = (folder / name).resolve()
+        if not library.is_file():
+            problems.append(Problem("(site)", None, "facility.device_library", name,
+                                    f"an existing device-library file (looked for {library})"))
+            continue
+        found, facilities = _read_documents([library], problems)
+        for file, section, item in found:
+            if section != "curves":
+                problems.append(Problem(file, getattr(item, "line", None), "section", section,
+                                        "only 'curves:' in a device-library file"))
+            else:
+                items.append((file, section, item))
+        if facilities:
+            problems.append(Problem(library.name, None, "facility", MISSING, "no 'facility:' in a device-library file"))
+    return items
+
+
 def _validate_facility(facilities, problems, unreadable):
     if not facilities and unreadable:
         return None  # the facility may be in the file that could not be read
@@ -170,6 +192,9 @@ def load_site(path):
     problems = []
     items, facilities = _read_documents(files, problems)
     facility = _validate_facility(facilities, problems, unreadable=bool(problems))
+    if facility is not None and facility.device_library:
+        items += _read_libraries(Path(path) if Path(path).is_dir() else Path(path).parent,
+                                 facility.device_library, problems)
     elements = {section: {} for section in SECTIONS}
     origin = {}
     invalid = set()  # ids of items already reported invalid: references to them are not reported again

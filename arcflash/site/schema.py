@@ -16,6 +16,7 @@ from pydantic import AfterValidator, BaseModel, ConfigDict, Field, field_validat
 
 from ..models.conductors import CONDUITS, MATERIALS, SIZES, normalize_size
 from ..models.ieee1584_tables import CONFIGURATIONS, EQUIPMENT_CLASSES
+from .protection import CurveIn, RelayIn, TripUnitIn, check_device_settings
 
 Positive = Annotated[float, Field(gt=0)]
 NonNegative = Annotated[float, Field(ge=0)]
@@ -86,7 +87,11 @@ class Facility(_Element):
         1.0, description="Prefault voltage c [pu]; 1.0 by default."
     )
     s_base_mva: Positive = 100.0
+    frequency_hz: Literal[50, 60] = 60
     default_scenario: str | None = None
+    arc_duration_cap_s: Positive | None = Field(
+        2.0, description="Longest arc duration considered (IEEE 1584-2018 guidance: 2 s); null for none.")
+    device_library: list[str] = Field([], description="Device-library YAML files (with 'curves:'), relative paths.")
 
 
 class Bus(_Element):
@@ -102,6 +107,8 @@ class Bus(_Element):
     height_mm: Positive | None = None
     width_mm: Positive | None = None
     depth_mm: Positive | None = None
+    arc_not_cleared_by: list[Identifier] = Field(
+        [], description="Devices that do not clear an arc here (e.g. the main, for its line side).")
 
     @field_validator("equipment_class")
     @classmethod
@@ -258,13 +265,21 @@ class Switch(_Element):
 
 
 class Device(_Element):
-    """Protective device on a branch, at one of its buses. Settings: next issue."""
+    """Protective device on a branch, at one of its buses, with its settings."""
 
     id: Identifier
     branch: Identifier = Field(description="Id of the transformer, cable, impedance or switch it protects.")
     at_bus: Identifier = Field(description="The branch's bus on the device's side.")
     kind: Literal["relay-breaker", "trip-unit-breaker", "thermal-magnetic-breaker", "fuse"] = "trip-unit-breaker"
-    settings: dict = Field(default_factory=dict, description="Reserved for curve settings.")
+    relay: RelayIn | None = None
+    trip_unit: TripUnitIn | None = None
+    curve: Identifier | None = Field(None, description="Id of a curve of the device library.")
+    maintenance: dict = Field(default_factory=dict,
+                              description="Alternate settings (a subset of relay or trip_unit fields).")
+
+    @model_validator(mode="after")
+    def _settings_match_kind(self):
+        return check_device_settings(self)
 
 
 class Scenario(_Element):
@@ -283,6 +298,7 @@ class Scenario(_Element):
     utilities_off: list[Identifier] = []
     motors: Literal["on", "off"] = "on"
     motors_off: list[Identifier] = []
+    maintenance_mode: list[Identifier] = Field([], description="Devices whose maintenance settings are on.")
 
 
 class SiteFile(_Element):
@@ -298,6 +314,7 @@ class SiteFile(_Element):
     impedances: list[Impedance] = []
     switches: list[Switch] = []
     devices: list[Device] = []
+    curves: list[CurveIn] = []
     scenarios: list[Scenario] = []
 
 
@@ -305,7 +322,7 @@ class SiteFile(_Element):
 SECTIONS = {
     "buses": Bus, "utilities": Utility, "generators": Generator, "motors": Motor,
     "transformers": Transformer, "cables": Cable, "impedances": Impedance, "switches": Switch,
-    "devices": Device, "scenarios": Scenario,
+    "devices": Device, "curves": CurveIn, "scenarios": Scenario,
 }
 
 

@@ -19,7 +19,9 @@ CHAIN = {
                       "secondary_kv": 0.48, "z_percent": 5.75, "x_over_r": 6, "z_tolerance_percent": 0}],
     "cables": [{"id": "C", "from_bus": "LV", "to_bus": "END", "length": "200 ft", "size": "4/0",
                 "material": "copper", "conduit": "steel"}],
-    "devices": [{"id": "CB-C", "branch": "C", "at_bus": "LV"}],
+    "devices": [{"id": "CB-C", "branch": "C", "at_bus": "LV", "kind": "trip-unit-breaker",
+                 "trip_unit": {"rating_a": 800, "short_time_pickup": 6.0, "short_time_delay_s": 0.1,
+                               "instantaneous_pickup": 10.0}}],
 }
 
 
