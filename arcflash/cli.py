@@ -96,6 +96,50 @@ def faults(site_dir, scenario, csv_path, devices_csv):
         click.echo(f"Device currents written to {devices_csv}")
 
 
+@main.command("tcc")
+@click.argument("site_dir", type=click.Path(file_okay=True, dir_okay=True))
+@click.argument("bus")
+@click.option("--scenario", default=None, help="Scenario name (default: the site's default scenario).")
+@click.option("--kv", "reference_kv", type=float, default=None, help="Refer currents to this kV (default: the bus's).")
+@click.option("--out", type=click.Path(dir_okay=False), required=True, help="Output file: .png, .svg or .pdf.")
+def tcc(site_dir, bus, scenario, reference_kv, out):
+    """Time-current plot of the devices protecting BUS, with its fault currents marked."""
+    from .output.tcc import tcc_figure
+
+    suffix = out.rsplit(".", 1)[-1].lower()
+    if suffix not in ("png", "svg", "pdf"):
+        raise click.UsageError(f"--out: expected a .png, .svg or .pdf file name, got {out!r}")
+    site = _load(site_dir)
+    if bus not in site.buses:
+        raise click.UsageError(f"unknown bus {bus!r}; the site has {len(site.buses)} buses, e.g. {next(iter(site.buses))}")
+    try:
+        figure = tcc_figure(site, bus, scenario, reference_kv)
+    except KeyError as exc:
+        raise click.UsageError(str(exc.args[0])) from None
+    write_atomic(out, lambda tmp: figure.savefig(tmp, format=suffix, dpi=150))
+    click.echo(f"TCC plot of {bus} written to {out}")
+
+
+@main.command("clearing")
+@click.argument("site_dir", type=click.Path(file_okay=True, dir_okay=True))
+@click.option("--scenario", default=None, help="Scenario name (default: the site's default scenario).")
+@click.option("--csv", "csv_path", type=click.Path(dir_okay=False), default=None, help="Write the table to CSV.")
+def clearing(site_dir, scenario, csv_path):
+    """Arcing currents, arc duration and governing device at every bus."""
+    from .output.text import clearing_report
+    from .study.clearing import clearing_table
+
+    site = _load(site_dir)
+    try:
+        table = clearing_table(site, scenario)
+    except KeyError as exc:
+        raise click.UsageError(str(exc.args[0])) from None
+    click.echo(clearing_report(site.facility.name, site.scenario(scenario).name, table))
+    if csv_path:
+        write_atomic(csv_path, lambda tmp: table.to_csv(tmp, float_format="%.6g"))
+        click.echo(f"Clearing table written to {csv_path}")
+
+
 @main.command("site-schema")
 @click.option("--out", type=click.Path(dir_okay=False), default=None, help="Write to this file instead of printing.")
 def site_schema(out):

@@ -267,9 +267,10 @@ def trip_unit_trip_time_s(current_a, unit, band="max"):
     """Trip time of an electronic trip unit on the ``band`` curve [s].
 
     Long time: t = LTD × (6 / M)², M = I/LTPU > 1 (I²t through the delay at
-    6 × pickup). Short time: above STPU × LTPU, the delay (or, with I²t, the
-    delay × (10/M)² but not less than the delay). Instantaneous: above the
-    pickup, ``instantaneous_s``. The ``max`` band raises every pickup and
+    6 × pickup). Short time: above STPU × LTPU the short-time region replaces
+    the long-time curve: the delay (or, with I²t, the delay × (10/M)² but not
+    less than the delay), never slower than the long-time curve at the
+    short-time pickup. Instantaneous: above the pickup, ``instantaneous_s``. The ``max`` band raises every pickup and
     delay by its tolerance (slowest clearing, the conservative curve for arc
     flash), ``min`` lowers them. Common practice for such trip units; the
     constants 6 and 10 are the usual reference multiples.
@@ -285,11 +286,15 @@ def trip_unit_trip_time_s(current_a, unit, band="max"):
     with np.errstate(divide="ignore"):
         t = np.where(m > 1.0, unit.long_time_delay_s * d * (6.0 / np.maximum(m, 1e-300)) ** 2, np.inf)
     if unit.short_time_pickup is not None:
+        # Above its pickup the short-time region replaces the long-time curve
+        # (the curve as drawn), never slower than the long-time curve there.
         above = m > unit.short_time_pickup
-        delay = unit.short_time_delay_s * d
+        at_pickup = unit.long_time_delay_s * d * (6.0 / unit.short_time_pickup) ** 2
+        delay = min(unit.short_time_delay_s * d, at_pickup)
+        st = delay
         if unit.short_time_i2t:
-            delay = np.maximum(delay, delay * (10.0 / np.maximum(m, 1e-300)) ** 2)
-        t = np.where(above, np.minimum(t, delay), t)
+            st = np.minimum(at_pickup, np.maximum(delay, delay * (10.0 / np.maximum(m, 1e-300)) ** 2))
+        t = np.where(above, st, t)
     if unit.instantaneous_pickup is not None:
         above = current > unit.instantaneous_pickup * unit.rating_a * p
         t = np.where(above, np.minimum(t, unit.instantaneous_s), t)

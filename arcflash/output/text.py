@@ -130,3 +130,34 @@ def fault_table(facility_name, scenario, buses):
     if off:
         lines += ["", f"De-energised in this scenario (no source reaches them): {', '.join(off)}"]
     return "\n".join(lines)
+
+
+def clearing_report(facility_name, scenario, table):
+    """Arc durations of one scenario as text (one line per bus, notes below).
+
+    Parameters
+    ----------
+    facility_name, scenario : str
+        Titles [-]
+    table : pandas.DataFrame
+        From :func:`arcflash.study.clearing.clearing_table`.
+
+    Returns
+    -------
+    str
+    """
+    lines = [f"Arcing-fault clearing - {facility_name} - scenario '{scenario}'", "",
+             f"  {'bus':<14}{'Iarc kA':>9}{'t (s)':>8}  {'governing':<12}{'Iarc,min kA':>12}{'t (s)':>8}  governing"]
+    for bus, row in table.iterrows():
+        if not row["energized"]:
+            lines.append(f"  {bus:<14}  de-energised")
+            continue
+        lines.append(
+            f"  {bus:<14}{row['arcing_current_ka']:>9.2f}{row['clearing_time_s']:>8.3f}  "
+            f"{str(row['governing_device'] or 'none'):<12}{row['reduced_arcing_current_ka']:>12.2f}"
+            f"{row['reduced_clearing_time_s']:>8.3f}  {row['reduced_governing_device'] or 'none'}"
+        )
+    noted = [(bus, note) for bus, note in table["clearing_notes"].items() if note]
+    if noted:
+        lines += ["", "Notes"] + [f"  {bus}: {note}" for bus, note in noted]
+    return "\n".join(lines)

@@ -1,0 +1,136 @@
+"""Clearing the arcing fault: source paths, fastest device per path, cap, flags.
+
+Expected times are worked by hand from the demo's (invented) settings and the
+device models: a trip unit's short-time delay on the max band is the delay
+x 1.15 (time tolerance), plus 3 cycles of breaker opening (IEEE 1584-2002
+Table 1, common practice); a relay's instantaneous element 16 ms plus 5 cycles.
+"""
+
+from __future__ import annotations
+
+import copy
+from pathlib import Path
+
+import numpy as np
+import pytest
+from click.testing import CliRunner
+
+import arcflash
+from arcflash.cli import main
+from arcflash.study.clearing import clearing_table
+from tests.site.helpers import CHAIN, write_site
+
+DEMO = Path(__file__).resolve().parents[2] / "site_data" / "fenwick_ridge"
+
+
+@pytest.fixture(scope="module")
+def demo():
+    return arcflash.load_site(DEMO)
+
+
+@pytest.fixture(scope="module")
+def normal(demo):
+    return clearing_table(demo, "normal")
+
+
+def test_lv_switchgear_cleared_by_its_main_short_time(normal):
+    # LVM-A: 3000 A, short-time pickup 3 x LTPU, 0.3 s. Max band: pickup 3 x 3000 x 1.1 = 9900 A,
+    # delay 0.3 x 1.15 = 0.345 s, + 3/60 s. The arcing current through it (share x I_arc) is above 9900 A.
+    row = normal.loc["SWG-A"]
+    assert row["governing_device"] == "LVM-A"
+    assert row["clearing_time_s"] == pytest.approx(0.3 * 1.15 + 3 / 60, rel=1e-12)
+    assert row["arcing_current_ka"] * 0.94 * 1000 > 9900
+
+
+def test_mv_feeder_relay_instantaneous(normal):
+    # 52-A: CT 200:5, instantaneous 40 A secondary = 1600 A primary; the arcing current (~16 kA) is above it:
+    # 0.016 s + 5 cycles at 60 Hz.
+    row = normal.loc["SS-A-PRI"]
+    assert row["governing_device"] == "52-A"
+    assert row["clearing_time_s"] == pytest.approx(0.016 + 5 / 60, rel=1e-12)
+
+
+def test_maintenance_mode_switches_alternate_setting(demo):
+    # Maintenance: LVM-A instantaneous at 2.5 x 3000 A (x 1.1 on the max band = 8250 A): 0 s + 3/60 s.
+    row = clearing_table(demo, "maintenance-a").loc["SWG-A"]
+    assert row["governing_device"] == "LVM-A"
+    assert row["clearing_time_s"] == pytest.approx(3 / 60, rel=1e-12)
+
+
+def test_source_bus_without_device_is_flagged_and_capped(normal):
+    row = normal.loc["MV-MAIN"]
+    assert row["no_device"] and row["governing_device"] is None
+    assert row["clearing_time_s"] == 2.0  # IEEE 1584-2018 guidance: 2 s cap (the demo's setting)
+    assert "no protective device between source UTIL-1" in row["clearing_notes"]
+
+
+def test_long_clearing_is_capped_and_flagged(normal):
+    row = normal.loc["PNL-C3"]
+    assert row["duration_capped"] and row["clearing_time_s"] == 2.0
+    assert "capped at 2 s" in row["clearing_notes"]
+
+
+def test_de_energised_bus_has_no_time(normal):
+    assert np.isnan(normal.loc["GEN-SWBD", "clearing_time_s"])
+
+
+def test_transformer_throat_cleared_by_primary_fuse(normal):
+    # TC-SEC sits between transformer T-C and its secondary main: only the primary fuse F-TC clears it.
+    assert normal.loc["TC-SEC", "governing_device"] == "F-TC"
+
+
+def test_generator_path(demo):
+    table = clearing_table(demo, "on-generator")
+    assert table.loc["SWG-C", "governing_device"] == "GEN-BKR-TU"
+    assert not table.loc["SWG-C", "meshed"]
+
+
+def _chain_with_main(tmp_path, arc_not_cleared_by=(), main_rating=3000):
+    doc = copy.deepcopy(CHAIN)
+    doc["buses"][1]["arc_not_cleared_by"] = list(arc_not_cleared_by)
+    doc["devices"] += [
+        {"id": "MAIN", "branch": "T", "at_bus": "LV", "kind": "trip-unit-breaker",
+         "trip_unit": {"rating_a": main_rating, "short_time_pickup": 2.0, "short_time_delay_s": 0.2}},
+        {"id": "PRI", "branch": "T", "at_bus": "MV", "kind": "relay-breaker",
+         "relay": {"ct_primary_a": 100, "pickup_a": 3.0, "curve": "very inverse", "time_dial": 1.0}},
+    ]
+    return arcflash.load_site(write_site(tmp_path / "chain", doc))
+
+
+def test_line_side_of_main_goes_to_next_device(tmp_path):
+    own = clearing_table(_chain_with_main(tmp_path / "a"))
+    assert own.loc["LV", "governing_device"] == "MAIN"
+    line_side = clearing_table(_chain_with_main(tmp_path / "b", arc_not_cleared_by=["MAIN"]))
+    assert line_side.loc["LV", "governing_device"] == "PRI"
+    assert line_side.loc["LV", "clearing_time_s"] > own.loc["LV", "clearing_time_s"]
+
+
+def test_device_that_does_not_trip_is_flagged(tmp_path):
+    # A 40,000 A main with no short-time or instantaneous element never trips on this ~20 kA fault,
+    # and the primary relay is excluded: no device interrupts the path.
+    site = _chain_with_main(tmp_path, arc_not_cleared_by=["PRI"], main_rating=40000)
+    row = clearing_table(site).loc["LV"]
+    assert row["no_trip"] and row["clearing_time_s"] == 2.0
+    assert "no device on the path trips" in row["clearing_notes"]
+
+
+@pytest.mark.parametrize("suffix", ["png", "svg", "pdf"])
+def test_tcc_command(tmp_path, suffix):
+    out = tmp_path / f"tcc.{suffix}"
+    result = CliRunner().invoke(main, ["tcc", str(DEMO), "SWG-A", "--out", str(out)])
+    assert result.exit_code == 0, result.output
+    assert out.stat().st_size > 1000
+
+
+def test_tcc_bad_requests_exit_2(tmp_path):
+    runner = CliRunner()
+    assert runner.invoke(main, ["tcc", str(DEMO), "SWG-A", "--out", str(tmp_path / "x.jpg")]).exit_code == 2
+    result = runner.invoke(main, ["tcc", str(DEMO), "NOWHERE", "--out", str(tmp_path / "x.png")])
+    assert result.exit_code == 2 and "unknown bus 'NOWHERE'" in result.output
+
+
+def test_clearing_command(tmp_path):
+    out = tmp_path / "clearing.csv"
+    result = CliRunner().invoke(main, ["clearing", str(DEMO), "--csv", str(out)])
+    assert result.exit_code == 0, result.output
+    assert "LVM-A" in result.output and out.exists()
