@@ -71,7 +71,7 @@ def synthetic_site(folder, n_buses, ties=0, seed=1, substation_size=200):
         y = lv_by_sub[b][int(rng.integers(0, len(lv_by_sub[b])))]
         if x != y:
             switches.append({"id": f"TIE{t}", "from_bus": x, "to_bus": y, "kind": "tie", "normally": "open"})
-    scenarios = [{"name": "normal"}]
+    scenarios = [{"name": "normal"}, {"name": "utility-min", "utility": "min"}]
     if switches:
         scenarios.append({"name": "ties-closed", "close": [s["id"] for s in switches]})
     document = {

@@ -187,24 +187,52 @@ class RelaySettings:
                 raise ValueError(f"{name}: expected a positive number, got {getattr(self, name)!r}")
 
 
-def relay_trip_time_s(current_a, relay):
-    """Relay operating time: the fastest of its elements; ``inf`` below every pickup [s]."""
+def relay_parameters(relays):
+    """Parameter arrays of several relays, for :func:`relay_clearing_time_batch_s`.
+
+    Both standards share one form, t = TD (A/(M^p − 1) + B): IEC 60255-151 is
+    A = k, p = α, B = 0. Definite-time stages are padded with NaN (never).
+    """
+    stages = max((len(r.definite_time) for r in relays), default=0)
+    constants = [IEEE_C37_112[r.curve] if r.standard == "IEEE C37.112" else (*IEC_60255_151[r.curve][:1], 0.0,
+                 IEC_60255_151[r.curve][1]) for r in relays]
+    pad = [list(r.definite_time) + [DefiniteTimeStage(np.nan, np.nan)] * (stages - len(r.definite_time))
+           for r in relays]
+    return {
+        "pickup_a": np.array([r.pickup_a for r in relays], dtype=float),
+        "a": np.array([c[0] for c in constants]), "b": np.array([c[1] for c in constants]),
+        "p": np.array([c[2] for c in constants]),
+        "time_dial": np.array([r.time_dial for r in relays], dtype=float),
+        "stage_a": np.array([[s.pickup_a for s in row] for row in pad], dtype=float).reshape(len(relays), stages),
+        "stage_s": np.array([[s.time_s for s in row] for row in pad], dtype=float).reshape(len(relays), stages),
+        "instantaneous_a": np.array([np.nan if r.instantaneous_a is None else r.instantaneous_a for r in relays]),
+        "instantaneous_s": np.array([r.instantaneous_s for r in relays], dtype=float),
+        "breaker_s": np.array([r.breaker_cycles / r.frequency_hz for r in relays], dtype=float),
+    }
+
+
+def relay_clearing_time_batch_s(current_a, parameters, which):
+    """Clearing times of many relays at once: current k goes through relay ``which[k]`` [s].
+
+    The fastest element operates (inverse time, definite-time stages,
+    instantaneous), plus the breaker opening time; ``inf`` below every pickup.
+    """
     current = _currents(current_a)
-    m = current / relay.pickup_a
-    if relay.standard == "IEEE C37.112":
-        t = ieee_c37_112_time_s(m, relay.time_dial, relay.curve)
-    else:
-        t = iec_60255_151_time_s(m, relay.time_dial, relay.curve)
-    for stage in relay.definite_time:
-        t = np.where(current > stage.pickup_a, np.minimum(t, stage.time_s), t)
-    if relay.instantaneous_a is not None:
-        t = np.where(current > relay.instantaneous_a, np.minimum(t, relay.instantaneous_s), t)
-    return t
+    par = {name: values[which] for name, values in parameters.items()}
+    m = current / par["pickup_a"]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t = par["time_dial"] * (par["a"] / (np.power(m, par["p"]) - 1.0) + par["b"])
+    t = np.where(m > 1.0, t, np.inf)
+    for stage in range(par["stage_a"].shape[-1] if par["stage_a"].ndim > 1 else 0):
+        t = np.where(current > par["stage_a"][..., stage], np.minimum(t, par["stage_s"][..., stage]), t)
+    t = np.where(current > par["instantaneous_a"], np.minimum(t, par["instantaneous_s"]), t)
+    return t + par["breaker_s"]
 
 
 def relay_clearing_time_s(current_a, relay):
     """Total clearing time: relay operating time plus breaker opening time [s]."""
-    return relay_trip_time_s(current_a, relay) + relay.breaker_cycles / relay.frequency_hz
+    current = _currents(current_a)
+    return relay_clearing_time_batch_s(current, relay_parameters([relay]), np.zeros(current.shape, dtype=np.intp))
 
 
 @dataclass(frozen=True)
@@ -263,47 +291,75 @@ class TripUnitSettings:
 _BAND = {"min": -1.0, "nominal": 0.0, "max": 1.0}
 
 
-def trip_unit_trip_time_s(current_a, unit, band="max"):
-    """Trip time of an electronic trip unit on the ``band`` curve [s].
+def trip_unit_parameters(units, frequency_hz=None):
+    """Parameter arrays of several trip units (NaN for an absent element).
 
-    Long time: t = LTD × (6 / M)², M = I/LTPU > 1 (I²t through the delay at
-    6 × pickup). Short time: above STPU × LTPU the short-time region replaces
-    the long-time curve: the delay (or, with I²t, the delay × (10/M)² but not
-    less than the delay), never slower than the long-time curve at the
-    short-time pickup. Instantaneous: above the pickup, ``instantaneous_s``. The ``max`` band raises every pickup and
-    delay by its tolerance (slowest clearing, the conservative curve for arc
-    flash), ``min`` lowers them. Common practice for such trip units; the
-    constants 6 and 10 are the usual reference multiples.
+    ``units`` are objects with the attributes of :class:`TripUnitSettings`;
+    ``frequency_hz`` applies to all when given (else each unit's own).
+    """
+    rows = [vars(u) for u in units]  # dataclasses and pydantic models keep their fields here
+
+    def column(name, absent=np.nan):
+        return np.array([absent if row[name] is None else row[name] for row in rows], dtype=float)
+
+    return {
+        "rating_a": column("rating_a"), "long_time_pickup": column("long_time_pickup"),
+        "long_time_delay_s": column("long_time_delay_s"), "short_time_pickup": column("short_time_pickup"),
+        "short_time_delay_s": column("short_time_delay_s"),
+        "short_time_i2t": np.array([row["short_time_i2t"] for row in rows], dtype=bool),
+        "instantaneous_pickup": column("instantaneous_pickup"), "instantaneous_s": column("instantaneous_s"),
+        "pickup_tolerance": column("pickup_tolerance"), "time_tolerance": column("time_tolerance"),
+        "breaker_s": np.array([row["breaker_cycles"] / (frequency_hz or row["frequency_hz"]) for row in rows]),
+    }
+
+
+def trip_unit_time_batch_s(current_a, parameters, which, band="max", clearing=True):
+    """Trip (or, with ``clearing``, clearing) times of many trip units at once [s].
+
+    Current k goes through trip unit ``which[k]``. Long time: t = LTD (6/M)²,
+    M = I/LTPU > 1 (I²t through the delay at 6 × pickup). Short time: above
+    STPU × LTPU the short-time region replaces the long-time curve: the delay
+    (or, with I²t, the delay (10/M)² but not less than the delay), never
+    slower than the long-time curve at the short-time pickup. Instantaneous:
+    above its pickup, ``instantaneous_s``. The ``max`` band raises every
+    pickup and delay by its tolerance (slowest: the conservative curve for arc
+    flash), ``min`` lowers them. Common practice for such trip units; 6 and 10
+    are the usual reference multiples.
     """
     if band not in _BAND:
         raise ValueError(f"band: expected 'min', 'nominal' or 'max', got {band!r}")
-    sign = _BAND[band]
-    p = 1.0 + sign * unit.pickup_tolerance
-    d = 1.0 + sign * unit.time_tolerance
     current = _currents(current_a)
-    ltpu = unit.long_time_pickup * unit.rating_a * p
-    m = current / ltpu
-    with np.errstate(divide="ignore"):
-        t = np.where(m > 1.0, unit.long_time_delay_s * d * (6.0 / np.maximum(m, 1e-300)) ** 2, np.inf)
-    if unit.short_time_pickup is not None:
-        # Above its pickup the short-time region replaces the long-time curve
-        # (the curve as drawn), never slower than the long-time curve there.
-        above = m > unit.short_time_pickup
-        at_pickup = unit.long_time_delay_s * d * (6.0 / unit.short_time_pickup) ** 2
-        delay = min(unit.short_time_delay_s * d, at_pickup)
-        st = delay
-        if unit.short_time_i2t:
-            st = np.minimum(at_pickup, np.maximum(delay, delay * (10.0 / np.maximum(m, 1e-300)) ** 2))
-        t = np.where(above, st, t)
-    if unit.instantaneous_pickup is not None:
-        above = current > unit.instantaneous_pickup * unit.rating_a * p
-        t = np.where(above, np.minimum(t, unit.instantaneous_s), t)
-    return t
+    par = {name: values[which] for name, values in parameters.items()}
+    sign = _BAND[band]
+    p = 1.0 + sign * par["pickup_tolerance"]
+    d = 1.0 + sign * par["time_tolerance"]
+    m = current / (par["long_time_pickup"] * par["rating_a"] * p)
+    safe_m = np.maximum(m, 1e-300)
+    t = np.where(m > 1.0, par["long_time_delay_s"] * d * (6.0 / safe_m) ** 2, np.inf)
+    stpu = par["short_time_pickup"]
+    with np.errstate(invalid="ignore"):
+        at_pickup = par["long_time_delay_s"] * d * (6.0 / stpu) ** 2
+        delay = np.minimum(par["short_time_delay_s"] * d, at_pickup)
+        ramp = np.minimum(at_pickup, np.maximum(delay, delay * (10.0 / safe_m) ** 2))
+        short = np.where(par["short_time_i2t"], ramp, delay)
+        t = np.where(m > stpu, short, t)  # NaN pickup: never
+        above = current > par["instantaneous_pickup"] * par["rating_a"] * p
+    t = np.where(above, np.minimum(t, par["instantaneous_s"]), t)
+    return t + par["breaker_s"] if clearing else t
+
+
+def trip_unit_trip_time_s(current_a, unit, band="max"):
+    """Trip time of one electronic trip unit on the ``band`` curve [s] (see :func:`trip_unit_time_batch_s`)."""
+    current = _currents(current_a)
+    return trip_unit_time_batch_s(current, trip_unit_parameters([unit]), np.zeros(current.shape, dtype=np.intp),
+                                  band, clearing=False)
 
 
 def trip_unit_clearing_time_s(current_a, unit, band="max"):
     """Trip time on the ``band`` curve plus breaker opening time [s]."""
-    return trip_unit_trip_time_s(current_a, unit, band) + unit.breaker_cycles / unit.frequency_hz
+    current = _currents(current_a)
+    return trip_unit_time_batch_s(current, trip_unit_parameters([unit]), np.zeros(current.shape, dtype=np.intp),
+                                  band)
 
 
 @dataclass(frozen=True)

@@ -37,8 +37,12 @@ from ..models.curves import (
     RelaySettings,
     TripUnitSettings,
     point_curve_time_s,
+    relay_clearing_time_batch_s,
     relay_clearing_time_s,
+    relay_parameters,
     trip_unit_clearing_time_s,
+    trip_unit_parameters,
+    trip_unit_time_batch_s,
 )
 
 #: A path whose devices all carry less than this share of the bolted current is negligible [-].
@@ -146,90 +150,204 @@ def _sources(site, scenario, net):
     return found
 
 
-def clearing_times(site, scenario, net, device_table, bolted_ka, arcing_ka, reduced_arcing_ka):
+class DeviceBank:
+    """Every device of a site in a scenario, as parameter arrays by kind.
+
+    Evaluates many (device, current) pairs in one call per kind of device
+    (and one per digitised curve), so that a whole facility's clearing times
+    take a few array operations.
+    """
+
+    def __init__(self, site, scenario, device_ids):
+        maintenance = set(scenario.maintenance_mode)
+        devices = [site.devices[d] for d in device_ids]
+        self.kind = np.array([2 if d.curve else (0 if d.relay is not None else 1) for d in devices], dtype=np.int8)
+        self.row = np.zeros(len(devices), dtype=np.intp)  # position within its kind's parameter arrays
+        for code in range(3):
+            self.row[self.kind == code] = np.arange(np.count_nonzero(self.kind == code))
+        relays = [device_curve(site, ident, ident in maintenance).settings
+                  for ident, d in zip(device_ids, devices) if d.relay is not None]
+        # Trip units straight from the validated site data (maintenance overrides applied).
+        units = [d.trip_unit.model_copy(update=d.maintenance) if ident in maintenance else d.trip_unit
+                 for ident, d in zip(device_ids, devices) if d.trip_unit is not None]
+        self.relays = relay_parameters(relays) if relays else None
+        self.units = trip_unit_parameters(units, site.facility.frequency_hz) if units else None
+        named = [d.curve for d in devices]
+        self.curve_names = sorted({name for name in named if name})
+        self.curves = {name: site.curves[name].to_model() for name in self.curve_names}
+        lookup = {name: k for k, name in enumerate(self.curve_names)}
+        self.point_curve = np.array([lookup[n] if n else -1 for n in named], dtype=np.intp)
+
+    def clearing_time_s(self, device, current_a):
+        """Clearing time of device ``device[k]`` at ``current_a[k]`` (max band) [s]."""
+        t = np.full(current_a.shape, np.inf)
+        kind = self.kind[device]
+        for code, evaluate in ((0, self._relays), (1, self._units)):
+            pick = kind == code
+            if pick.any():
+                t[pick] = evaluate(current_a[pick], self.row[device[pick]])
+        pick = np.flatnonzero(kind == 2)
+        which = self.point_curve[device[pick]]
+        for number, name in enumerate(self.curve_names):
+            rows = pick[which == number]
+            if rows.size:
+                t[rows] = point_curve_time_s(current_a[rows], self.curves[name], band="max")
+        return t
+
+    def _relays(self, current, rows):
+        return relay_clearing_time_batch_s(current, self.relays, rows)
+
+    def _units(self, current, rows):
+        return trip_unit_time_batch_s(current, self.units, rows, band="max")
+
+
+def _first_of_groups(keys, values):
+    """Index of the smallest value in each run of equal keys (keys sorted)."""
+    order = np.lexsort((values, keys))
+    first = np.ones(order.size, dtype=bool)
+    first[1:] = keys[order][1:] != keys[order][:-1]
+    return order[first]
+
+
+def _joined_notes(n, notes):
+    """Per-case text: the notes whose mask holds, joined by '; '."""
+    text = np.full(n, "", dtype=object)
+    for mask, note in notes:
+        if mask.any():
+            sep = np.where(text[mask] == "", "", "; ")
+            text[mask] = text[mask] + sep + note
+    return text
+
+
+@dataclass(frozen=True)
+class ClearingPaths:
+    """Everything about a scenario's source paths that does not depend on the arcing currents.
+
+    One row per (source, bus, device on the path): ``bus``, ``device``,
+    ``path`` (source × buses + bus), the device's bolted current ``device_ka``
+    and ``live`` (the path carries a non-negligible current); per bus
+    ``bolted_ka``, ``no_device``, ``energized``; ``notes`` and the device
+    bank.
+    """
+
+    bus_ids: list
+    device_ids: np.ndarray
+    bus: np.ndarray
+    device: np.ndarray
+    path: np.ndarray
+    device_ka: np.ndarray
+    live: np.ndarray
+    bolted_ka: np.ndarray
+    no_device: np.ndarray
+    energized: np.ndarray
+    meshed: bool
+    notes: list
+    bank: DeviceBank
+    cap_s: float | None
+
+
+def clearing_paths(site, scenario, faults):
+    """Source paths, device currents and device bank of a scenario (see :class:`ClearingPaths`)."""
+    net, solution = faults.net, faults.solution
+    n_bus, n_dev = len(net.bus_ids), len(net.device_ids)
+    sources = _sources(site, scenario, net)
+    bus_parts, dev_parts, src_parts, reached = [], [], [], np.zeros((len(sources), n_bus), dtype=bool)
+    meshed_any = False
+    for number, (_, bus) in enumerate(sources):
+        buses, devices, meshed, nodes = source_paths(net, bus)
+        meshed_any |= meshed
+        bus_parts.append(buses)
+        dev_parts.append(devices)
+        src_parts.append(np.full(buses.size, number, dtype=np.intp))
+        reached[number, nodes] = True
+    bus = np.concatenate(bus_parts) if bus_parts else np.array([], dtype=np.intp)
+    dev = np.concatenate(dev_parts) if dev_parts else np.array([], dtype=np.intp)
+    src = np.concatenate(src_parts) if src_parts else np.array([], dtype=np.intp)
+    bus_index = {b: i for i, b in enumerate(net.bus_ids)}
+    device_index = {d: i for i, d in enumerate(net.device_ids)}
+    excluded = {bus_index[b] * n_dev + device_index[d]
+                for b, item in site.buses.items() for d in item.arc_not_cleared_by if d in device_index}
+    if excluded:
+        keep = ~np.isin(bus * n_dev + dev, list(excluded))
+        bus, dev, src = bus[keep], dev[keep], src[keep]
+    # Bolted current through each device for a fault at each bus (0 below the table's threshold).
+    currents = sp.csr_matrix((solution.device_current_ka, (solution.device_fault_bus, solution.device)),
+                             shape=(n_bus, n_dev))
+    device_ka = np.asarray(currents[bus, dev]).ravel() if bus.size else np.zeros(0)
+    bolted = solution.bolted_ka
+    path = src * n_bus + bus
+    path_share = np.zeros(len(sources) * n_bus)
+    np.maximum.at(path_share, path, device_ka / bolted[bus])
+    has_device = np.zeros(len(sources) * n_bus, dtype=bool)
+    has_device[path] = True
+    bare = reached & ~has_device.reshape(len(sources), n_bus)  # a source reaches the bus through no device
+    return ClearingPaths(
+        bus_ids=net.bus_ids, device_ids=np.array(net.device_ids, dtype=object), bus=bus, device=dev,
+        path=path, device_ka=device_ka, live=path_share[path] >= NEGLIGIBLE_PATH_SHARE, bolted_ka=bolted,
+        no_device=bare.any(axis=0), energized=reached.any(axis=0), meshed=meshed_any,
+        notes=[(bare[number], f"no protective device between source {source} and this bus")
+               for number, (source, _) in enumerate(sources)],
+        bank=DeviceBank(site, scenario, net.device_ids), cap_s=site.facility.arc_duration_cap_s,
+    )
+
+
+def clearing_times(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None):
     """Arc duration and governing device at every bus, for both arcing cases.
 
     Parameters
     ----------
     site : Site
     scenario : Scenario
-    net : NetworkArrays
-        The scenario's network (:func:`arcflash.study.faults.build_network`).
-    device_table : pandas.DataFrame
-        Device currents per bus fault (``solve_scenario(...).devices``).
-    bolted_ka, arcing_ka, reduced_arcing_ka : pandas.Series
-        Per bus id: bolted fault current and the two arcing currents [kA].
+    faults : ScenarioFaults
+        The scenario's faults (:func:`arcflash.study.faults.solve_scenario`).
+    arcing_ka, reduced_arcing_ka : pandas.Series
+        Per bus id: the two arcing currents [kA].
+    paths : ClearingPaths, optional
+        From :func:`clearing_paths` (computed when not given).
 
     Returns
     -------
     pandas.DataFrame
         Indexed by bus id: ``clearing_time_s``, ``governing_device``,
-        ``reduced_clearing_time_s``, ``reduced_governing_device``,
-        ``duration_capped``, ``no_trip``, ``no_device``, ``meshed`` and
-        ``clearing_notes`` (text).
+        ``no_trip``, ``duration_capped`` and the same with ``reduced_``;
+        ``no_device``, ``meshed`` and ``clearing_notes`` (text).
     """
-    bus_ids = np.array(net.bus_ids, dtype=object)
-    device_ids = np.array(net.device_ids, dtype=object)
-    cap = site.facility.arc_duration_cap_s
-    parts, reached, meshed_any = [], [], False
-    for source, bus in _sources(site, scenario, net):
-        buses, devices, meshed, nodes = source_paths(net, bus)
-        meshed_any |= meshed
-        parts.append(pd.DataFrame({"bus": bus_ids[buses], "device": device_ids[devices], "source": source}))
-        reached.append(pd.DataFrame({"bus": bus_ids[nodes], "source": source}))
-    pairs = pd.concat(parts, ignore_index=True) if parts else pd.DataFrame(columns=["bus", "device", "source"])
-    excluded = {(b, d) for b, bus in site.buses.items() for d in bus.arc_not_cleared_by}
-    if excluded and len(pairs):
-        pairs = pairs[[(b, d) not in excluded for b, d in zip(pairs["bus"], pairs["device"])]]
-    currents = device_table.set_index(["fault_bus", "device"])["current_ka"]
-    key = pd.MultiIndex.from_arrays([pairs["bus"], pairs["device"]])
-    pairs = pairs.assign(device_ka=currents.reindex(key).fillna(0.0).to_numpy())
-    pairs["share"] = pairs["device_ka"].to_numpy() / bolted_ka.reindex(pairs["bus"]).to_numpy()
-    ratio = {"full": arcing_ka / bolted_ka, "reduced": reduced_arcing_ka / bolted_ka}
-    times = {case: np.full(len(pairs), np.inf) for case in ratio}
-    maintenance = set(scenario.maintenance_mode)
-    for device, rows in pairs.groupby("device").indices.items():
-        curve = device_curve(site, device, maintenance=device in maintenance)
-        for case, r in ratio.items():
-            amps = pairs["device_ka"].to_numpy()[rows] * r.reindex(pairs["bus"].to_numpy()[rows]).to_numpy() * 1000.0
-            times[case][rows] = curve.clearing_time_s(amps)
-    result = pd.DataFrame(index=pd.Index(net.bus_ids, name="bus"))
-    notes = {b: [] for b in net.bus_ids}
-    # A path with no device at all (the source's own bus included) is never interrupted.
-    reached_frame = pd.concat(reached, ignore_index=True) if reached else pd.DataFrame(columns=["bus", "source"])
-    with_devices = set(zip(pairs["bus"], pairs["source"]))
-    bare = {(b, src) for b, src in zip(reached_frame["bus"], reached_frame["source"]) if (b, src) not in with_devices}
-    no_device = result.index.isin([b for b, _ in bare])
-    result["no_device"] = no_device
-    for bus, source in sorted(bare):
-        notes[bus].append(f"no protective device between source {source} and this bus")
-    live = pairs.groupby(["bus", "source"])["share"].transform("max") >= NEGLIGIBLE_PATH_SHARE
-    for case, prefix in (("full", ""), ("reduced", "reduced_")):
-        frame = pairs.assign(time=times[case])[live.to_numpy()]
-        fastest = frame.sort_values("time", kind="stable").groupby(["bus", "source"], sort=False).first()
-        slowest_path = fastest.sort_values("time", ascending=False, kind="stable").groupby(level="bus").first()
-        duration = slowest_path["time"].reindex(result.index).to_numpy()
-        governing = slowest_path["device"].reindex(result.index).to_numpy()
-        energized = result.index.isin(reached_frame["bus"])
-        duration = np.where(no_device, np.inf, np.where(energized, duration, np.nan))
-        governing = np.where(no_device, None, governing)
-        no_trip = np.isinf(duration) & ~no_device
-        capped = (duration > cap) if cap is not None else np.zeros(len(result), bool)
+    paths = clearing_paths(site, scenario, faults) if paths is None else paths
+    n_bus, cap = len(paths.bus_ids), paths.cap_s
+    bus, dev, live = paths.bus, paths.device, paths.live
+    result = pd.DataFrame(index=pd.Index(paths.bus_ids, name="bus"))
+    notes = list(paths.notes)
+    result["no_device"] = paths.no_device
+    for case, prefix, arc in (("full", "", arcing_ka), ("reduced", "reduced_", reduced_arcing_ka)):
+        ratio = arc.reindex(paths.bus_ids).to_numpy(float) / paths.bolted_ka
+        time = paths.bank.clearing_time_s(dev, paths.device_ka * ratio[bus] * 1000.0)
+        duration = np.full(n_bus, np.nan)
+        governing = np.full(n_bus, None, dtype=object)
+        if live.any():
+            p, t, d, b = paths.path[live], time[live], dev[live], bus[live]
+            fastest = _first_of_groups(p, t)  # the fastest device of each path
+            slowest = _first_of_groups(b[fastest], -t[fastest])  # the slowest path of each bus
+            chosen = fastest[slowest]
+            duration[b[chosen]] = t[chosen]
+            governing[b[chosen]] = paths.device_ids[d[chosen]]
+        duration = np.where(paths.no_device, np.inf, duration)
+        duration = np.where(paths.energized, duration, np.nan)
+        governing = np.where(paths.no_device, None, governing)
+        no_trip = np.isinf(duration) & ~paths.no_device
+        capped = (duration > cap) if cap is not None else np.zeros(n_bus, bool)
         if cap is not None:
             duration = np.minimum(duration, cap)
         result[f"{prefix}clearing_time_s"] = duration
         result[f"{prefix}governing_device"] = governing
         result[f"{prefix}no_trip"] = no_trip
         result[f"{prefix}duration_capped"] = capped
-        for bus in result.index[no_trip]:
-            notes[bus].append(f"{case} arcing current: no device on the path trips")
-        for bus in result.index[capped]:
-            notes[bus].append(f"{case} arcing current: arc duration capped at {cap:g} s")
-    result["meshed"] = meshed_any
-    if meshed_any:
-        for bus in result.index:
-            notes[bus].append("meshed network: clearing followed along one path per source; check parallel paths")
-    result["clearing_notes"] = ["; ".join(notes[b]) for b in result.index]
+        notes.append((no_trip, f"{case} arcing current: no device on the path trips"))
+        if cap is not None:
+            notes.append((capped, f"{case} arcing current: arc duration capped at {cap:g} s"))
+    result["meshed"] = paths.meshed
+    notes.append((np.full(n_bus, paths.meshed),
+                  "meshed network: clearing followed along one path per source; check parallel paths"))
+    result["clearing_notes"] = _joined_notes(n_bus, notes)
     return result
 
 
@@ -243,12 +361,10 @@ def clearing_table(site, scenario=None):
         the columns of :func:`clearing_times`.
     """
     from .arcing import arcing_currents
-    from .faults import build_network, solve_scenario
+    from .faults import solve_scenario
 
     chosen = site.scenario(scenario)
     faults = solve_scenario(site, chosen.name)
     arcs = arcing_currents(site, faults.buses)
-    net = build_network(site, chosen)
-    times = clearing_times(site, chosen, net, faults.devices, faults.buses["bolted_ka"],
-                           arcs["arcing_current_ka"], arcs["reduced_arcing_current_ka"])
+    times = clearing_times(site, chosen, faults, arcs["arcing_current_ka"], arcs["reduced_arcing_current_ka"])
     return faults.buses.join(arcs).join(times)

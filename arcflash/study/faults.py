@@ -154,11 +154,13 @@ def build_network(site, scenario):
 
 @dataclass(frozen=True)
 class ScenarioFaults:
-    """Fault tables of one scenario."""
+    """Fault tables of one scenario, with the network and solution behind them."""
 
     scenario: str
     buses: pd.DataFrame
     devices: pd.DataFrame
+    net: NetworkArrays
+    solution: object
 
 
 def solve_scenario(site, scenario=None):
@@ -206,7 +208,7 @@ def solve_scenario(site, scenario=None):
             "to_bus": np.where(forward, ends_to, ends_from),
         }
     )
-    return ScenarioFaults(chosen.name, buses, devices)
+    return ScenarioFaults(chosen.name, buses, devices, net, solution)
 
 
 def bolted_faults(site, scenario=None):
