@@ -66,14 +66,14 @@ def tcc_figure(site, bus, scenario=None, reference_kv=None):
                 axes.plot([amps * device_kv / ref], [t], "o", color=line.get_color())
                 axes.annotate(f"{t:.3f} s", (amps * device_kv / ref, t), textcoords="offset points",
                               xytext=(6, 4), fontsize=8)
-    marks = [("bolted", faults.buses.loc[bus, "bolted_ka"], "-"),
-             ("arcing", arcs.loc[bus, "arcing_current_ka"], "--"),
-             ("reduced arcing", arcs.loc[bus, "reduced_arcing_current_ka"], ":")]
-    for label, ka, style in marks:
+    marks = [("bolted", faults.buses.loc[bus, "bolted_ka"], "-", 0.012),
+             ("arcing", arcs.loc[bus, "arcing_current_ka"], "--", 0.05),
+             ("reduced arcing", arcs.loc[bus, "reduced_arcing_current_ka"], ":", 0.2)]
+    for label, ka, style, height in marks:
         if np.isfinite(ka) and ka > 0:
             amps = ka * 1000.0 * bus_kv / ref
             axes.axvline(amps, color="0.3", linestyle=style, linewidth=1)
-            axes.text(amps, 0.012, f" {label} {ka:.2f} kA", rotation=90, fontsize=8, va="bottom")
+            axes.text(amps, height, f" {label} {ka:.2f} kA", rotation=90, fontsize=8, va="bottom", ha="right")
     axes.set_xscale("log")
     axes.set_yscale("log")
     axes.set_xlim(10, 1e6)

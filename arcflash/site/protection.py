@@ -47,7 +47,7 @@ class RelayIn(_Settings):
     def _known_curve(self):
         table = IEEE_C37_112 if self.standard == "IEEE C37.112" else IEC_60255_151
         if self.curve not in table:
-            raise ValueError(f"a {self.standard} curve: {', '.join(table)} (got {self.curve!r})")
+            raise ValueError(f"a curve of {self.standard}: {', '.join(table)} (got {self.curve!r})")
         return self
 
 
