@@ -59,6 +59,13 @@ def _currents(current_a):
     return current
 
 
+def _inverse_time(m, dial, a, b, p):
+    """t = dial (a/(m^p − 1) + b) for m > 1, inf otherwise: the form both standards share."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t = dial * (a / (np.power(m, p) - 1.0) + b)
+    return np.where(m > 1.0, t, np.inf)
+
+
 def ieee_c37_112_time_s(multiple, time_dial, curve):
     """Operating time of an IEEE C37.112 inverse-time element.
 
@@ -88,10 +95,7 @@ def ieee_c37_112_time_s(multiple, time_dial, curve):
     if curve not in IEEE_C37_112:
         raise ValueError(f"curve: expected one of {', '.join(IEEE_C37_112)}, got {curve!r}")
     a, b, p = IEEE_C37_112[curve]
-    m = np.asarray(multiple, dtype=float)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        t = time_dial * (a / (np.power(m, p) - 1.0) + b)
-    return np.where(m > 1.0, t, np.inf)
+    return _inverse_time(np.asarray(multiple, dtype=float), time_dial, a, b, p)
 
 
 def iec_60255_151_time_s(multiple, tms, curve):
@@ -126,10 +130,7 @@ def iec_60255_151_time_s(multiple, tms, curve):
     if curve not in IEC_60255_151:
         raise ValueError(f"curve: expected one of {', '.join(IEC_60255_151)}, got {curve!r}")
     k, alpha = IEC_60255_151[curve]
-    m = np.asarray(multiple, dtype=float)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        t = tms * k / (np.power(m, alpha) - 1.0)
-    return np.where(m > 1.0, t, np.inf)
+    return _inverse_time(np.asarray(multiple, dtype=float), tms, k, 0.0, alpha)
 
 
 @dataclass(frozen=True)
@@ -219,10 +220,7 @@ def relay_clearing_time_batch_s(current_a, parameters, which):
     """
     current = _currents(current_a)
     par = {name: values[which] for name, values in parameters.items()}
-    m = current / par["pickup_a"]
-    with np.errstate(divide="ignore", invalid="ignore"):
-        t = par["time_dial"] * (par["a"] / (np.power(m, par["p"]) - 1.0) + par["b"])
-    t = np.where(m > 1.0, t, np.inf)
+    t = _inverse_time(current / par["pickup_a"], par["time_dial"], par["a"], par["b"], par["p"])
     for stage in range(par["stage_a"].shape[-1] if par["stage_a"].ndim > 1 else 0):
         t = np.where(current > par["stage_a"][..., stage], np.minimum(t, par["stage_s"][..., stage]), t)
     t = np.where(current > par["instantaneous_a"], np.minimum(t, par["instantaneous_s"]), t)
