@@ -19,8 +19,9 @@ contribution decays within a few cycles; common practice).
   IEEE 1584-2018 guidance), flagged; so does any duration above the cap.
 - Scenario ``maintenance_mode`` switches on a device's maintenance settings.
 
-The paths are those of a radial network; in a meshed network one path per
-source is followed (a breadth-first spanning tree) and the bus is flagged.
+In a meshed network (up to SEQUENTIAL_OPENING_MAX_BUSES buses) devices open
+in the order of their clearing times until no source reaches the bus; larger
+meshed networks follow one path per source and are flagged.
 """
 
 from __future__ import annotations
@@ -291,6 +292,54 @@ def clearing_paths(site, scenario, faults):
     )
 
 
+#: Largest meshed network cleared by sequential opening; larger ones follow one path per source.
+SEQUENTIAL_OPENING_MAX_BUSES = 2000
+
+
+def _sequential_opening(faults, paths, ratio, sources_bus):
+    """Arc duration in a meshed network: open devices in time order until no source reaches the bus.
+
+    Candidates are the devices carrying at least 1 % of the bus fault current,
+    each timed at its share of the arcing current as the fault begins (the
+    redistribution after an opening is not followed: the remaining devices
+    usually see more current and clear sooner, so this errs long).
+
+    Returns
+    -------
+    tuple of numpy.ndarray
+        Duration [s] (inf where never cleared) and governing device index (-1).
+    """
+    net, solution = faults.net, faults.solution
+    n = len(net.bus_ids)
+    duration = np.full(n, np.nan)
+    governing = np.full(n, -1, dtype=np.intp)
+    share = solution.device_share
+    rows = np.flatnonzero(share >= NEGLIGIBLE_PATH_SHARE)
+    bus, dev = solution.device_fault_bus[rows], solution.device[rows]
+    amps = solution.device_current_ka[rows] * ratio[bus] * 1000.0
+    times = paths.bank.clearing_time_s(dev, amps)
+    branch_of = net.device_branch[dev]
+    order = np.lexsort((times, bus))
+    bounds = np.searchsorted(bus[order], np.arange(n + 1))
+    edges = np.arange(net.branch_from.size)
+    for k in np.flatnonzero(paths.energized):
+        opened = set()
+        result_t, result_d = np.inf, -1
+        for r in order[bounds[k]:bounds[k + 1]]:
+            if not np.isfinite(times[r]):
+                break
+            opened.add(int(branch_of[r]))
+            keep = ~np.isin(edges, list(opened))
+            graph = sp.coo_matrix((np.ones(keep.sum()), (net.branch_from[keep], net.branch_to[keep])),
+                                  shape=(n, n)).tocsr()
+            reached = breadth_first_order(graph, k, directed=False, return_predecessors=False)
+            if not np.isin(sources_bus, reached).any():
+                result_t, result_d = times[r], dev[r]
+                break
+        duration[k], governing[k] = result_t, result_d
+    return duration, governing
+
+
 def clearing_times(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None):
     """Arc duration and governing device at every bus, for both arcing cases.
 
@@ -330,6 +379,11 @@ def clearing_times(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=N
             chosen = fastest[slowest]
             duration[b[chosen]] = t[chosen]
             governing[b[chosen]] = paths.device_ids[d[chosen]]
+        if paths.meshed and n_bus <= SEQUENTIAL_OPENING_MAX_BUSES:
+            sources_bus = np.array([b for _, b in _sources(site, scenario, faults.net)], dtype=np.intp)
+            meshed_t, meshed_d = _sequential_opening(faults, paths, ratio, sources_bus)
+            duration = np.where(paths.energized, meshed_t, np.nan)
+            governing = np.where(meshed_d >= 0, paths.device_ids[np.maximum(meshed_d, 0)], None)
         duration = np.where(paths.no_device, np.inf, duration)
         duration = np.where(paths.energized, duration, np.nan)
         governing = np.where(paths.no_device, None, governing)
@@ -345,8 +399,12 @@ def clearing_times(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=N
         if cap is not None:
             notes.append((capped, f"{case} arcing current: arc duration capped at {cap:g} s"))
     result["meshed"] = paths.meshed
-    notes.append((np.full(n_bus, paths.meshed),
-                  "meshed network: clearing followed along one path per source; check parallel paths"))
+    if paths.meshed and n_bus <= SEQUENTIAL_OPENING_MAX_BUSES:
+        notes.append((np.full(n_bus, True), "meshed network: devices opened in time order until no source "
+                                            "reaches the bus (current redistribution not followed)"))
+    else:
+        notes.append((np.full(n_bus, paths.meshed),
+                      "meshed network: clearing followed along one path per source; check parallel paths"))
     result["clearing_notes"] = _joined_notes(n_bus, notes)
     return result
 

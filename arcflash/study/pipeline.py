@@ -1,0 +1,172 @@
+"""The facility study: every scenario, both arcing cases, the governing case per bus.
+
+For each scenario: bolted faults (:mod:`.faults`), arcing currents and
+equipment geometry (:mod:`.arcing`), arc durations and governing devices
+(:mod:`.clearing`), then incident energy and arc-flash boundary by
+IEEE 1584-2018 with those durations, PPE by NFPA 70E, and the flags. The
+governing row of a bus is its largest incident energy over scenarios and
+arcing cases.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from ..models import ieee1584, nfpa70e
+from ..models.units import j_cm2_to_cal_cm2
+from .arcing import arcing_currents, equipment_table
+from .clearing import clearing_paths, clearing_times
+from .faults import solve_scenario
+
+#: IEEE 1584-2018 (clause 4.2 note): at 240 V or less with a bolted current under 2 kA
+#: a sustained arc is less likely; results are still reported.
+LOW_VOLTAGE_NOTE_KV, LOW_CURRENT_NOTE_KA = 0.24, 2.0
+
+
+@dataclass(frozen=True)
+class StudyResults:
+    """All rows (bus × scenario) and the governing row of each bus."""
+
+    rows: pd.DataFrame
+    governing: pd.DataFrame
+
+
+def _scenario_rows(site, scenario, equipment):
+    faults = solve_scenario(site, scenario.name)
+    buses = faults.buses
+    arcs = arcing_currents(site, buses, equipment)
+    paths = clearing_paths(site, scenario, faults)
+    times = clearing_times(site, scenario, faults, arcs["arcing_current_ka"], arcs["reduced_arcing_current_ka"],
+                           paths)
+    table = buses.join(arcs).join(times).join(equipment)
+    live = table.index[table["energized"] & (table["bolted_ka"] > 0)]
+    for column in ("incident_energy_cal_cm2", "reduced_incident_energy_cal_cm2", "arc_flash_boundary_mm",
+                   "reduced_arc_flash_boundary_mm"):
+        table[column] = np.nan
+    table["model_range"] = ""
+    if len(live):
+        eq = table.loc[live]
+        r = ieee1584.evaluate(
+            eq["nominal_kv"].to_numpy(float), eq["bolted_ka"].to_numpy(float), eq["gap_mm"].to_numpy(float),
+            eq["working_distance_mm"].to_numpy(float), eq["clearing_time_s"].to_numpy(float),
+            eq["reduced_clearing_time_s"].to_numpy(float), eq["config"].to_numpy(str),
+            eq["height_mm"].to_numpy(float), eq["width_mm"].to_numpy(float), eq["depth_mm"].to_numpy(float),
+        )
+        table.loc[live, "incident_energy_cal_cm2"] = j_cm2_to_cal_cm2(r.incident_energy_j_cm2)
+        table.loc[live, "reduced_incident_energy_cal_cm2"] = j_cm2_to_cal_cm2(r.reduced_incident_energy_j_cm2)
+        table.loc[live, "arc_flash_boundary_mm"] = r.arc_flash_boundary_mm
+        table.loc[live, "reduced_arc_flash_boundary_mm"] = r.reduced_arc_flash_boundary_mm
+        table.loc[live, "model_range"] = r.out_of_range_reason
+    return table
+
+
+def _finish(table):
+    """Governing arcing case of each row, PPE, shock boundaries and flags."""
+    reduced = table["reduced_incident_energy_cal_cm2"] > table["incident_energy_cal_cm2"]
+    table["governing_case"] = np.where(table["energized"], np.where(reduced, "reduced", "full"), "")
+    table["incident_energy_governing_cal_cm2"] = np.where(
+        reduced, table["reduced_incident_energy_cal_cm2"], table["incident_energy_cal_cm2"])
+    table["arc_flash_boundary_governing_mm"] = np.where(
+        reduced, table["reduced_arc_flash_boundary_mm"], table["arc_flash_boundary_mm"])
+    table["clearing_time_governing_s"] = np.where(reduced, table["reduced_clearing_time_s"], table["clearing_time_s"])
+    table["device_governing"] = np.where(reduced, table["reduced_governing_device"], table["governing_device"])
+    energy = table["incident_energy_governing_cal_cm2"].to_numpy(float)
+    table["ppe_category"] = np.where(np.isfinite(energy), nfpa70e.ppe_category(np.nan_to_num(energy)), -2)
+    table["minimum_arc_rating_cal_cm2"] = nfpa70e.minimum_arc_rating_cal_cm2(energy)
+    shock = nfpa70e.shock_boundaries(table["nominal_kv"].to_numpy(float))
+    table["limited_approach_movable_mm"] = shock["limited_movable_mm"]
+    table["limited_approach_fixed_mm"] = shock["limited_fixed_mm"]
+    table["restricted_approach_mm"] = shock["restricted_mm"]
+    flags = []
+    for row in table.itertuples():
+        parts = []
+        if not row.energized:
+            parts.append("de-energised in this scenario")
+        else:
+            if row.model_range:
+                parts.append(f"outside the range of IEEE 1584-2018: {row.model_range}")
+            if row.clearing_notes:
+                parts.append(row.clearing_notes)
+            if row.nominal_kv <= LOW_VOLTAGE_NOTE_KV and row.bolted_ka < LOW_CURRENT_NOTE_KA:
+                parts.append("240 V or less with under 2 kA bolted: a sustained arc is less likely "
+                             "(IEEE 1584-2018); results reported")
+            if row.incident_energy_governing_cal_cm2 > nfpa70e.NO_CATEGORY_ABOVE_CAL_CM2:
+                parts.append("above 40 cal/cm2: no PPE category applies; de-energize before work")
+            if row.geometry_note:
+                parts.append(row.geometry_note)
+        flags.append("; ".join(parts))
+    table["flags"] = flags
+    return table
+
+
+def study_rows(site, progress=None):
+    """Every bus in every scenario (one row each), with the governing arcing case.
+
+    Parameters
+    ----------
+    site : Site
+    progress : callable, optional
+        Called with each scenario name as it is done.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Columns with units in their names; ``bus`` and ``scenario`` first.
+    """
+    equipment = equipment_table(site)
+    parts = []
+    for scenario in site.scenarios.values():
+        table = _scenario_rows(site, scenario, equipment)
+        parts.append(table.reset_index())
+        if progress:
+            progress(scenario.name)
+    rows = _finish(pd.concat(parts, ignore_index=True))
+    first = ["bus", "scenario"]
+    return rows[first + [c for c in rows.columns if c not in first]]
+
+
+def governing_rows(rows):
+    """The governing row of each bus: its largest incident energy over scenarios and cases.
+
+    A bus de-energised in every scenario keeps one row, flagged.
+    """
+    energy = rows["incident_energy_governing_cal_cm2"].fillna(-1.0)
+    order = np.lexsort((-energy.to_numpy(), rows["bus"].to_numpy()))
+    ranked = rows.iloc[order]
+    governing = ranked.drop_duplicates("bus", keep="first").set_index("bus")
+    return governing.reindex(pd.unique(rows["bus"]))
+
+
+def run_study(site, out_dir=None, progress=None, report=True, tcc_buses=None):
+    """Run the facility study; write results and report when ``out_dir`` is given.
+
+    Parameters
+    ----------
+    site : Site
+        From :func:`arcflash.load_site`.
+    out_dir : str or pathlib.Path, optional
+        Folder for ``results.csv``, ``governing.csv``, ``results.xlsx`` and
+        ``report.pdf``.
+    progress : callable, optional
+        Called with each scenario name as it is done.
+    report : bool
+        Write the PDF report too (with ``out_dir``).
+    tcc_buses : list of str, optional
+        Buses that get a TCC page in the report (default: the three with the
+        highest energy).
+
+    Returns
+    -------
+    StudyResults
+        ``rows`` (every bus × scenario) and ``governing`` (one row per bus).
+    """
+    rows = study_rows(site, progress)
+    results = StudyResults(rows=rows, governing=governing_rows(rows))
+    if out_dir is not None:
+        from ..output.results import write_results
+
+        write_results(site, results, out_dir, report=report, tcc_buses=tcc_buses)
+    return results
