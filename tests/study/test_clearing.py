@@ -134,3 +134,13 @@ def test_clearing_command(tmp_path):
     result = CliRunner().invoke(main, ["clearing", str(DEMO), "--csv", str(out)])
     assert result.exit_code == 0, result.output
     assert "LVM-A" in result.output and out.exists()
+
+
+def test_meshed_network_opens_devices_in_time_order(demo, normal):
+    # With the tie closed, an arc on substation A's primary is still fed through the tie and both
+    # transformers after its feeder relay opens: the duration can only be longer than in the radial
+    # normal state, and the meshed method is stated.
+    tied = clearing_table(demo, "tie-closed")
+    assert tied.loc["SS-A-PRI", "clearing_time_s"] >= normal.loc["SS-A-PRI", "clearing_time_s"]
+    assert "devices opened in time order" in tied.loc["SWG-A", "clearing_notes"]
+    assert tied["meshed"].all()
