@@ -9,6 +9,7 @@ import click
 
 from .errors import SiteDataError
 from .models.errors import ModelRangeError
+from .output.cautions import CAUTION
 from .models.ieee1584_tables import CONFIGURATIONS, EQUIPMENT_CLASSES
 from .output.files import write_atomic
 from .output.text import equipment_report, fault_table
@@ -138,6 +139,36 @@ def clearing(site_dir, scenario, csv_path):
     if csv_path:
         write_atomic(csv_path, lambda tmp: table.to_csv(tmp, float_format="%.6g"))
         click.echo(f"Clearing table written to {csv_path}")
+
+
+@main.command("study")
+@click.argument("site_dir", type=click.Path(file_okay=True, dir_okay=True))
+@click.option("--out", "out_dir", type=click.Path(file_okay=False), required=True,
+              help="Folder for results.csv, governing.csv, results.xlsx and report.pdf.")
+@click.option("--tcc-bus", "tcc_buses", multiple=True, help="Bus with a TCC page in the report (repeatable).")
+@click.option("--no-report", is_flag=True, help="Write the result tables only.")
+@click.option("--quiet", is_flag=True, help="No progress bar.")
+def study(site_dir, out_dir, tcc_buses, no_report, quiet):
+    """Run the facility study: every scenario, both arcing cases, the governing case per bus."""
+    from .study.pipeline import run_study
+
+    site = _load(site_dir)
+    unknown = [b for b in tcc_buses if b not in site.buses]
+    if unknown:
+        raise click.UsageError(f"--tcc-bus: unknown bus {unknown[0]!r}")
+    with click.progressbar(length=len(site.scenarios), label="Scenarios", file=sys.stderr,
+                           hidden=quiet) as bar:
+        results = run_study(site, out_dir, progress=lambda name: bar.update(1), report=not no_report,
+                            tcc_buses=list(tcc_buses) or None)
+    governing = results.governing
+    worst = governing["incident_energy_governing_cal_cm2"].idxmax()
+    flagged = int((governing["flags"] != "").sum())
+    click.echo(f"Study of {site.facility.name}: {len(governing)} buses, {len(site.scenarios)} scenarios.")
+    click.echo(f"Highest incident energy: {governing.loc[worst, 'incident_energy_governing_cal_cm2']:.1f} cal/cm2 "
+               f"at {worst} ({governing.loc[worst, 'scenario']}); {flagged} buses flagged.")
+    files = ["results.csv", "governing.csv", "results.xlsx"] + ([] if no_report else ["report.pdf"])
+    click.echo(f"Results in {out_dir}: " + ", ".join(files))
+    click.echo(CAUTION)
 
 
 @main.command("site-schema")

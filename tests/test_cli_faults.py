@@ -28,7 +28,7 @@ def test_fault_table_and_csv(tmp_path):
     assert len(table) == 34 and set(table.columns) >= {"nominal_kv", "bolted_ka", "x_over_r", "energized"}
     shares = pd.read_csv(devices)
     assert set(shares.columns) == {"fault_bus", "device", "branch", "current_ka", "share", "from_bus", "to_bus"}
-    assert not list(tmp_path.glob(".*.part"))  # no temporary files left
+    assert not list(tmp_path.glob(".*.part*"))  # no temporary files left
 
 
 def test_scenario_with_de_energised_buses():

@@ -22,10 +22,13 @@ def write_atomic(path, write):
     """
     path = Path(path)
     path.parent.mkdir(parents=True, exist_ok=True)
-    handle, temporary = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
+    handle, temporary = tempfile.mkstemp(prefix=f".{path.stem}.", suffix=f".part{path.suffix}", dir=path.parent)
     os.close(handle)
     try:
         write(temporary)
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(temporary, 0o666 & ~umask)  # mkstemp makes the file private; give it the usual mode
         os.replace(temporary, path)
     except BaseException:
         if os.path.exists(temporary):

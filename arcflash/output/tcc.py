@@ -82,6 +82,10 @@ def tcc_figure(site, bus, scenario=None, reference_kv=None):
     axes.set_xlabel(f"Current [A] referred to {ref:g} kV")
     axes.set_ylabel("Clearing time [s]")
     axes.set_title(f"{bus} - scenario '{chosen.name}' - devices on its source paths", fontsize=10)
-    axes.legend(fontsize=8, loc="upper right")
+    if axes.get_legend_handles_labels()[0]:
+        axes.legend(fontsize=8, loc="upper right")
+    else:
+        axes.text(0.5, 0.5, "no protective device on the source paths of this bus", transform=axes.transAxes,
+                  ha="center", fontsize=9)
     figure.tight_layout()
     return figure
