@@ -21,6 +21,7 @@ branch or a shunt source:
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 import pandas as pd
@@ -152,15 +153,39 @@ def build_network(site, scenario):
     )
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class ScenarioFaults:
-    """Fault tables of one scenario, with the network and solution behind them."""
+    """Fault tables of one scenario, with the network and solution behind them.
+
+    ``devices`` (a table with names) is built on first access: studies work
+    from the solution's arrays and need not hold millions of name strings.
+    """
 
     scenario: str
     buses: pd.DataFrame
-    devices: pd.DataFrame
     net: NetworkArrays
     solution: object
+
+    @cached_property
+    def devices(self):
+        """Device currents per bus fault: ``fault_bus``, ``device``, ``branch``, ``current_ka``,
+        ``share``, ``from_bus``, ``to_bus`` (the direction of the current)."""
+        net, solution = self.net, self.solution
+        ids = np.array(net.bus_ids, dtype=object)
+        branch = net.device_branch[solution.device]
+        forward = solution.device_direction > 0
+        ends_from, ends_to = ids[net.branch_from[branch]], ids[net.branch_to[branch]]
+        return pd.DataFrame(
+            {
+                "fault_bus": ids[solution.device_fault_bus],
+                "device": np.array(net.device_ids, dtype=object)[solution.device],
+                "branch": np.array(net.branch_ids, dtype=object)[branch],
+                "current_ka": solution.device_current_ka,
+                "share": solution.device_share,
+                "from_bus": np.where(forward, ends_from, ends_to),
+                "to_bus": np.where(forward, ends_to, ends_from),
+            }
+        )
 
 
 def solve_scenario(site, scenario=None):
@@ -193,22 +218,7 @@ def solve_scenario(site, scenario=None):
         index=pd.Index(net.bus_ids, name="bus"),
     )
     buses["scenario"] = chosen.name
-    ids = np.array(net.bus_ids, dtype=object)
-    branch = net.device_branch[solution.device]
-    forward = solution.device_direction > 0
-    ends_from, ends_to = ids[net.branch_from[branch]], ids[net.branch_to[branch]]
-    devices = pd.DataFrame(
-        {
-            "fault_bus": ids[solution.device_fault_bus],
-            "device": np.array(net.device_ids, dtype=object)[solution.device],
-            "branch": np.array(net.branch_ids, dtype=object)[branch],
-            "current_ka": solution.device_current_ka,
-            "share": solution.device_share,
-            "from_bus": np.where(forward, ends_from, ends_to),
-            "to_bus": np.where(forward, ends_to, ends_from),
-        }
-    )
-    return ScenarioFaults(chosen.name, buses, devices, net, solution)
+    return ScenarioFaults(chosen.name, buses, net, solution)
 
 
 def bolted_faults(site, scenario=None):
