@@ -52,13 +52,24 @@ class _Pieces(list):
     """Several table pieces that stand in a story as one flowable list."""
 
 
+#: Tables longer than this use plain text cells (no wrapping), which build far faster.
+_PLAIN_ABOVE_ROWS = 200
+_PLAIN_STYLE = TableStyle([("FONTSIZE", (0, 0), (-1, -1), 6.5), ("LEADING", (0, 0), (-1, -1), 8),
+                           ("BOTTOMPADDING", (0, 0), (-1, -1), 1), ("TOPPADDING", (0, 0), (-1, -1), 1)])
+
+
 def _table(header, rows, widths=None):
+    plain = len(rows) > _PLAIN_ABOVE_ROWS
+    cell = (lambda c: str(c)) if plain else _p
     head = [_p(h) for h in header]
     pieces = _Pieces()
-    for lo in range(0, max(len(rows), 1), _ROWS_PER_PIECE):
-        data = [head] + [[_p(c) for c in row] for row in rows[lo:lo + _ROWS_PER_PIECE]]
+    per_piece = _ROWS_PER_PIECE * (2 if plain else 1)
+    for lo in range(0, max(len(rows), 1), per_piece):
+        data = [head] + [[cell(c) for c in row] for row in rows[lo:lo + per_piece]]
         table = Table(data, colWidths=widths, repeatRows=1)
         table.setStyle(_TABLE_STYLE)
+        if plain:
+            table.setStyle(_PLAIN_STYLE)
         pieces.append(table)
     return pieces
 

@@ -43,7 +43,8 @@ def write_results(site, results, out_dir, report=True, tcc_buses=None):
     write_atomic(paths["governing.csv"], lambda tmp: governing.to_csv(tmp, float_format="%.6g"))
 
     def xlsx(tmp):
-        with pd.ExcelWriter(tmp, engine="openpyxl") as writer:
+        # Write-only workbook: rows stream out instead of a cell object per value held in memory.
+        with pd.ExcelWriter(tmp, engine="openpyxl", engine_kwargs={"write_only": True}) as writer:
             governing.to_excel(writer, sheet_name="governing")
             results.rows.to_excel(writer, sheet_name="all rows", index=False)
             pd.DataFrame({"caution": [CAUTION]}).to_excel(writer, sheet_name="caution", index=False)
