@@ -26,6 +26,25 @@ def governing_table(results):
     return table
 
 
+def _cell(value):
+    if value is None or (isinstance(value, float) and value != value):
+        return None  # NaN: an empty cell
+    return value.item() if hasattr(value, "item") else value
+
+
+def _write_xlsx(path, sheets):
+    """A workbook written row by row (openpyxl write-only: no cell objects held in memory)."""
+    from openpyxl import Workbook
+
+    book = Workbook(write_only=True)
+    for name, frame in sheets:
+        sheet = book.create_sheet(name)
+        sheet.append([str(c) for c in frame.columns])
+        for row in frame.itertuples(index=False, name=None):
+            sheet.append([_cell(v) for v in row])
+    book.save(path)
+
+
 def write_results(site, results, out_dir, report=True, tcc_buses=None):
     """Write ``results.csv`` (every bus × scenario), ``governing.csv``, ``results.xlsx`` and ``report.pdf``.
 
@@ -42,14 +61,9 @@ def write_results(site, results, out_dir, report=True, tcc_buses=None):
     write_atomic(paths["results.csv"], lambda tmp: results.rows.to_csv(tmp, index=False, float_format="%.6g"))
     write_atomic(paths["governing.csv"], lambda tmp: governing.to_csv(tmp, float_format="%.6g"))
 
-    def xlsx(tmp):
-        # Write-only workbook: rows stream out instead of a cell object per value held in memory.
-        with pd.ExcelWriter(tmp, engine="openpyxl", engine_kwargs={"write_only": True}) as writer:
-            governing.to_excel(writer, sheet_name="governing")
-            results.rows.to_excel(writer, sheet_name="all rows", index=False)
-            pd.DataFrame({"caution": [CAUTION]}).to_excel(writer, sheet_name="caution", index=False)
-
-    write_atomic(paths["results.xlsx"], xlsx)
+    sheets = [("governing", governing.reset_index()), ("all rows", results.rows),
+              ("caution", pd.DataFrame({"caution": [CAUTION]}))]
+    write_atomic(paths["results.xlsx"], lambda tmp: _write_xlsx(tmp, sheets))
     if report:
         from .report import write_report
 
