@@ -1,0 +1,184 @@
+"""Equipment labels: their content (NFPA 70E 130.5(H)) and their PDF (layouts from label_layouts/).
+
+The content of a label is data (:class:`LabelContent`) with a stable hash, so
+that a label in the field can be checked against what the study says now.
+A label shows the incident energy with its working distance **or** the PPE
+category, never both (the facility chooses, ``facility.label_shows``).
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import hashlib
+import json
+import re
+from dataclasses import asdict, dataclass
+from pathlib import Path
+
+import numpy as np
+import yaml
+
+from ..models.nfpa70e import shock_boundary_text
+from ..models.units import mm_to_feet_inches
+
+#: Energies at or above this get the DANGER panel (common practice; no PPE category applies) [cal/cm²].
+DANGER_FROM_CAL_CM2 = 40.0
+#: Data behind a label are reviewed at intervals not over 5 years (NFPA 70E 130.5) [years].
+REVIEW_YEARS = 5
+LAYOUT_DIR = Path(__file__).resolve().parents[2] / "label_layouts"
+
+
+@dataclass(frozen=True)
+class LabelContent:
+    """Everything printed on one label (text, units included)."""
+
+    equipment_id: str
+    description: str
+    signal_word: str
+    hazard: str
+    nominal_voltage: str
+    arc_flash_boundary: str
+    shows: str
+    energy_or_category: str
+    minimum_arc_rating: str
+    site_ppe: str
+    limited_approach: str
+    restricted_approach: str
+    governing_device: str
+    study_revision: str
+    study_date: str
+    review_by: str
+    flags: str
+
+    @property
+    def content_hash(self):
+        """First 16 hex digits of the SHA-256 of the content (stable across runs)."""
+        text = json.dumps(asdict(self), sort_keys=True, ensure_ascii=False)
+        return hashlib.sha256(text.encode("utf-8")).hexdigest()[:16]
+
+    @property
+    def qr_payload(self):
+        """What the QR code holds: equipment id, study revision and content hash."""
+        return f"arcflash-label|{self.equipment_id}|{self.study_revision}|{self.content_hash}"
+
+
+def _length(mm):
+    if mm is None or not np.isfinite(mm):
+        return "not computed"
+    feet, inches = mm_to_feet_inches(mm)
+    return f"{int(feet)} ft {int(inches)} in ({np.ceil(mm / 100.0 - 1e-9) / 10.0:.1f} m)"
+
+
+def _voltage(kv):
+    return f"{kv * 1000:g} V" if kv < 1 else f"{kv:g} kV"
+
+
+def _review_by(study_date):
+    try:
+        start = dt.date.fromisoformat(study_date)
+    except (TypeError, ValueError):
+        start = dt.date.today()
+    try:
+        return start.replace(year=start.year + REVIEW_YEARS).isoformat()
+    except ValueError:  # 29 February
+        return start.replace(year=start.year + REVIEW_YEARS, day=28).isoformat()
+
+
+def label_content(site, bus, row, shows="energy"):
+    """The label of one bus from its governing study row.
+
+    Parameters
+    ----------
+    site : Site
+    bus : str
+        Bus id.
+    row : pandas.Series
+        The bus's governing row (``run_study(...).governing.loc[bus]``).
+    shows : str
+        'energy' (incident energy and working distance) or 'category' (PPE
+        category): never both on one label.
+    """
+    if shows not in ("energy", "category"):
+        raise ValueError(f"shows: expected 'energy' or 'category', got {shows!r}")
+    f = site.facility
+    energy = float(row["incident_energy_governing_cal_cm2"])
+    shock = shock_boundary_text(float(row["nominal_kv"]))
+    known = np.isfinite(energy)
+    danger = known and energy >= DANGER_FROM_CAL_CM2
+    if danger:
+        hazard = "ENERGIZED WORK NOT PERMITTED. De-energize and verify absence of voltage before any work."
+        shown = "No PPE category applies (above 40 cal/cm2)"
+    elif not known:
+        hazard = "Arc-flash hazard not computed for this equipment: treat as energized and dangerous."
+        shown = "not computed"
+    else:
+        hazard = "Arc-flash and shock hazard. Qualified persons only, with the PPE below."
+        if shows == "energy":
+            distance = float(row["working_distance_mm"])
+            shown = f"{energy:.1f} cal/cm2 at {_length(distance)}"
+        else:
+            category = int(row["ppe_category"])
+            shown = "below 1.2 cal/cm2" if category == 0 else f"PPE category {category}"
+        if energy < 1.2:
+            shown += " (below 1.2 cal/cm2)" if shows == "energy" else ""
+    return LabelContent(
+        equipment_id=str(bus),
+        description=site.buses[bus].description,
+        signal_word="DANGER" if danger or not known else "WARNING",
+        hazard=hazard,
+        nominal_voltage=_voltage(float(row["nominal_kv"])),
+        arc_flash_boundary=_length(float(row["arc_flash_boundary_governing_mm"])),
+        shows=shows,
+        energy_or_category=shown,
+        minimum_arc_rating="not applicable" if danger or not known else f"{float(row['minimum_arc_rating_cal_cm2']):.1f} cal/cm2",
+        site_ppe=getattr(f, "site_ppe", "") or "",
+        limited_approach=f"{shock['limited_fixed']} fixed parts; {shock['limited_movable']} movable conductors",
+        restricted_approach=shock["restricted"],
+        governing_device=str(row["device_governing"] or "none"),
+        study_revision=f.study_revision,
+        study_date=f.study_date or "",
+        review_by=_review_by(f.study_date),
+        flags=str(row["flags"] or ""),
+    )
+
+
+_UNIT = {"in": 72.0, "mm": 72.0 / 25.4}
+
+
+def _points(value):
+    match = re.fullmatch(r"\s*([\d.]+)\s*(in|mm)\s*", str(value))
+    if not match:
+        raise ValueError(f"expected a length with a unit ('4 in', '100 mm'), got {value!r}")
+    return float(match.group(1)) * _UNIT[match.group(2)]
+
+
+@dataclass(frozen=True)
+class LabelLayout:
+    """A label layout read from label_layouts/ (sizes in points)."""
+
+    name: str
+    page_width: float
+    page_height: float
+    margin: float
+    across: int
+    down: int
+    gutter: float
+    blocks: tuple
+
+
+def load_layout(name_or_path):
+    """A layout by name (a file in label_layouts/) or path."""
+    path = Path(name_or_path)
+    if not path.suffix:
+        path = LAYOUT_DIR / f"{name_or_path}.yaml"
+    data = yaml.safe_load(path.read_text(encoding="utf-8"))
+    return LabelLayout(
+        name=data["name"], page_width=_points(data["page"]["width"]), page_height=_points(data["page"]["height"]),
+        margin=_points(data["margin"]), across=int(data["labels_across"]), down=int(data["labels_down"]),
+        gutter=_points(data.get("gutter", "0 in")), blocks=tuple(data["blocks"]),
+    )
+
+
+def layout_names():
+    """Names of the shipped layouts."""
+    return sorted(p.stem for p in LAYOUT_DIR.glob("*.yaml"))
