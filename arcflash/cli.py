@@ -171,6 +171,57 @@ def study(site_dir, out_dir, tcc_buses, no_report, quiet):
     click.echo(CAUTION)
 
 
+@main.group("labels")
+def labels():
+    """Equipment labels: print them, and check which ones in the field are stale."""
+
+
+@labels.command("print")
+@click.argument("site_dir", type=click.Path(file_okay=True, dir_okay=True))
+@click.option("--out", "out_dir", type=click.Path(file_okay=False), required=True, help="Folder for the PDFs.")
+@click.option("--bus", "buses", multiple=True, help="Only this bus (repeatable).")
+@click.option("--changed-only", is_flag=True, help="Only labels whose content changed since last issued.")
+@click.option("--layout", default="label-4x6", help="Layout of the single labels (see label_layouts/).")
+@click.option("--sheet", default="sheet-letter-2x2", help="Layout of the combined sheet.")
+@click.option("--issued-by", default=None, help="Name recorded in the ledger.")
+def labels_print(site_dir, out_dir, buses, changed_only, layout, sheet, issued_by):
+    """Print labels from a fresh study and record them in the site's ledger."""
+    from .output.labels import issue_labels, layout_names
+    from .study.pipeline import run_study
+
+    for name in (layout, sheet):
+        if name not in layout_names():
+            raise click.UsageError(f"unknown layout {name!r}; expected one of {', '.join(layout_names())}")
+    site = _load(site_dir)
+    governing = run_study(site).governing
+    try:
+        printed = issue_labels(site, governing, out_dir, layout, sheet, list(buses), changed_only, issued_by)
+    except KeyError as exc:
+        raise click.UsageError(str(exc.args[0])) from None
+    click.echo(f"{len(printed)} labels printed to {out_dir} and recorded in the ledger.")
+    for content in printed:
+        click.echo(f"  {content.equipment_id}  {content.signal_word}  {content.energy_or_category}")
+    click.echo(CAUTION)
+
+
+@labels.command("status")
+@click.argument("site_dir", type=click.Path(file_okay=True, dir_okay=True))
+def labels_status(site_dir):
+    """Which labels are current, changed since issued, never issued or due for review."""
+    from .output import ledger
+    from .output.labels import label_content
+    from .study.pipeline import run_study
+
+    site = _load(site_dir)
+    governing = run_study(site).governing
+    contents = [label_content(site, bus, governing.loc[bus]) for bus in governing.index]
+    states = ledger.status(ledger.ledger_path(site.path), contents)
+    for bus, state in states.items():
+        click.echo(f"  {bus:<20}{state}")
+    counts = {s: list(states.values()).count(s) for s in dict.fromkeys(states.values())}
+    click.echo("; ".join(f"{n} {s}" for s, n in counts.items()))
+
+
 @main.command("site-schema")
 @click.option("--out", type=click.Path(dir_okay=False), default=None, help="Write to this file instead of printing.")
 def site_schema(out):

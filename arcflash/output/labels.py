@@ -84,7 +84,7 @@ def _review_by(study_date):
         return start.replace(year=start.year + REVIEW_YEARS, day=28).isoformat()
 
 
-def label_content(site, bus, row, shows="energy"):
+def label_content(site, bus, row, shows=None):
     """The label of one bus from its governing study row.
 
     Parameters
@@ -94,10 +94,11 @@ def label_content(site, bus, row, shows="energy"):
         Bus id.
     row : pandas.Series
         The bus's governing row (``run_study(...).governing.loc[bus]``).
-    shows : str
+    shows : str, optional
         'energy' (incident energy and working distance) or 'category' (PPE
-        category): never both on one label.
+        category): never both on one label. Default: ``facility.label_shows``.
     """
+    shows = shows or site.facility.label_shows
     if shows not in ("energy", "category"):
         raise ValueError(f"shows: expected 'energy' or 'category', got {shows!r}")
     f = site.facility
@@ -182,3 +183,57 @@ def load_layout(name_or_path):
 def layout_names():
     """Names of the shipped layouts."""
     return sorted(p.stem for p in LAYOUT_DIR.glob("*.yaml"))
+
+
+def safe_file_name(equipment_id, digest):
+    """A file name for a label that cannot leave its folder, unique by the content hash."""
+    stem = re.sub(r"[^A-Za-z0-9._-]+", "_", str(equipment_id)).strip("._")[:80] or "equipment"
+    return f"{stem}-{digest[:8]}.pdf"
+
+
+def issue_labels(site, governing, out_dir, layout="label-4x6", sheet="sheet-letter-2x2", buses=None,
+                 changed_only=False, issued_by=None):
+    """Print labels (one PDF each and a combined sheet) and record them in the ledger.
+
+    Parameters
+    ----------
+    site : Site
+    governing : pandas.DataFrame
+        Governing rows of a study (``run_study(site).governing``).
+    out_dir : path
+        Folder for ``labels/<equipment>-<hash>.pdf`` and ``labels-sheet.pdf``.
+    layout, sheet : str
+        Layout names for the single labels and the combined sheet.
+    buses : list of str, optional
+        Only these buses (KeyError naming an unknown one).
+    changed_only : bool
+        Only labels whose content differs from the last issued (or never issued).
+    issued_by : str, optional
+
+    Returns
+    -------
+    list of LabelContent
+        The labels printed.
+    """
+    from . import ledger
+    from .files import write_atomic
+    from .label_pdf import write_labels_pdf
+
+    chosen = list(governing.index) if not buses else list(buses)
+    unknown = [b for b in chosen if b not in governing.index]
+    if unknown:
+        raise KeyError(f"unknown bus {unknown[0]!r}")
+    contents = [label_content(site, bus, governing.loc[bus]) for bus in chosen]
+    book = ledger.ledger_path(site.path)
+    if changed_only:
+        states = ledger.status(book, contents)
+        contents = [c for c in contents if states[c.equipment_id] != "current"]
+    single, combined = load_layout(layout), load_layout(sheet)
+    folder = Path(out_dir) / "labels"
+    for content in contents:
+        target = folder / safe_file_name(content.equipment_id, content.content_hash)
+        write_atomic(target, lambda tmp, c=content: write_labels_pdf([c], single, tmp))
+    if contents:
+        write_atomic(Path(out_dir) / "labels-sheet.pdf", lambda tmp: write_labels_pdf(contents, combined, tmp))
+        ledger.record(book, contents, single.name, issued_by)
+    return contents

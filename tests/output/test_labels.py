@@ -5,6 +5,8 @@ from __future__ import annotations
 from pathlib import Path
 
 import pytest
+from hypothesis import given
+from hypothesis import strategies as st
 from pypdf import PdfReader
 
 import arcflash
@@ -86,3 +88,46 @@ def test_layout_page_sizes(study, tmp_path, name, size_pt):
     assert float(page.mediabox.height) == pytest.approx(size_pt[1], abs=0.05)
     per_page = layout.across * layout.down
     assert len(PdfReader(path).pages) == -(-len(contents) // per_page)
+
+
+def _render_png(pdf, tmp_path):
+    import shutil as _shutil
+    import subprocess
+
+    if _shutil.which("pdftoppm") is None:
+        pytest.skip("pdftoppm (Debian package poppler-utils) is not installed; .ci/run installs it")
+    stem = tmp_path / "page"
+    subprocess.run(["pdftoppm", "-r", "50", "-png", "-f", "1", "-l", "1", str(pdf), str(stem)], check=True)
+    return next(tmp_path.glob("page*.png"))
+
+
+@pytest.mark.parametrize("name", ["label-4x6", "label-4x4", "label-100x150", "sheet-letter-2x2", "sheet-a4-2x2"])
+def test_rendered_layout_has_signal_colour(study, tmp_path, name):
+    import matplotlib.image as mpimg
+    import numpy as np
+
+    site, governing = study
+    layout = load_layout(name)
+    for bus, colour in (("SWG-A", (0xFF, 0x79, 0x00)), ("TC-SEC", (0xC8, 0x10, 0x2E))):
+        folder = tmp_path / bus
+        folder.mkdir()
+        pdf = folder / "label.pdf"
+        write_labels_pdf([label_content(site, bus, governing.loc[bus])], layout, pdf)
+        image = mpimg.imread(_render_png(pdf, folder))
+        rgb = (image[..., :3] * 255).round().astype(int)
+        # Pages rendered at 50 dpi: the page size in pixels follows the layout's size in points.
+        assert rgb.shape[1] == pytest.approx(layout.page_width / 72 * 50, abs=1.5)
+        assert rgb.shape[0] == pytest.approx(layout.page_height / 72 * 50, abs=1.5)
+        # The signal-word panel's colour (ANSI Z535.4 panel: WARNING orange, DANGER red) is present.
+        close = (np.abs(rgb - np.array(colour)).sum(axis=-1) < 40).mean()
+        assert close > 0.01, (bus, close)
+
+
+@given(energy=st.floats(0.05, 120.0), distance=st.floats(305.0, 1500.0))
+def test_content_hash_stable_for_unchanged_input(study, energy, distance):
+    site, governing = study
+    row = governing.loc["SWG-A"].copy()
+    row["incident_energy_governing_cal_cm2"] = energy
+    row["working_distance_mm"] = distance
+    first = label_content(site, "SWG-A", row).content_hash
+    assert all(label_content(site, "SWG-A", row.copy()).content_hash == first for _ in range(3))

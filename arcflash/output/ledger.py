@@ -1,0 +1,106 @@
+"""The label ledger: which label was issued for which equipment, when, with what content (SQLite).
+
+One file beside the site data (``label-ledger.sqlite``). Every issue of a
+batch of labels is one transaction: an interrupted run leaves the ledger as
+it was.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import json
+import sqlite3
+from dataclasses import asdict
+from pathlib import Path
+
+LEDGER_NAME = "label-ledger.sqlite"
+
+_SCHEMA = """
+CREATE TABLE IF NOT EXISTS issued (
+    id INTEGER PRIMARY KEY AUTOINCREMENT,
+    equipment_id TEXT NOT NULL,
+    study_revision TEXT NOT NULL,
+    content_hash TEXT NOT NULL,
+    content TEXT NOT NULL,
+    issued_at TEXT NOT NULL,
+    layout TEXT NOT NULL,
+    issued_by TEXT
+);
+CREATE INDEX IF NOT EXISTS issued_equipment ON issued (equipment_id, id);
+"""
+
+
+def ledger_path(site_dir):
+    """The ledger file of a site folder."""
+    folder = Path(site_dir)
+    return (folder if folder.is_dir() else folder.parent) / LEDGER_NAME
+
+
+def connect(path):
+    """Open (creating if needed) a ledger."""
+    connection = sqlite3.connect(str(path))
+    connection.executescript(_SCHEMA)
+    return connection
+
+
+def record(path, contents, layout, issued_by=None, when=None):
+    """Record a batch of issued labels in one transaction."""
+    stamp = (when or dt.datetime.now(dt.timezone.utc)).isoformat(timespec="seconds")
+    connection = connect(path)
+    try:
+        with connection:
+            connection.executemany(
+                "INSERT INTO issued (equipment_id, study_revision, content_hash, content, issued_at, layout, issued_by)"
+                " VALUES (?, ?, ?, ?, ?, ?, ?)",
+                [(c.equipment_id, c.study_revision, c.content_hash, json.dumps(asdict(c), ensure_ascii=False), stamp,
+                  layout, issued_by) for c in contents],
+            )
+    finally:
+        connection.close()
+
+
+def latest(path):
+    """The last issued label of each equipment: {equipment_id: (content_hash, issued_at, review_by)}."""
+    if not Path(path).exists():
+        return {}
+    connection = connect(path)
+    try:
+        rows = connection.execute(
+            "SELECT equipment_id, content_hash, issued_at, content FROM issued WHERE id IN "
+            "(SELECT MAX(id) FROM issued GROUP BY equipment_id)"
+        ).fetchall()
+    finally:
+        connection.close()
+    return {r[0]: (r[1], r[2], json.loads(r[3]).get("review_by", "")) for r in rows}
+
+
+def status(path, contents, today=None):
+    """Status of each label: 'current', 'changed since issued', 'never issued' or 'review overdue'.
+
+    Parameters
+    ----------
+    path : ledger file
+    contents : list of LabelContent
+        What the labels say now.
+    today : datetime.date, optional
+
+    Returns
+    -------
+    dict
+        equipment id -> status.
+    """
+    today = today or dt.date.today()
+    issued = latest(path)
+    result = {}
+    for content in contents:
+        if content.equipment_id not in issued:
+            result[content.equipment_id] = "never issued"
+            continue
+        digest, _, review_by = issued[content.equipment_id]
+        if digest != content.content_hash:
+            result[content.equipment_id] = "changed since issued"
+        elif review_by and dt.date.fromisoformat(review_by) < today:
+            result[content.equipment_id] = "review overdue"
+        else:
+            result[content.equipment_id] = "current"
+    return result

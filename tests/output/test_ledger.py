@@ -1,0 +1,93 @@
+"""The label ledger: issue, change, reprint exactly what changed; status; interrupted runs."""
+
+from __future__ import annotations
+
+import shutil
+from pathlib import Path
+
+import pytest
+import yaml
+from click.testing import CliRunner
+
+import arcflash
+from arcflash.cli import main
+from arcflash.output import label_pdf, ledger
+from arcflash.output.labels import issue_labels, label_content, safe_file_name
+from arcflash.study.pipeline import run_study
+
+DEMO = Path(__file__).resolve().parents[2] / "site_data" / "fenwick_ridge"
+
+
+@pytest.fixture()
+def site_copy(tmp_path):
+    shutil.copytree(DEMO, tmp_path / "site")
+    shutil.copytree(DEMO.parent / "libraries", tmp_path / "libraries")
+    return tmp_path / "site"
+
+
+def _statuses(site):
+    governing = run_study(site).governing
+    contents = [label_content(site, bus, governing.loc[bus]) for bus in governing.index]
+    return ledger.status(ledger.ledger_path(site.path), contents)
+
+
+def test_issue_change_reprint(site_copy, tmp_path):
+    site = arcflash.load_site(site_copy)
+    printed = issue_labels(site, run_study(site).governing, tmp_path / "out")
+    assert len(printed) == len(site.buses)
+    assert set(_statuses(site).values()) == {"current"}
+    # Raise one feeder's instantaneous pickup: only the bus it protects changes.
+    devices = yaml.safe_load((site_copy / "devices.yaml").read_text())
+    for device in devices["devices"]:
+        if device["id"] == "FDR-A2":
+            device["trip_unit"]["instantaneous_pickup"] = 40.0
+    (site_copy / "devices.yaml").write_text(yaml.safe_dump(devices, sort_keys=False))
+    site = arcflash.load_site(site_copy)
+    states = _statuses(site)
+    assert {b for b, s in states.items() if s != "current"} == {"MCC-A2"}
+    assert states["MCC-A2"] == "changed since issued"
+    reprinted = issue_labels(site, run_study(site).governing, tmp_path / "out2", changed_only=True)
+    assert [c.equipment_id for c in reprinted] == ["MCC-A2"]
+    assert set(_statuses(site).values()) == {"current"}
+
+
+def test_interrupted_run_leaves_ledger_and_pdfs(site_copy, tmp_path, monkeypatch):
+    site = arcflash.load_site(site_copy)
+    governing = run_study(site).governing
+    issue_labels(site, governing, tmp_path / "out", buses=["SWG-A"])
+    before = ledger.latest(ledger.ledger_path(site.path))
+    existing = sorted((tmp_path / "out" / "labels").iterdir())
+    calls = {"n": 0}
+    real = label_pdf.write_labels_pdf
+
+    def failing(contents, layout, path):
+        calls["n"] += 1
+        if calls["n"] == 3:
+            raise OSError("disk full (simulated)")
+        return real(contents, layout, path)
+
+    monkeypatch.setattr(label_pdf, "write_labels_pdf", failing)
+    with pytest.raises(OSError, match="simulated"):
+        issue_labels(site, governing, tmp_path / "out")
+    assert ledger.latest(ledger.ledger_path(site.path)) == before
+    assert all(p.stat().st_size > 0 for p in existing)
+    assert not [p for p in (tmp_path / "out" / "labels").iterdir() if ".part" in p.name]
+
+
+@pytest.mark.parametrize("name", ["../../etc/passwd", "A/B\\C", "..", "bus with spaces & <tags>", "Ωhm-1"])
+def test_file_names_stay_in_folder(name):
+    file_name = safe_file_name(name, "0123456789abcdef")
+    assert "/" not in file_name and "\\" not in file_name and not file_name.startswith(".")
+    assert file_name.endswith("-01234567.pdf")
+
+
+def test_labels_commands(site_copy, tmp_path):
+    runner = CliRunner()
+    result = runner.invoke(main, ["labels", "print", str(site_copy), "--out", str(tmp_path / "o"), "--bus", "SWG-A"])
+    assert result.exit_code == 0, result.output
+    assert "1 labels printed" in result.output and "CAUTION" in result.output
+    assert (tmp_path / "o" / "labels-sheet.pdf").exists()
+    status = runner.invoke(main, ["labels", "status", str(site_copy)])
+    assert status.exit_code == 0 and "1 current" in status.output and "never issued" in status.output
+    bad = runner.invoke(main, ["labels", "print", str(site_copy), "--out", str(tmp_path / "p"), "--bus", "NOPE"])
+    assert bad.exit_code == 2 and "unknown bus 'NOPE'" in bad.output
