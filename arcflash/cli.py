@@ -184,16 +184,24 @@ def labels():
 @click.option("--layout", default="label-4x6", help="Layout of the single labels (see label_layouts/).")
 @click.option("--sheet", default="sheet-letter-2x2", help="Layout of the combined sheet.")
 @click.option("--issued-by", default=None, help="Name recorded in the ledger.")
-def labels_print(site_dir, out_dir, buses, changed_only, layout, sheet, issued_by):
-    """Print labels from a fresh study and record them in the site's ledger."""
-    from .output.labels import issue_labels, layout_names
+@click.option("--study", "study_dir", type=click.Path(file_okay=False, exists=True), default=None,
+              help="Folder of an earlier 'arcflash study' run (its governing.csv); default: run the study now.")
+def labels_print(site_dir, out_dir, buses, changed_only, layout, sheet, issued_by, study_dir):
+    """Print labels from a study of the site and record them in the site's ledger."""
+    from .output.labels import issue_labels, layout_names, read_governing
     from .study.pipeline import run_study
 
     for name in (layout, sheet):
         if name not in layout_names():
             raise click.UsageError(f"unknown layout {name!r}; expected one of {', '.join(layout_names())}")
     site = _load(site_dir)
-    governing = run_study(site).governing
+    if study_dir:
+        try:
+            governing = read_governing(study_dir, site)
+        except ValueError as exc:
+            raise click.UsageError(str(exc)) from None
+    else:
+        governing = run_study(site).governing
     try:
         printed = issue_labels(site, governing, out_dir, layout, sheet, list(buses), changed_only, issued_by)
     except KeyError as exc:

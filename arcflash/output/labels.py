@@ -185,6 +185,28 @@ def layout_names():
     return sorted(p.stem for p in LAYOUT_DIR.glob("*.yaml"))
 
 
+def read_governing(study_dir, site):
+    """The governing table of an earlier study run (``governing.csv``), checked against the site.
+
+    Raises
+    ------
+    ValueError
+        No governing.csv there, or it does not hold the site's buses.
+    """
+    import pandas as pd
+
+    path = Path(study_dir) / "governing.csv"
+    if not path.is_file():
+        raise ValueError(f"--study: no governing.csv in {study_dir} (run 'arcflash study' first)")
+    table = pd.read_csv(path, index_col="bus", keep_default_na=False, na_values=[""])
+    missing = [b for b in site.buses if b not in table.index]
+    if missing:
+        raise ValueError(f"--study: {path} lacks bus {missing[0]!r} of the site (a study of another site?)")
+    table["flags"] = table["flags"].fillna("")
+    table["device_governing"] = table["device_governing"].where(table["device_governing"].notna(), None)
+    return table
+
+
 def safe_file_name(equipment_id, digest):
     """A file name for a label that cannot leave its folder, unique by the content hash."""
     stem = re.sub(r"[^A-Za-z0-9._-]+", "_", str(equipment_id)).strip("._")[:80] or "equipment"

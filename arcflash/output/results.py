@@ -58,8 +58,8 @@ def write_results(site, results, out_dir, report=True, tcc_buses=None):
     governing = governing_table(results)
     paths = {"results.csv": out / "results.csv", "governing.csv": out / "governing.csv",
              "results.xlsx": out / "results.xlsx"}
-    write_atomic(paths["results.csv"], lambda tmp: results.rows.to_csv(tmp, index=False, float_format="%.6g"))
-    write_atomic(paths["governing.csv"], lambda tmp: governing.to_csv(tmp, float_format="%.6g"))
+    write_atomic(paths["results.csv"], lambda tmp: results.rows.to_csv(tmp, index=False, float_format="%.10g"))
+    write_atomic(paths["governing.csv"], lambda tmp: governing.to_csv(tmp, float_format="%.10g"))
 
     sheets = [("governing", governing.reset_index()), ("all rows", results.rows),
               ("caution", pd.DataFrame({"caution": [CAUTION]}))]

@@ -91,3 +91,19 @@ def test_labels_commands(site_copy, tmp_path):
     assert status.exit_code == 0 and "1 current" in status.output and "never issued" in status.output
     bad = runner.invoke(main, ["labels", "print", str(site_copy), "--out", str(tmp_path / "p"), "--bus", "NOPE"])
     assert bad.exit_code == 2 and "unknown bus 'NOPE'" in bad.output
+
+
+def test_labels_from_an_earlier_study(site_copy, tmp_path):
+    runner = CliRunner()
+    study = tmp_path / "study"
+    assert runner.invoke(main, ["study", str(site_copy), "--out", str(study), "--quiet", "--no-report"]).exit_code == 0
+    from_file = runner.invoke(main, ["labels", "print", str(site_copy), "--out", str(tmp_path / "a"),
+                                     "--study", str(study), "--bus", "MCC-B1"])
+    assert from_file.exit_code == 0, from_file.output
+    # The label made from governing.csv equals the one made from a fresh study (same content hash).
+    site = arcflash.load_site(site_copy)
+    fresh = label_content(site, "MCC-B1", run_study(site).governing.loc["MCC-B1"])
+    assert ledger.latest(ledger.ledger_path(site.path))["MCC-B1"][0] == fresh.content_hash
+    missing = runner.invoke(main, ["labels", "print", str(site_copy), "--out", str(tmp_path / "b"),
+                                   "--study", str(tmp_path)])
+    assert missing.exit_code == 2 and "no governing.csv" in missing.output
