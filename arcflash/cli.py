@@ -230,6 +230,125 @@ def labels_status(site_dir):
     click.echo("; ".join(f"{n} {s}" for s, n in counts.items()))
 
 
+@main.command("transformer-test")
+@click.option("--kva", type=float, required=True, help="Transformer rating [kVA].")
+@click.option("--primary-kv", type=float, required=True, help="Rated primary voltage [kV].")
+@click.option("--secondary-kv", type=float, required=True, help="Rated secondary voltage [kV].")
+@click.option("--applied-v", type=float, required=True, help="Primary voltage applied in the short-circuit test [V].")
+@click.option("--measured-a", type=float, default=None, help="Primary current reached in the test [A]; default rated.")
+@click.option("--r-percent", type=float, default=None, help="Resistive part of %Z at the test temperature [%].")
+@click.option("--measured-temp-c", type=float, default=None, help="Winding temperature during the test [C].")
+@click.option("--reference-temp-c", type=float, default=85.0, help="Reference temperature [C] (default 85).")
+@click.option("--conductor", type=click.Choice(["copper", "aluminum"]), default="copper")
+def transformer_test(kva, primary_kv, secondary_kv, applied_v, measured_a, r_percent, measured_temp_c,
+                     reference_temp_c, conductor):
+    """%Z of a transformer from its short-circuit test readings, and its fault current."""
+    from .study.field import transformer_from_test
+
+    try:
+        r = transformer_from_test(kva, primary_kv, secondary_kv, applied_v, measured_a, r_percent,
+                                  measured_temp_c, reference_temp_c, conductor)
+    except ValueError as exc:
+        raise click.UsageError(str(exc)) from None
+    click.echo(f"%Z from the test:            {r['z_percent_measured']:.3f} %")
+    if r_percent is not None:
+        click.echo(f"%Z at {reference_temp_c:g} C:                {r['z_percent']:.3f} % (resistive part corrected)")
+    click.echo(f"rated current, primary:      {r['rated_primary_a']:.1f} A")
+    click.echo(f"rated current, secondary:    {r['rated_secondary_a']:.1f} A")
+    click.echo(f"infinite-bus fault current:  {r['infinite_bus_ka']:.2f} kA (I_FLA x 100 / %Z, no source impedance)")
+
+
+@main.command("quick")
+@click.option("--kva", type=float, required=True, help="Transformer rating [kVA].")
+@click.option("--primary-kv", type=float, required=True, help="Transformer primary voltage [kV].")
+@click.option("--secondary-kv", type=float, required=True, help="Secondary (equipment) voltage [kV].")
+@click.option("--z-percent", type=float, default=None, help="Nameplate %Z.")
+@click.option("--applied-v", type=float, default=None, help="Or: short-circuit test voltage [V] ...")
+@click.option("--measured-a", type=float, default=None, help="... and the current it circulated [A] (default rated).")
+@click.option("--x-over-r", type=float, required=True, help="Transformer X/R.")
+@click.option("--z-tolerance-percent", type=float, default=7.5, help="%Z tolerance; the low side is used (default 7.5).")
+@click.option("--utility-ka", type=float, default=None, help="Available utility fault current at the primary [kA]; "
+              "default: infinite (conservative).")
+@click.option("--utility-x-over-r", type=float, default=10.0, help="Utility X/R (default 10).")
+@click.option("--cable-length", default=None, help="Cable to the equipment, e.g. '150 ft' or '45 m'.")
+@click.option("--cable-size", default=None, help="Conductor size, e.g. '4/0' or '500 kcmil'.")
+@click.option("--cable-material", type=click.Choice(["copper", "aluminum"]), default="copper")
+@click.option("--cable-conduit", type=click.Choice(["pvc", "aluminum", "steel"]), default="steel")
+@click.option("--cable-sets", type=int, default=1)
+@click.option("--class", "equipment_class", default=None, help="Equipment class (typical gap, distance, enclosure).")
+@click.option("--config", default=None, help="Electrode configuration (overrides the class).")
+@click.option("--gap-mm", type=float, default=None)
+@click.option("--working-distance-mm", type=float, default=None)
+@click.option("--clearing-time-s", type=float, default=None, help="Stated clearing time of the upstream device [s].")
+@click.option("--reduced-clearing-time-s", type=float, default=None, help="Its time at the reduced arcing current [s].")
+@click.option("--library", type=click.Path(dir_okay=False, exists=True), default=None, help="Device-library YAML file.")
+@click.option("--curve", default=None, help="Upstream device: a curve id of the library.")
+@click.option("--json", "as_json", is_flag=True, help="Print the result as JSON.")
+def quick(kva, primary_kv, secondary_kv, z_percent, applied_v, measured_a, x_over_r, z_tolerance_percent, utility_ka,
+          utility_x_over_r, cable_length, cable_size, cable_material, cable_conduit, cable_sets, equipment_class,
+          config, gap_mm, working_distance_mm, clearing_time_s, reduced_clearing_time_s, library, curve, as_json):
+    """Quick assessment of one piece of equipment from nameplate data."""
+    import tempfile
+
+    from .output.text import quick_report
+    from .study.field import quick_assessment, transformer_from_test
+
+    try:
+        if z_percent is None:
+            if applied_v is None:
+                raise ValueError("give --z-percent, or the test readings --applied-v (and --measured-a)")
+            z_percent = transformer_from_test(kva, primary_kv, secondary_kv, applied_v, measured_a)["z_percent"]
+        cable = None
+        if cable_length or cable_size:
+            cable = {"length": cable_length, "size": cable_size, "material": cable_material,
+                     "conduit": cable_conduit, "sets": cable_sets}
+        equipment = {"equipment_class": equipment_class, "config": config, "gap_mm": gap_mm,
+                     "working_distance_mm": working_distance_mm}
+        with tempfile.TemporaryDirectory() as scratch:
+            result = quick_assessment(
+                scratch, kva=kva, primary_kv=primary_kv, secondary_kv=secondary_kv, z_percent=z_percent,
+                x_over_r=x_over_r, z_tolerance_percent=z_tolerance_percent, utility_ka=utility_ka,
+                utility_x_over_r=utility_x_over_r, cable=cable, equipment=equipment,
+                clearing_time_s=clearing_time_s, reduced_clearing_time_s=reduced_clearing_time_s,
+                curve=curve, library=library)
+    except SiteDataError as exc:
+        raise click.UsageError("; ".join(f"{p.field} = {p.value!r}: expected {p.expected}"
+                                         for p in exc.problems)) from None
+    except ValueError as exc:
+        raise click.UsageError(str(exc)) from None
+    if as_json:
+        row = {k: (None if isinstance(v, float) and v != v else (v.item() if hasattr(v, "item") else v))
+               for k, v in result["row"].items()}
+        click.echo(json.dumps({"result": row, "assumptions": result["notes"], "caution": CAUTION}, indent=2,
+                              default=str))
+    else:
+        click.echo(quick_report(result["row"], result["notes"]))
+
+
+@main.command("briefing")
+@click.argument("site_dir", type=click.Path(file_okay=True, dir_okay=True))
+@click.argument("bus")
+@click.option("--out", type=click.Path(dir_okay=False), required=True, help="Output PDF file.")
+@click.option("--study", "study_dir", type=click.Path(file_okay=False, exists=True), default=None,
+              help="Folder of an earlier 'arcflash study' run (its governing.csv); default: run the study now.")
+def briefing(site_dir, bus, out, study_dir):
+    """Job briefing sheet for one piece of equipment: hazard, boundaries to scale, PPE, permit blanks."""
+    from .output.briefing import write_briefing
+    from .output.labels import read_governing
+    from .study.pipeline import run_study
+
+    site = _load(site_dir)
+    if bus not in site.buses:
+        raise click.UsageError(f"unknown bus {bus!r}")
+    try:
+        governing = read_governing(study_dir, site) if study_dir else run_study(site).governing
+    except ValueError as exc:
+        raise click.UsageError(str(exc)) from None
+    write_atomic(out, lambda tmp: write_briefing(site, bus, governing.loc[bus], tmp))
+    click.echo(f"Job briefing sheet of {bus} written to {out}")
+    click.echo(CAUTION)
+
+
 @main.command("site-schema")
 @click.option("--out", type=click.Path(dir_okay=False), default=None, help="Write to this file instead of printing.")
 def site_schema(out):

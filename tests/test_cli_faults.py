@@ -25,7 +25,7 @@ def test_fault_table_and_csv(tmp_path):
     assert result.exit_code == 0, result.output
     assert "scenario 'normal'" in result.output and "SWG-A" in result.output
     table = pd.read_csv(out, index_col="bus")
-    assert len(table) == 34 and set(table.columns) >= {"nominal_kv", "bolted_ka", "x_over_r", "energized"}
+    assert len(table) == 37 and set(table.columns) >= {"nominal_kv", "bolted_ka", "x_over_r", "energized"}
     shares = pd.read_csv(devices)
     assert set(shares.columns) == {"fault_bus", "device", "branch", "current_ka", "share", "from_bus", "to_bus"}
     assert not list(tmp_path.glob(".*.part*"))  # no temporary files left

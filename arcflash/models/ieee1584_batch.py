@@ -88,7 +88,9 @@ class _Run:
         key = (tuple(row[3:]), part.start, part.stop)
         if key not in self.polys:
             poly = polynomial(row[3:], ibf)
-            self.polys[key] = (poly, np.log(poly))
+            with np.errstate(invalid="ignore", divide="ignore"):
+                # Far outside the model's range (flagged) the polynomial may not be positive: NaN results.
+                self.polys[key] = (poly, np.log(poly))
         poly, ln_poly = self.polys[key]
         # Eq. (1): I = 10^(k1 + k2 lg Ibf + k3 lg G) × poly.
         scaled = row[1] * ln_ibf

@@ -161,3 +161,36 @@ def clearing_report(facility_name, scenario, table):
     if noted:
         lines += ["", "Notes"] + [f"  {bus}: {note}" for bus, note in noted]
     return "\n".join(lines)
+
+
+def quick_report(row, notes):
+    """A quick assessment as text: currents, time, energy, boundary, PPE, shock boundaries, caution."""
+    from ..models.nfpa70e import shock_boundary_text
+
+    shock = shock_boundary_text(float(row["nominal_kv"]))
+    category = int(row["ppe_category"])
+    ppe = {-1: "none applies (above 40 cal/cm2): de-energize", 0: "below 1.2 cal/cm2", -2: "-"}.get(
+        category, f"PPE category {category} (NFPA 70E Table 130.7(C)(15)(c))")
+    lines = [
+        "Quick assessment (IEEE 1584-2018, NFPA 70E)", "",
+        _row("bolted fault current", _fmt(row["bolted_ka"], ".2f") + " kA"),
+        _row("arcing current", _fmt(row["arcing_current_ka"], ".2f") + " kA"),
+        _row("reduced arcing current", _fmt(row["reduced_arcing_current_ka"], ".2f") + " kA"),
+        _row("clearing time (governing)", _fmt(row["clearing_time_governing_s"], ".3f") + " s"),
+        _row("upstream device", str(row["device_governing"])),
+        _row("incident energy", _fmt(row["incident_energy_governing_cal_cm2"], ".2f")
+             + f" cal/cm2 at {row['working_distance_mm']:g} mm"),
+        _row("arc-flash boundary", feet_inches(row["arc_flash_boundary_governing_mm"])),
+        _row("minimum arc rating", _fmt(row["minimum_arc_rating_cal_cm2"], ".1f") + " cal/cm2"),
+        f"  {'PPE':<30}{ppe}",
+        f"  {'limited approach':<30}{shock['limited_fixed']} fixed parts, {shock['limited_movable']} movable",
+        f"  {'restricted approach':<30}{shock['restricted']}",
+        "",
+    ]
+    if notes:
+        lines.append("Conservative choices made")
+        lines += [textwrap.fill(n, 78, initial_indent="  - ", subsequent_indent="    ") for n in notes]
+        lines.append("")
+    lines.append(("FLAGS: " + row["flags"]) if row["flags"] else "Flags: none")
+    lines += ["", textwrap.fill(CAUTION, 78)]
+    return "\n".join(lines)

@@ -34,7 +34,7 @@ class StudyResults:
     governing: pd.DataFrame
 
 
-def _scenario_rows(site, scenario, equipment):
+def _scenario_rows(site, scenario, equipment, stated_times=None):
     faults = solve_scenario(site, scenario.name)
     buses = faults.buses
     arcs = arcing_currents(site, buses, equipment)
@@ -42,6 +42,11 @@ def _scenario_rows(site, scenario, equipment):
     times = clearing_times(site, scenario, faults, arcs["arcing_current_ka"], arcs["reduced_arcing_current_ka"],
                            paths)
     table = buses.join(arcs).join(times).join(equipment)
+    for bus, (t, tr) in (stated_times or {}).items():
+        table.loc[bus, ["clearing_time_s", "reduced_clearing_time_s"]] = [t, tr]
+        table.loc[bus, ["governing_device", "reduced_governing_device"]] = ["stated clearing time"] * 2
+        table.loc[bus, ["no_device", "no_trip", "reduced_no_trip", "duration_capped", "reduced_duration_capped"]] = False
+        table.loc[bus, "clearing_notes"] = ""
     live = table.index[table["energized"] & (table["bolted_ka"] > 0)]
     for column in ("incident_energy_cal_cm2", "reduced_incident_energy_cal_cm2", "arc_flash_boundary_mm",
                    "reduced_arc_flash_boundary_mm"):
@@ -102,7 +107,7 @@ def _finish(table):
     return table
 
 
-def study_rows(site, progress=None):
+def study_rows(site, progress=None, stated_times=None):
     """Every bus in every scenario (one row each), with the governing arcing case.
 
     Parameters
@@ -110,6 +115,9 @@ def study_rows(site, progress=None):
     site : Site
     progress : callable, optional
         Called with each scenario name as it is done.
+    stated_times : dict, optional
+        Bus -> (clearing time, reduced clearing time) [s] used instead of the
+        devices' (a quick assessment with a stated clearing time).
 
     Returns
     -------
@@ -119,7 +127,7 @@ def study_rows(site, progress=None):
     equipment = equipment_table(site)
     parts = []
     for scenario in site.scenarios.values():
-        table = _scenario_rows(site, scenario, equipment)
+        table = _scenario_rows(site, scenario, equipment, stated_times)
         parts.append(table.reset_index())
         if progress:
             progress(scenario.name)
