@@ -279,6 +279,9 @@ def transformer_test(kva, primary_kv, secondary_kv, applied_v, measured_a, r_per
 @click.option("--config", default=None, help="Electrode configuration (overrides the class).")
 @click.option("--gap-mm", type=float, default=None)
 @click.option("--working-distance-mm", type=float, default=None)
+@click.option("--height-mm", type=float, default=None, help="Enclosure height [mm].")
+@click.option("--width-mm", type=float, default=None, help="Enclosure width [mm].")
+@click.option("--depth-mm", type=float, default=None, help="Enclosure depth [mm].")
 @click.option("--clearing-time-s", type=float, default=None, help="Stated clearing time of the upstream device [s].")
 @click.option("--reduced-clearing-time-s", type=float, default=None, help="Its time at the reduced arcing current [s].")
 @click.option("--library", type=click.Path(dir_okay=False, exists=True), default=None, help="Device-library YAML file.")
@@ -286,7 +289,8 @@ def transformer_test(kva, primary_kv, secondary_kv, applied_v, measured_a, r_per
 @click.option("--json", "as_json", is_flag=True, help="Print the result as JSON.")
 def quick(kva, primary_kv, secondary_kv, z_percent, applied_v, measured_a, x_over_r, z_tolerance_percent, utility_ka,
           utility_x_over_r, cable_length, cable_size, cable_material, cable_conduit, cable_sets, equipment_class,
-          config, gap_mm, working_distance_mm, clearing_time_s, reduced_clearing_time_s, library, curve, as_json):
+          config, gap_mm, working_distance_mm, height_mm, width_mm, depth_mm, clearing_time_s, reduced_clearing_time_s,
+          library, curve, as_json):
     """Quick assessment of one piece of equipment from nameplate data."""
     import tempfile
 
@@ -303,7 +307,8 @@ def quick(kva, primary_kv, secondary_kv, z_percent, applied_v, measured_a, x_ove
             cable = {"length": cable_length, "size": cable_size, "material": cable_material,
                      "conduit": cable_conduit, "sets": cable_sets}
         equipment = {"equipment_class": equipment_class, "config": config, "gap_mm": gap_mm,
-                     "working_distance_mm": working_distance_mm}
+                     "working_distance_mm": working_distance_mm, "height_mm": height_mm, "width_mm": width_mm,
+                     "depth_mm": depth_mm}
         with tempfile.TemporaryDirectory() as scratch:
             result = quick_assessment(
                 scratch, kva=kva, primary_kv=primary_kv, secondary_kv=secondary_kv, z_percent=z_percent,
