@@ -19,9 +19,9 @@ contribution decays within a few cycles; common practice).
   IEEE 1584-2018 guidance), flagged; so does any duration above the cap.
 - Scenario ``maintenance_mode`` switches on a device's maintenance settings.
 
-In a meshed network (up to SEQUENTIAL_OPENING_MAX_BUSES buses) devices open
-in the order of their clearing times until no source reaches the bus; larger
-meshed networks follow one path per source and are flagged.
+In a meshed network, where a path's fastest device sits on a loop, devices
+open in the order of their clearing times until no source reaches the bus
+(elsewhere the path answer is exact: its device's branch is a bridge).
 """
 
 from __future__ import annotations
@@ -292,11 +292,46 @@ def clearing_paths(site, scenario, faults):
     )
 
 
-#: Largest meshed network cleared by sequential opening; larger ones follow one path per source.
-SEQUENTIAL_OPENING_MAX_BUSES = 2000
+def non_bridge_branches(net):
+    """Branches whose opening alone cannot split the network (they lie on a loop) [-].
+
+    A spanning forest is grown breadth-first; every branch outside it closes a
+    loop, which makes it and the forest's branches between its two buses
+    non-bridges (parallel branches between two buses included).
+    """
+    n, m = len(net.bus_ids), net.branch_from.size
+    graph = sp.coo_matrix((np.arange(1, m + 1), (net.branch_from, net.branch_to)), shape=(n, n)).tocsr()
+    graph = (graph + graph.T).tocsr()
+    parent = np.full(n, -9999, dtype=np.intp)
+    depth = np.zeros(n, dtype=np.intp)
+    tree_branch = np.full(n, -1, dtype=np.intp)
+    seen = np.zeros(n, dtype=bool)
+    for root in range(n):
+        if seen[root]:
+            continue
+        order, pred = breadth_first_order(graph, root, directed=False, return_predecessors=True)
+        seen[order] = True
+        parent[order] = pred[order]
+        for node in order[1:]:
+            depth[node] = depth[pred[node]] + 1
+    in_tree = np.zeros(m, dtype=bool)
+    for b, (f, t) in enumerate(zip(net.branch_from, net.branch_to)):
+        child = t if parent[t] == f else (f if parent[f] == t else -1)
+        if child >= 0 and tree_branch[child] < 0:
+            tree_branch[child] = b
+            in_tree[b] = True
+    loop = ~in_tree
+    for b in np.flatnonzero(~in_tree):
+        u, v = net.branch_from[b], net.branch_to[b]
+        while u != v:
+            if depth[u] < depth[v]:
+                u, v = v, u
+            loop[tree_branch[u]] = True
+            u = parent[u]
+    return loop
 
 
-def _sequential_opening(faults, paths, ratio, sources_bus):
+def _sequential_opening(faults, paths, ratio, sources_bus, buses):
     """Arc duration in a meshed network: open devices in time order until no source reaches the bus.
 
     Candidates are the devices carrying at least 1 % of the bus fault current,
@@ -321,19 +356,29 @@ def _sequential_opening(faults, paths, ratio, sources_bus):
     branch_of = net.device_branch[dev]
     order = np.lexsort((times, bus))
     bounds = np.searchsorted(bus[order], np.arange(n + 1))
-    edges = np.arange(net.branch_from.size)
-    for k in np.flatnonzero(paths.energized):
-        opened = set()
+    # One adjacency matrix for all checks; an opened branch is removed by zeroing its entries.
+    # Built by hand so that parallel branches keep one entry each (a sparse constructor would sum them).
+    m = net.branch_from.size
+    rows = np.concatenate([net.branch_from, net.branch_to])
+    cols = np.concatenate([net.branch_to, net.branch_from])
+    entry_order = np.argsort(rows, kind="stable")
+    indptr = np.concatenate(([0], np.cumsum(np.bincount(rows, minlength=n))))
+    indices = cols[entry_order]
+    branch_of_entry = np.tile(np.arange(m), 2)[entry_order]
+    ones = np.ones(indices.size)
+    is_source = np.zeros(n, dtype=bool)
+    is_source[sources_bus] = True
+    for k in buses:
+        opened = np.zeros(m, dtype=bool)
         result_t, result_d = np.inf, -1
         for r in order[bounds[k]:bounds[k + 1]]:
             if not np.isfinite(times[r]):
                 break
-            opened.add(int(branch_of[r]))
-            keep = ~np.isin(edges, list(opened))
-            graph = sp.coo_matrix((np.ones(keep.sum()), (net.branch_from[keep], net.branch_to[keep])),
-                                  shape=(n, n)).tocsr()
-            reached = breadth_first_order(graph, k, directed=False, return_predecessors=False)
-            if not np.isin(sources_bus, reached).any():
+            opened[branch_of[r]] = True
+            check = sp.csr_matrix((np.where(opened[branch_of_entry], 0.0, ones), indices, indptr), shape=(n, n))
+            check.eliminate_zeros()
+            reached = breadth_first_order(check, k, directed=False, return_predecessors=False)
+            if not is_source[reached].any():
                 result_t, result_d = times[r], dev[r]
                 break
         duration[k], governing[k] = result_t, result_d
@@ -372,18 +417,29 @@ def clearing_times(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=N
         time = paths.bank.clearing_time_s(dev, paths.device_ka * ratio[bus] * 1000.0)
         duration = np.full(n_bus, np.nan)
         governing = np.full(n_bus, None, dtype=object)
+        path_best_bus = path_best_dev = np.array([], dtype=np.intp)
         if live.any():
             p, t, d, b = paths.path[live], time[live], dev[live], bus[live]
             fastest = _first_of_groups(p, t)  # the fastest device of each path
+            path_best_bus, path_best_dev = b[fastest], d[fastest]
             slowest = _first_of_groups(b[fastest], -t[fastest])  # the slowest path of each bus
             chosen = fastest[slowest]
             duration[b[chosen]] = t[chosen]
             governing[b[chosen]] = paths.device_ids[d[chosen]]
-        if paths.meshed and n_bus <= SEQUENTIAL_OPENING_MAX_BUSES:
-            sources_bus = np.array([b for _, b in _sources(site, scenario, faults.net)], dtype=np.intp)
-            meshed_t, meshed_d = _sequential_opening(faults, paths, ratio, sources_bus)
-            duration = np.where(paths.energized, meshed_t, np.nan)
-            governing = np.where(meshed_d >= 0, paths.device_ids[np.maximum(meshed_d, 0)], None)
+        if paths.meshed:
+            # The single-path answer is exact where the device it picks sits on a branch whose opening
+            # splits the network (a bridge): the path stays closed until then, and is cut then.
+            # Elsewhere the bus gets the sequential opening.
+            net = faults.net
+            on_loop = non_bridge_branches(net)
+            doubtful = paths.energized & np.array([g is None for g in governing])
+            doubtful[path_best_bus[on_loop[net.device_branch[path_best_dev]]]] = True
+            doubtful &= paths.energized
+            sources_bus = np.array([b for _, b in _sources(site, scenario, net)], dtype=np.intp)
+            meshed_t, meshed_d = _sequential_opening(faults, paths, ratio, sources_bus, np.flatnonzero(doubtful))
+            duration = np.where(doubtful, meshed_t, duration)
+            governing = np.where(doubtful, np.where(meshed_d >= 0, paths.device_ids[np.maximum(meshed_d, 0)], None),
+                                 governing)
         duration = np.where(paths.no_device, np.inf, duration)
         duration = np.where(paths.energized, duration, np.nan)
         governing = np.where(paths.no_device, None, governing)
@@ -399,12 +455,8 @@ def clearing_times(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=N
         if cap is not None:
             notes.append((capped, f"{case} arcing current: arc duration capped at {cap:g} s"))
     result["meshed"] = paths.meshed
-    if paths.meshed and n_bus <= SEQUENTIAL_OPENING_MAX_BUSES:
-        notes.append((np.full(n_bus, True), "meshed network: devices opened in time order until no source "
-                                            "reaches the bus (current redistribution not followed)"))
-    else:
-        notes.append((np.full(n_bus, paths.meshed),
-                      "meshed network: clearing followed along one path per source; check parallel paths"))
+    notes.append((np.full(n_bus, paths.meshed), "meshed network: devices opened in time order until no source "
+                                                "reaches the bus (current redistribution not followed)"))
     result["clearing_notes"] = _joined_notes(n_bus, notes)
     return result
 
