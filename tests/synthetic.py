@@ -24,7 +24,7 @@ SYNTHETIC_CURVE = {"id": "TM-225", "kind": "thermal-magnetic-breaker", "current_
 _SIZES = ["500 kcmil", "350 kcmil", "4/0", "2/0", "1/0", "2", "4", "6"]
 
 
-def synthetic_site(folder, n_buses, ties=0, seed=1, substation_size=200):
+def synthetic_site(folder, n_buses, ties=0, seed=1, substation_size=200, motors_off=False):
     """Write a synthetic facility of ``n_buses`` buses into ``folder``; return the folder."""
     rng = np.random.default_rng(seed)
     folder = Path(folder)
@@ -72,6 +72,8 @@ def synthetic_site(folder, n_buses, ties=0, seed=1, substation_size=200):
         if x != y:
             switches.append({"id": f"TIE{t}", "from_bus": x, "to_bus": y, "kind": "tie", "normally": "open"})
     scenarios = [{"name": "normal"}, {"name": "utility-min", "utility": "min"}]
+    if motors_off:
+        scenarios.append({"name": "motors-off", "motors": "off"})
     if switches:
         scenarios.append({"name": "ties-closed", "close": [s["id"] for s in switches]})
     document = {
