@@ -106,18 +106,18 @@ def source_paths(net, source_bus):
         path is one of several); the buses the source reaches.
     """
     n = net.base_kv.size
-    branch_ids = np.arange(1, net.branch_from.size + 1)
-    graph = sp.coo_matrix((branch_ids, (net.branch_from, net.branch_to)), shape=(n, n)).tocsr()
-    graph = (graph + graph.T).tocsr()
+    graph = sp.coo_matrix((np.ones(net.branch_from.size), (net.branch_from, net.branch_to)), shape=(n, n)).tocsr()
     order, pred = breadth_first_order(graph, source_bus, directed=False, return_predecessors=True)
     inside = np.zeros(n, dtype=bool)
     inside[order] = True
-    within = inside[net.branch_from] & inside[net.branch_to]
-    a, b = net.branch_from[within], net.branch_to[within]
-    edges = np.unique(np.minimum(a, b) * n + np.maximum(a, b))
-    meshed = edges.size > order.size - 1  # parallel branches between two buses are not a loop
+    # More branches than a tree needs: a loop (parallel branches between two buses count too).
+    meshed = int(np.count_nonzero(inside[net.branch_from] & inside[net.branch_to])) > order.size - 1
     nodes = order[1:]
-    via = np.asarray(graph[nodes, pred[nodes]]).ravel() - 1  # the branch to the predecessor
+    # The branch to the predecessor: the lowest-numbered branch joining the two buses.
+    pair = np.minimum(net.branch_from, net.branch_to) * n + np.maximum(net.branch_from, net.branch_to)
+    by_pair = np.lexsort((np.arange(pair.size), pair))
+    wanted = np.minimum(nodes, pred[nodes]) * n + np.maximum(nodes, pred[nodes])
+    via = by_pair[np.searchsorted(pair[by_pair], wanted)]
     branch_to_pred = np.full(n, -1, dtype=np.intp)
     branch_to_pred[nodes] = via
     # Devices of each branch.

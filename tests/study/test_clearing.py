@@ -144,3 +144,18 @@ def test_meshed_network_opens_devices_in_time_order(demo, normal):
     assert tied.loc["SS-A-PRI", "clearing_time_s"] >= normal.loc["SS-A-PRI", "clearing_time_s"]
     assert "devices opened in time order" in tied.loc["SWG-A", "clearing_notes"]
     assert tied["meshed"].all()
+
+
+def test_parallel_feeders_both_must_open(tmp_path):
+    # Two parallel cables, each with its own breaker, feed END: the arc at END lasts until both have
+    # opened, so the slower breaker governs (a parallel pair is a loop, not a single path). Each carries
+    # half the arcing current (~5.1 kA), above both short-time pickups (1760 A and 4400 A on the max band).
+    doc = copy.deepcopy(CHAIN)
+    doc["cables"].append({**doc["cables"][0], "id": "C2"})
+    doc["devices"][0]["trip_unit"]["short_time_pickup"] = 2.0  # CB-C: 0.1 s short time at half the current
+    slow = {"rating_a": 2000, "short_time_pickup": 2.0, "short_time_delay_s": 0.5}
+    doc["devices"].append({"id": "CB-C2", "branch": "C2", "at_bus": "LV", "kind": "trip-unit-breaker",
+                           "trip_unit": slow})
+    row = clearing_table(arcflash.load_site(write_site(tmp_path / "parallel", doc))).loc["END"]
+    assert row["governing_device"] == "CB-C2"
+    assert row["clearing_time_s"] == pytest.approx(0.5 * 1.15 + 3 / 60, rel=1e-12)
