@@ -175,8 +175,11 @@ def solve_faults(base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_
                                 index[source_bus]),
         )
         live = np.flatnonzero(keep[device_branch]) if device_branch.size else np.array([], dtype=np.intp)
-        solver = _radial if _is_radial(sub) else _meshed
-        diag, (k, d, current_pu, direction) = solver(sub, device_branch, live, voltage_factor, min_share)
+        merged = _merged_edges(sub)
+        if _is_radial(sub, merged):
+            diag, (k, d, current_pu, direction) = _radial(sub, merged, device_branch, live, voltage_factor, min_share)
+        else:
+            diag, (k, d, current_pu, direction) = _meshed(sub, device_branch, live, voltage_factor, min_share)
         z_th[active] = diag
         i_fault = voltage_factor / np.abs(diag[k])
         rows = (active[k], d, np.abs(current_pu) * base_current_ka(s_base_mva, device_kv[d]),
@@ -238,9 +241,9 @@ def _merged_edges(sub):
     return branch_edge, pairs // sub.m, pairs % sub.m, edge_y
 
 
-def _is_radial(sub):
-    """True when the energised network, parallel branches merged, is a forest."""
-    _, ea, eb, _ = _merged_edges(sub)
+def _is_radial(sub, merged):
+    """True when the energised network, parallel branches merged (``_merged_edges``), is a forest."""
+    _, ea, eb, _ = merged
     return bool(np.all(ea != eb)) and ea.size == sub.m - sub.roots.size
 
 
@@ -289,9 +292,9 @@ def _joined(out):
     return tuple(np.concatenate(part) for part in out)
 
 
-def _radial(sub, device_branch, live, voltage_factor, min_share):
+def _radial(sub, merged, device_branch, live, voltage_factor, min_share):
     """Radial network: the passes of :mod:`.network_radial`, O(N) for the diagonal."""
-    branch_edge, ea, eb, edge_y = _merged_edges(sub)
+    branch_edge, ea, eb, edge_y = merged
     shunt = np.zeros(sub.m, dtype=complex)
     np.add.at(shunt, sub.shunt_bus, sub.shunt_y)
     tree = RadialNetwork(sub.m, ea, eb, edge_y, shunt, sub.roots)

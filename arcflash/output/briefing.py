@@ -11,7 +11,7 @@ from reportlab.lib.units import inch
 from reportlab.platypus import Paragraph, SimpleDocTemplate, Spacer
 
 from .cautions import CAUTION
-from .report import _figure, _ft_in, _ppe, _settings, _table
+from .report import _figure, _ft_in, _ppe, _settings, _table, flatten
 
 _STYLES = getSampleStyleSheet()
 _BODY = _STYLES["BodyText"].clone("brief", fontSize=8.5, leading=10.5)
@@ -100,8 +100,5 @@ def write_briefing(site, bus, row, path):
               _table(["item", "entry"], [[item, ""] for item in PERMIT_ITEMS],
                      widths=[3.0 * inch, 4.2 * inch]),
               Spacer(1, 6), Paragraph(escape(CAUTION), _BODY)]
-    flat = []
-    for item in story:
-        flat.extend(item if isinstance(item, list) else [item])
     SimpleDocTemplate(str(path), pagesize=letter, leftMargin=0.6 * inch, rightMargin=0.6 * inch,
-                      topMargin=0.5 * inch, bottomMargin=0.5 * inch, title=f"Job briefing - {bus}").build(flat)
+                      topMargin=0.5 * inch, bottomMargin=0.5 * inch, title=f"Job briefing - {bus}").build(flatten(story))

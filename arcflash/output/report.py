@@ -58,6 +58,14 @@ _PLAIN_STYLE = TableStyle([("FONTSIZE", (0, 0), (-1, -1), 6.5), ("LEADING", (0, 
                            ("BOTTOMPADDING", (0, 0), (-1, -1), 1), ("TOPPADDING", (0, 0), (-1, -1), 1)])
 
 
+def flatten(story):
+    """A story whose table pieces (see :func:`_table`) are laid out one after another."""
+    flat = []
+    for item in story:
+        flat.extend(item if isinstance(item, _Pieces) else [item])
+    return flat
+
+
 def _table(header, rows, widths=None):
     plain = len(rows) > _PLAIN_ABOVE_ROWS
     cell = (lambda c: str(c)) if plain else _p
@@ -226,9 +234,6 @@ def write_report(site, results, path, tcc_buses=None):
         canvas.drawRightString(letter[0] - 0.6 * inch, 0.25 * inch, f"{f.name} - rev {f.study_revision} - page {doc.page}")
         canvas.restoreState()
 
-    flat = []
-    for item in story:
-        flat.extend(item if isinstance(item, _Pieces) else [item])
     SimpleDocTemplate(str(path), pagesize=letter, leftMargin=0.6 * inch, rightMargin=0.6 * inch,
                       topMargin=0.6 * inch, bottomMargin=0.7 * inch, title=f"Arc-flash study - {f.name}",
-                      ).build(flat, onFirstPage=footer, onLaterPages=footer)
+                      ).build(flatten(story), onFirstPage=footer, onLaterPages=footer)

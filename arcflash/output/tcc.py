@@ -8,7 +8,7 @@ matplotlib.use("Agg")
 import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
 
-from ..study.clearing import device_curve, source_paths  # noqa: E402
+from ..study.clearing import device_curve, energising_sources, source_paths  # noqa: E402
 from ..study.faults import build_network, solve_scenario  # noqa: E402
 from ..study.arcing import arcing_currents  # noqa: E402
 
@@ -18,15 +18,9 @@ def devices_protecting(site, scenario, bus):
     net = build_network(site, scenario)
     index = net.bus_ids.index(bus)
     found = []
-    for ident, u in site.utilities.items():
-        if not u.in_service or ident in scenario.utilities_off:
-            continue
-        buses, devices, _, _ = source_paths(net, net.bus_ids.index(u.bus))
+    for _, source in energising_sources(site, scenario, net):
+        buses, devices, _, _ = source_paths(net, source)
         found += [net.device_ids[d] for d in devices[buses == index]]
-    for ident, g in site.generators.items():
-        if (g.running or ident in scenario.generators_running) and ident not in scenario.generators_stopped:
-            buses, devices, _, _ = source_paths(net, net.bus_ids.index(g.bus))
-            found += [net.device_ids[d] for d in devices[buses == index]]
     return list(dict.fromkeys(found))
 
 

@@ -142,13 +142,11 @@ def source_paths(net, source_bus):
             meshed, np.concatenate(([source_bus], nodes)))
 
 
-def _sources(site, scenario, net):
-    index = {b: i for i, b in enumerate(net.bus_ids)}
-    found = [(ident, index[u.bus]) for ident, u in site.utilities.items()
-             if u.in_service and ident not in scenario.utilities_off]
-    found += [(ident, index[g.bus]) for ident, g in site.generators.items()
-              if (g.running or ident in scenario.generators_running) and ident not in scenario.generators_stopped]
-    return found
+def energising_sources(site, scenario, net):
+    """(id, bus index) of each source that energises ``net``: the utilities in service and the
+    running generators, as :func:`~arcflash.study.faults.build_network` chose them for the
+    scenario (motors are not sources of a path)."""
+    return list(zip(net.source_ids, net.source_bus.tolist()))
 
 
 class DeviceBank:
@@ -227,8 +225,8 @@ class ClearingPaths:
     One row per (source, bus, device on the path): ``bus``, ``device``,
     ``path`` (source × buses + bus), the device's bolted current ``device_ka``
     and ``live`` (the path carries a non-negligible current); per bus
-    ``bolted_ka``, ``no_device``, ``energized``; ``notes`` and the device
-    bank.
+    ``bolted_ka``, ``no_device``, ``energized``; ``notes``, the device bank,
+    the source buses and, in a meshed network, which branches lie on a loop.
     """
 
     bus_ids: list
@@ -245,13 +243,15 @@ class ClearingPaths:
     notes: list
     bank: DeviceBank
     cap_s: float | None
+    source_bus: np.ndarray
+    on_loop: np.ndarray | None
 
 
 def clearing_paths(site, scenario, faults):
     """Source paths, device currents and device bank of a scenario (see :class:`ClearingPaths`)."""
     net, solution = faults.net, faults.solution
     n_bus, n_dev = len(net.bus_ids), len(net.device_ids)
-    sources = _sources(site, scenario, net)
+    sources = energising_sources(site, scenario, net)
     bus_parts, dev_parts, src_parts, reached = [], [], [], np.zeros((len(sources), n_bus), dtype=bool)
     meshed_any = False
     for number, (_, bus) in enumerate(sources):
@@ -289,6 +289,8 @@ def clearing_paths(site, scenario, faults):
         notes=[(bare[number], f"no protective device between source {source} and this bus")
                for number, (source, _) in enumerate(sources)],
         bank=DeviceBank(site, scenario, net.device_ids), cap_s=site.facility.arc_duration_cap_s,
+        source_bus=np.array([b for _, b in sources], dtype=np.intp),
+        on_loop=non_bridge_branches(net) if meshed_any else None,
     )
 
 
@@ -430,13 +432,10 @@ def clearing_times(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=N
             # The single-path answer is exact where the device it picks sits on a branch whose opening
             # splits the network (a bridge): the path stays closed until then, and is cut then.
             # Elsewhere the bus gets the sequential opening.
-            net = faults.net
-            on_loop = non_bridge_branches(net)
             doubtful = paths.energized & np.array([g is None for g in governing])
-            doubtful[path_best_bus[on_loop[net.device_branch[path_best_dev]]]] = True
-            doubtful &= paths.energized
-            sources_bus = np.array([b for _, b in _sources(site, scenario, net)], dtype=np.intp)
-            meshed_t, meshed_d = _sequential_opening(faults, paths, ratio, sources_bus, np.flatnonzero(doubtful))
+            doubtful[path_best_bus[paths.on_loop[faults.net.device_branch[path_best_dev]]]] = True
+            meshed_t, meshed_d = _sequential_opening(faults, paths, ratio, paths.source_bus,
+                                                     np.flatnonzero(doubtful))
             duration = np.where(doubtful, meshed_t, duration)
             governing = np.where(doubtful, np.where(meshed_d >= 0, paths.device_ids[np.maximum(meshed_d, 0)], None),
                                  governing)

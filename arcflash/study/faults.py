@@ -49,6 +49,7 @@ class NetworkArrays:
     shunt_ids: list
     shunt_bus: np.ndarray
     shunt_z_pu: np.ndarray
+    source_ids: list
     source_bus: np.ndarray
     device_ids: list
     device_branch: np.ndarray
@@ -109,7 +110,7 @@ def build_network(site, scenario):
         if closed:
             branches.append((ident, s.from_bus, s.to_bus, SWITCH_Z_PU))
 
-    shunts, sources = [], []  # (id, bus, z_pu)
+    shunts, sources = [], []  # (id, bus, z_pu); (id, bus) of the utilities and generators that energise
     for ident, u in site.utilities.items():
         if not u.in_service or ident in scenario.utilities_off:
             continue
@@ -118,14 +119,14 @@ def build_network(site, scenario):
         s_sc = value if unit == "MVA" else _SQRT3 * u.kv * value
         z = s_base / s_sc * (u.kv / site.buses[u.bus].nominal_kv) ** 2
         shunts.append((ident, u.bus, _from_z(z, level.x_over_r)))
-        sources.append(u.bus)
+        sources.append((ident, u.bus))
     for ident, g in site.generators.items():
         running = (g.running or ident in scenario.generators_running) and ident not in scenario.generators_stopped
         if running:
             x = g.subtransient_reactance_percent / 100.0 * s_base / (g.kva / 1000.0)
             x *= (g.kv / site.buses[g.bus].nominal_kv) ** 2
             shunts.append((ident, g.bus, _from_x(x, g.x_over_r)))
-            sources.append(g.bus)
+            sources.append((ident, g.bus))
     if scenario.motors == "on":
         for ident, m in site.motors.items():
             if m.contributes and ident not in scenario.motors_off:
@@ -146,7 +147,8 @@ def build_network(site, scenario):
         shunt_ids=[s[0] for s in shunts],
         shunt_bus=np.array([index[s[1]] for s in shunts], dtype=np.intp),
         shunt_z_pu=np.array([s[2] for s in shunts], dtype=complex),
-        source_bus=np.array([index[b] for b in sources], dtype=np.intp),
+        source_ids=[ident for ident, _ in sources],
+        source_bus=np.array([index[b] for _, b in sources], dtype=np.intp),
         device_ids=[d[0] for d in devices],
         device_branch=np.array([branch_index[d.branch] for _, d in devices], dtype=np.intp),
         device_kv=np.array([site.buses[d.at_bus].nominal_kv for _, d in devices]),

@@ -25,7 +25,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
 
 import arcflash  # noqa: E402
 from arcflash.study.arcing import arcing_currents  # noqa: E402
-from arcflash.study.clearing import _sources, clearing_paths, clearing_times, device_curve, source_paths  # noqa: E402
+from arcflash.study.clearing import clearing_paths, clearing_times, device_curve, energising_sources, source_paths  # noqa: E402
 from arcflash.study.faults import build_network, solve_scenario  # noqa: E402
 from tests.synthetic import synthetic_site  # noqa: E402
 
@@ -92,7 +92,7 @@ def main():
     sample, checked = [], 0
     for name, (scenario, net, faults, arcs) in prepared.items():
         paths = {}
-        for _, bus in _sources(site, scenario, net):
+        for _, bus in energising_sources(site, scenario, net):
             buses, devices, _, _ = source_paths(net, bus)
             for b, d in zip(buses, devices):
                 paths.setdefault(net.bus_ids[b], {}).setdefault(bus, []).append(net.device_ids[d])

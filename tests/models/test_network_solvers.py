@@ -22,7 +22,7 @@ DEMO = Path(__file__).resolve().parents[2] / "site_data" / "fenwick_ridge"
 def _solve(net, meshed, monkeypatch):
     with monkeypatch.context() as patch:
         if meshed:
-            patch.setattr(network, "_is_radial", lambda sub: False)
+            patch.setattr(network, "_is_radial", lambda sub, merged: False)
         else:
             def refuse(*args):
                 raise AssertionError("the general solver was used on a radial network")
