@@ -47,9 +47,16 @@ BREAKER_OPENING_CYCLES = {
     "medium-voltage": 5.0,
     "high-voltage": 8.0,
 }
-#: Operating time of a relay's instantaneous element, one cycle at 60 Hz
-#: (common practice; shared/reference/protection.md) [s].
-RELAY_INSTANTANEOUS_S = 0.016
+#: Operating time of a relay's instantaneous element: about one cycle, 16 ms
+#: at 60 Hz as IEEE 1584-2002 Table 1 notes allow (common practice since;
+#: shared/reference/protection.md), and one cycle, 20 ms, at 50 Hz [s].
+RELAY_INSTANTANEOUS_S_BY_HZ = {60.0: 0.016, 50.0: 0.020}
+#: The 60 Hz value, kept for callers that name it [s].
+RELAY_INSTANTANEOUS_S = RELAY_INSTANTANEOUS_S_BY_HZ[60.0]
+#: IEEE C37.112 reset constant tr of each inverse-time curve: below pickup an
+#: element's progress falls at the rate 1/t_r, t_r = TD tr/(1 − M²)
+#: (shared/reference/protection.md, verified via relay manuals citing C37.112).
+IEEE_C37_112_RESET = {"moderately inverse": 4.85, "very inverse": 21.6, "extremely inverse": 29.1}
 
 
 def _currents(current_a):
@@ -159,8 +166,9 @@ class RelaySettings:
         Definite-time stages (primary amperes)
     instantaneous_a : float or None
         Instantaneous pickup, primary [A]
-    instantaneous_s : float
-        Operating time of the instantaneous element [s]
+    instantaneous_s : float or None
+        Operating time of the instantaneous element; None for about one
+        cycle of ``frequency_hz`` (:data:`RELAY_INSTANTANEOUS_S_BY_HZ`) [s]
     breaker_cycles : float
         Breaker opening time [cycles]
     frequency_hz : float
@@ -173,7 +181,7 @@ class RelaySettings:
     time_dial: float = 1.0
     definite_time: tuple = ()
     instantaneous_a: float | None = None
-    instantaneous_s: float = RELAY_INSTANTANEOUS_S
+    instantaneous_s: float | None = None
     breaker_cycles: float = BREAKER_OPENING_CYCLES["medium-voltage"]
     frequency_hz: float = 60.0
 
@@ -188,11 +196,19 @@ class RelaySettings:
                 raise ValueError(f"{name}: expected a positive number, got {getattr(self, name)!r}")
 
 
+def _instantaneous_s(relay):
+    if relay.instantaneous_s is not None:
+        return relay.instantaneous_s
+    return RELAY_INSTANTANEOUS_S_BY_HZ.get(float(relay.frequency_hz), 1.0 / relay.frequency_hz)
+
+
 def relay_parameters(relays):
     """Parameter arrays of several relays, for :func:`relay_clearing_time_batch_s`.
 
     Both standards share one form, t = TD (A/(M^p − 1) + B): IEC 60255-151 is
     A = k, p = α, B = 0. Definite-time stages are padded with NaN (never).
+    ``reset`` is the C37.112 reset constant tr, NaN for an IEC curve (reset
+    at once below pickup).
     """
     stages = max((len(r.definite_time) for r in relays), default=0)
     constants = [IEEE_C37_112[r.curve] if r.standard == "IEEE C37.112" else (*IEC_60255_151[r.curve][:1], 0.0,
@@ -204,12 +220,57 @@ def relay_parameters(relays):
         "a": np.array([c[0] for c in constants]), "b": np.array([c[1] for c in constants]),
         "p": np.array([c[2] for c in constants]),
         "time_dial": np.array([r.time_dial for r in relays], dtype=float),
+        "reset": np.array([IEEE_C37_112_RESET[r.curve] if r.standard == "IEEE C37.112" else np.nan
+                           for r in relays]),
         "stage_a": np.array([[s.pickup_a for s in row] for row in pad], dtype=float).reshape(len(relays), stages),
         "stage_s": np.array([[s.time_s for s in row] for row in pad], dtype=float).reshape(len(relays), stages),
         "instantaneous_a": np.array([np.nan if r.instantaneous_a is None else r.instantaneous_a for r in relays]),
-        "instantaneous_s": np.array([r.instantaneous_s for r in relays], dtype=float),
+        "instantaneous_s": np.array([_instantaneous_s(r) for r in relays], dtype=float),
         "breaker_s": np.array([r.breaker_cycles / r.frequency_hz for r in relays], dtype=float),
     }
+
+
+def relay_element_times_s(current_a, parameters, which):
+    """Operating time of each element of many relays, without the breaker [s].
+
+    Current k goes through relay ``which[k]``. Columns: the inverse-time
+    element, each definite-time stage, the instantaneous element; ``inf``
+    where the element does not operate (at or below its pickup).
+
+    Returns
+    -------
+    numpy.ndarray
+        Shape ``current.shape + (2 + stages,)`` [s]
+    """
+    current = _currents(current_a)
+    which = np.broadcast_to(np.asarray(which, dtype=np.intp), current.shape)
+    par = {name: values[which] for name, values in parameters.items()}
+    inverse = _inverse_time(current / par["pickup_a"], par["time_dial"], par["a"], par["b"], par["p"])
+    with np.errstate(invalid="ignore"):
+        stages = np.where(current[..., None] > par["stage_a"], par["stage_s"], np.inf)
+        instantaneous = np.where(current > par["instantaneous_a"], par["instantaneous_s"], np.inf)
+    return np.concatenate([inverse[..., None], stages, instantaneous[..., None]], axis=-1)
+
+
+def relay_reset_times_s(current_a, parameters, which):
+    """Time for each relay element to reset fully from the point of operating [s].
+
+    Inverse-time element of an IEEE C37.112 curve below pickup:
+    t_r = TD tr/(1 − M²) (IEEE C37.112 reset characteristic); at or above
+    pickup ``inf`` (it does not reset). An IEC 60255-151 inverse-time element
+    and every definite-time and instantaneous element reset at once (0)
+    below their pickup (common practice; resetting at once is the choice
+    that delays a later trip, the conservative side for arc flash).
+    """
+    current = _currents(current_a)
+    which = np.broadcast_to(np.asarray(which, dtype=np.intp), current.shape)
+    par = {name: values[which] for name, values in parameters.items()}
+    m = current / par["pickup_a"]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        inverse = np.where(m < 1.0, par["time_dial"] * par["reset"] / (1.0 - m * m), np.inf)
+    inverse = np.where(np.isnan(inverse), 0.0, inverse)
+    others = np.zeros(current.shape + (par["stage_a"].shape[-1] + 1,))
+    return np.concatenate([inverse[..., None], others], axis=-1)
 
 
 def relay_clearing_time_batch_s(current_a, parameters, which):
@@ -219,12 +280,8 @@ def relay_clearing_time_batch_s(current_a, parameters, which):
     instantaneous), plus the breaker opening time; ``inf`` below every pickup.
     """
     current = _currents(current_a)
-    par = {name: values[which] for name, values in parameters.items()}
-    t = _inverse_time(current / par["pickup_a"], par["time_dial"], par["a"], par["b"], par["p"])
-    for stage in range(par["stage_a"].shape[-1] if par["stage_a"].ndim > 1 else 0):
-        t = np.where(current > par["stage_a"][..., stage], np.minimum(t, par["stage_s"][..., stage]), t)
-    t = np.where(current > par["instantaneous_a"], np.minimum(t, par["instantaneous_s"]), t)
-    return t + par["breaker_s"]
+    which = np.broadcast_to(np.asarray(which, dtype=np.intp), current.shape)
+    return relay_element_times_s(current, parameters, which).min(axis=-1) + parameters["breaker_s"][which]
 
 
 def relay_clearing_time_s(current_a, relay):
@@ -311,39 +368,60 @@ def trip_unit_parameters(units, frequency_hz=None):
     }
 
 
-def trip_unit_time_batch_s(current_a, parameters, which, band="max", clearing=True):
-    """Trip (or, with ``clearing``, clearing) times of many trip units at once [s].
+def trip_unit_element_times_s(current_a, parameters, which, band="max"):
+    """Trip time of each element of many trip units, without the breaker [s].
 
-    Current k goes through trip unit ``which[k]``. Long time: t = LTD (6/M)²,
-    M = I/LTPU > 1 (I²t through the delay at 6 × pickup). Short time: above
-    STPU × LTPU the short-time region replaces the long-time curve: the delay
-    (or, with I²t, the delay (10/M)² but not less than the delay), never
-    slower than the long-time curve at the short-time pickup. Instantaneous:
-    above its pickup, ``instantaneous_s``. The ``max`` band raises every
-    pickup and delay by its tolerance (slowest: the conservative curve for arc
-    flash), ``min`` lowers them. Common practice for such trip units; 6 and 10
-    are the usual reference multiples.
+    Current k goes through trip unit ``which[k]``. Columns: long time, short
+    time, instantaneous; ``inf`` where the element does not operate. Long
+    time: t = LTD (6/M)², M = I/LTPU > 1 (I²t through the delay at 6 ×
+    pickup). Short time: above STPU × LTPU the short-time element replaces
+    the long-time curve (which then takes no part): the delay (or, with I²t,
+    the delay (10/M)² but not less than the delay), never slower than the
+    long-time curve at the short-time pickup. Instantaneous: above its
+    pickup, ``instantaneous_s``. The ``max`` band raises every pickup and
+    delay by its tolerance (slowest: the conservative curve for arc flash),
+    ``min`` lowers them. Common practice for such trip units; 6 and 10 are
+    the usual reference multiples.
+
+    Returns
+    -------
+    numpy.ndarray
+        Shape ``current.shape + (3,)`` [s]
     """
     if band not in _BAND:
         raise ValueError(f"band: expected 'min', 'nominal' or 'max', got {band!r}")
     current = _currents(current_a)
+    which = np.broadcast_to(np.asarray(which, dtype=np.intp), current.shape)
     par = {name: values[which] for name, values in parameters.items()}
     sign = _BAND[band]
     p = 1.0 + sign * par["pickup_tolerance"]
     d = 1.0 + sign * par["time_tolerance"]
     m = current / (par["long_time_pickup"] * par["rating_a"] * p)
-    safe_m = np.maximum(m, 1e-300)
-    t = np.where(m > 1.0, par["long_time_delay_s"] * d * (6.0 / safe_m) ** 2, np.inf)
+    above_long = m > 1.0
+    safe_m = np.where(above_long, m, 1.0)  # no overflow at or near 0 A
     stpu = par["short_time_pickup"]
     with np.errstate(invalid="ignore"):
+        in_short = m > stpu  # NaN pickup: never
         at_pickup = par["long_time_delay_s"] * d * (6.0 / stpu) ** 2
         delay = np.minimum(par["short_time_delay_s"] * d, at_pickup)
         ramp = np.minimum(at_pickup, np.maximum(delay, delay * (10.0 / safe_m) ** 2))
-        short = np.where(par["short_time_i2t"], ramp, delay)
-        t = np.where(m > stpu, short, t)  # NaN pickup: never
         above = current > par["instantaneous_pickup"] * par["rating_a"] * p
-    t = np.where(above, np.minimum(t, par["instantaneous_s"]), t)
-    return t + par["breaker_s"] if clearing else t
+    long_time = np.where(above_long & ~in_short, par["long_time_delay_s"] * d * (6.0 / safe_m) ** 2, np.inf)
+    short_time = np.where(in_short, np.where(par["short_time_i2t"], ramp, delay), np.inf)
+    instantaneous = np.where(above, par["instantaneous_s"], np.inf)
+    return np.stack([long_time, short_time, instantaneous], axis=-1)
+
+
+def trip_unit_time_batch_s(current_a, parameters, which, band="max", clearing=True):
+    """Trip (or, with ``clearing``, clearing) times of many trip units at once [s].
+
+    The fastest element of :func:`trip_unit_element_times_s`, plus the
+    breaker opening time with ``clearing``.
+    """
+    current = _currents(current_a)
+    which = np.broadcast_to(np.asarray(which, dtype=np.intp), current.shape)
+    t = trip_unit_element_times_s(current, parameters, which, band).min(axis=-1)
+    return t + parameters["breaker_s"][which] if clearing else t
 
 
 def trip_unit_trip_time_s(current_a, unit, band="max"):

@@ -95,6 +95,16 @@ class Facility(_Element):
     label_shows: Literal["energy", "category"] = Field(
         "energy", description="Labels show the incident energy with its working distance, or the PPE category.")
     site_ppe: str = Field("", description="Site-specific PPE text printed on every label.")
+    motor_contribution_cycles: Positive | None = Field(
+        None, description="Motor fault contributions end after this many cycles while an arc is cleared; "
+                          "null (default): they last the whole arc (conservative).")
+
+    @property
+    def motor_contribution_end_s(self):
+        """When motor contributions end [s], or None (they last the whole arc)."""
+        if self.motor_contribution_cycles is None:
+            return None
+        return self.motor_contribution_cycles / self.frequency_hz
 
 
 class Bus(_Element):

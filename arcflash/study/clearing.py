@@ -40,8 +40,11 @@ from ..models.curves import (
     point_curve_time_s,
     relay_clearing_time_batch_s,
     relay_clearing_time_s,
+    relay_element_times_s,
     relay_parameters,
+    relay_reset_times_s,
     trip_unit_clearing_time_s,
+    trip_unit_element_times_s,
     trip_unit_parameters,
     trip_unit_time_batch_s,
 )
@@ -196,6 +199,71 @@ class DeviceBank:
     def _relays(self, current, rows):
         return relay_clearing_time_batch_s(current, self.relays, rows)
 
+    @property
+    def element_count(self):
+        """Columns of :meth:`elements`: the most elements any device has [-]."""
+        stages = self.relays["stage_a"].shape[1] if self.relays is not None else 0
+        return max(2 + stages if self.relays is not None else 1, 3 if self.units is not None else 1, 1)
+
+    def elements(self, device, current_a):
+        """Each element of device ``device[k]`` at ``current_a[k]``, for staged clearing.
+
+        Returns
+        -------
+        tuple of numpy.ndarray
+            Trip time of each element without the breaker, ``inf`` where it
+            does not operate (m, E) [s]; time to reset fully from the point
+            of operating below its pickup (0: at once; ``inf``: holds) (m, E)
+            [s]; breaker opening time added after the trip (0 for digitised
+            total-clearing curves) (m,) [s]. Relays: inverse time,
+            definite-time stages, instantaneous; trip units: long time,
+            short time, instantaneous (max band); digitised curves: one
+            element, the total-clearing (max) curve.
+        """
+        device = np.asarray(device, dtype=np.intp)
+        current = np.asarray(current_a, dtype=float)
+        width = self.element_count
+        times = np.full((device.size, width), np.inf)
+        reset = np.zeros((device.size, width))
+        breaker = np.zeros(device.size)
+        kind = self.kind[device]
+        pick = np.flatnonzero(kind == 0)
+        if pick.size:
+            rows = self.row[device[pick]]
+            t = relay_element_times_s(current[pick], self.relays, rows)
+            times[pick, :t.shape[1]] = t
+            reset[pick, :t.shape[1]] = relay_reset_times_s(current[pick], self.relays, rows)
+            breaker[pick] = self.relays["breaker_s"][rows]
+        pick = np.flatnonzero(kind == 1)
+        if pick.size:
+            rows = self.row[device[pick]]
+            times[pick, :3] = trip_unit_element_times_s(current[pick], self.units, rows, band="max")
+            breaker[pick] = self.units["breaker_s"][rows]
+        pick = np.flatnonzero(kind == 2)
+        which = self.point_curve[device[pick]]
+        for number, name in enumerate(self.curve_names):
+            rows = pick[which == number]
+            if rows.size:
+                times[rows, 0] = point_curve_time_s(current[rows], self.curves[name], band="max")
+        return times, reset, breaker
+
+    def threshold_a(self, within_s):
+        """Smallest current at which each device clears within ``within_s`` (``inf``: never) [A].
+
+        Bisection on the logarithm of the current: clearing times never
+        increase with current.
+        """
+        n = self.kind.size
+        device = np.arange(n)
+        lo, hi = np.full(n, -3.0), np.full(n, 8.0)  # 1 mA .. 100 MA
+        never = ~(self.clearing_time_s(device, np.full(n, 1e8)) <= within_s)
+        for _ in range(60):
+            mid = 0.5 * (lo + hi)
+            fast = self.clearing_time_s(device, 10.0 ** mid) <= within_s
+            hi = np.where(fast, mid, hi)
+            lo = np.where(fast, lo, mid)
+        return np.where(never, np.inf, 10.0 ** lo)
+
     def _units(self, current, rows):
         return trip_unit_time_batch_s(current, self.units, rows, band="max")
 
@@ -244,7 +312,10 @@ class ClearingPaths:
     bank: DeviceBank
     cap_s: float | None
     source_bus: np.ndarray
-    on_loop: np.ndarray | None
+    on_loop: np.ndarray
+    sources_reaching: np.ndarray
+    excluded: dict
+    line_side: dict
 
 
 def clearing_paths(site, scenario, faults):
@@ -266,8 +337,14 @@ def clearing_paths(site, scenario, faults):
     src = np.concatenate(src_parts) if src_parts else np.array([], dtype=np.intp)
     bus_index = {b: i for i, b in enumerate(net.bus_ids)}
     device_index = {d: i for i, d in enumerate(net.device_ids)}
-    excluded = {bus_index[b] * n_dev + device_index[d]
-                for b, item in site.buses.items() for d in item.arc_not_cleared_by if d in device_index}
+    excluded_by_bus, line_side = {}, {}
+    for b, item in site.buses.items():
+        for d in item.arc_not_cleared_by:
+            if d in device_index:
+                excluded_by_bus.setdefault(bus_index[b], set()).add(device_index[d])
+                if site.devices[d].at_bus == b:  # the bus's own device: the arc is on its line side
+                    line_side.setdefault(bus_index[b], set()).add(device_index[d])
+    excluded = {k * n_dev + d for k, devices in excluded_by_bus.items() for d in devices}
     if excluded:
         keep = ~np.isin(bus * n_dev + dev, list(excluded))
         bus, dev, src = bus[keep], dev[keep], src[keep]
@@ -290,7 +367,8 @@ def clearing_paths(site, scenario, faults):
                for number, (source, _) in enumerate(sources)],
         bank=DeviceBank(site, scenario, net.device_ids), cap_s=site.facility.arc_duration_cap_s,
         source_bus=np.array([b for _, b in sources], dtype=np.intp),
-        on_loop=non_bridge_branches(net) if meshed_any else None,
+        on_loop=non_bridge_branches(net), sources_reaching=reached.sum(axis=0), excluded=excluded_by_bus,
+        line_side=line_side,
     )
 
 
@@ -333,61 +411,180 @@ def non_bridge_branches(net):
     return loop
 
 
-def _sequential_opening(faults, paths, ratio, sources_bus, buses):
-    """Arc duration in a meshed network: open devices in time order until no source reaches the bus.
+@dataclass(frozen=True)
+class ClearingResult:
+    """Arc durations of a scenario (:func:`clear_arcs`).
 
-    Candidates are the devices carrying at least 1 % of the bus fault current,
-    each timed at its share of the arcing current as the fault begins (the
-    redistribution after an opening is not followed: the remaining devices
-    usually see more current and clear sooner, so this errs long).
-
-    Returns
-    -------
-    tuple of numpy.ndarray
-        Duration [s] (inf where never cleared) and governing device index (-1).
+    Attributes
+    ----------
+    table : pandas.DataFrame
+        Per bus, see :func:`clearing_times`.
+    stages : pandas.DataFrame
+        One row per stage of every arc that was followed stage by stage:
+        ``bus``, ``case`` ('full' or 'reduced'), ``stage``, ``start_s``,
+        ``end_s``, ``bolted_ka``, ``arcing_ka``, ``range_code``.
+    steps : pandas.DataFrame
+        One row per device opening of those arcs: ``bus``, ``case``,
+        ``device``, ``opening_time_s``, ``arcing_before_ka``,
+        ``arcing_after_ka``, ``bolted_before_ka``, ``bolted_after_ka``.
     """
-    net, solution = faults.net, faults.solution
-    n = len(net.bus_ids)
-    duration = np.full(n, np.nan)
-    governing = np.full(n, -1, dtype=np.intp)
-    share = solution.device_share
-    rows = np.flatnonzero(share >= NEGLIGIBLE_PATH_SHARE)
-    bus, dev = solution.device_fault_bus[rows], solution.device[rows]
-    amps = solution.device_current_ka[rows] * ratio[bus] * 1000.0
-    times = paths.bank.clearing_time_s(dev, amps)
-    branch_of = net.device_branch[dev]
-    order = np.lexsort((times, bus))
-    bounds = np.searchsorted(bus[order], np.arange(n + 1))
-    # One adjacency matrix for all checks; an opened branch is removed by zeroing its entries.
-    # Built by hand so that parallel branches keep one entry each (a sparse constructor would sum them).
-    m = net.branch_from.size
-    rows = np.concatenate([net.branch_from, net.branch_to])
-    cols = np.concatenate([net.branch_to, net.branch_from])
-    entry_order = np.argsort(rows, kind="stable")
-    indptr = np.concatenate(([0], np.cumsum(np.bincount(rows, minlength=n))))
-    indices = cols[entry_order]
-    branch_of_entry = np.tile(np.arange(m), 2)[entry_order]
-    ones = np.ones(indices.size)
-    is_source = np.zeros(n, dtype=bool)
-    is_source[sources_bus] = True
-    for k in buses:
-        opened = np.zeros(m, dtype=bool)
-        result_t, result_d = np.inf, -1
-        for r in order[bounds[k]:bounds[k + 1]]:
-            if not np.isfinite(times[r]):
-                break
-            opened[branch_of[r]] = True
-            check = sp.csr_matrix((np.where(opened[branch_of_entry], 0.0, ones), indices, indptr), shape=(n, n))
-            check.eliminate_zeros()
-            reached = breadth_first_order(check, k, directed=False, return_predecessors=False)
-            if not is_source[reached].any():
-                result_t, result_d = times[r], dev[r]
-                break
-        duration[k], governing[k] = result_t, result_d
+
+    table: pd.DataFrame
+    stages: pd.DataFrame
+    steps: pd.DataFrame
+
+
+def _one_stage(paths, time):
+    """Duration and governing device index per bus from the source paths (-1: none)."""
+    n_bus = len(paths.bus_ids)
+    duration = np.full(n_bus, np.nan)
+    governing = np.full(n_bus, -1, dtype=np.intp)
+    live = paths.live
+    if live.any():
+        p, t, d, b = paths.path[live], time[live], paths.device[live], paths.bus[live]
+        fastest = _first_of_groups(p, t)  # the fastest device of each path
+        slowest = _first_of_groups(b[fastest], -t[fastest])  # the slowest path of each bus
+        chosen = fastest[slowest]
+        duration[b[chosen]] = t[chosen]
+        governing[b[chosen]] = d[chosen]
     return duration, governing
 
 
-def clearing_times(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None):
+def _needs_stages(faults, paths, ratio, arcing_pu, duration, governing, threshold_pu, motor_end_s):
+    """Buses whose one-stage answer is not exact: they are followed stage by stage.
+
+    The one-stage answer is exact where exactly one source reaches the bus,
+    the governing device's branch splits the network (its opening cuts the
+    bus from that source), no device opens before it at the currents of the
+    fault's inception, no device left out of the device table (under 0.1 %
+    of the bolted current) could clear within the duration cap at the
+    largest current it may carry there, and no motor contribution ends
+    before it.
+    """
+    net, solution = faults.net, faults.solution
+    n_bus = len(paths.bus_ids)
+    bus = solution.device_fault_bus
+    amps = solution.device_current_ka * ratio[bus] * 1000.0
+    first = np.full(n_bus, np.inf)
+    if bus.size:
+        np.minimum.at(first, bus, paths.bank.clearing_time_s(solution.device, np.nan_to_num(amps)))
+    bridge = np.zeros(n_bus, dtype=bool)
+    has = governing >= 0
+    bridge[has] = ~paths.on_loop[net.device_branch[governing[has]]]
+    with np.errstate(invalid="ignore"):
+        exact = ((paths.sources_reaching == 1) & bridge & (first >= duration - 1e-9)
+                 & ~(1e-3 * arcing_pu >= threshold_pu))
+    if motor_end_s is not None:
+        exact &= ~(duration > motor_end_s)
+    return paths.energized & ~paths.no_device & ~exact
+
+
+def _sequence_text(steps, device_ids):
+    return "; ".join(f"{device_ids[d]} opens at {t:.3f} s (arc {before:.3g} -> {after:.3g} kA)"
+                     for d, t, before, after, *_ in steps)
+
+
+def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None, equipment=None):
+    """Arc duration, governing device and opening sequence at every bus, both arcing cases.
+
+    Buses whose one-stage answer is exact (see :func:`_needs_stages`) take
+    it; every other bus is followed stage by stage (:mod:`.staging`).
+
+    Parameters
+    ----------
+    site : Site
+    scenario : Scenario
+    faults : ScenarioFaults
+        The scenario's faults (:func:`arcflash.study.faults.solve_scenario`).
+    arcing_ka, reduced_arcing_ka : pandas.Series
+        Per bus id: the two arcing currents at inception [kA].
+    paths : ClearingPaths, optional
+        From :func:`clearing_paths` (computed when not given).
+    equipment : pandas.DataFrame, optional
+        From :func:`arcflash.study.arcing.equipment_table` (computed when not given).
+
+    Returns
+    -------
+    ClearingResult
+    """
+    from ..models.network import base_current_ka
+    from .arcing import equipment_table
+    from .staging import StagingContext, follow_arcs, network_states, stage_arcing
+
+    paths = clearing_paths(site, scenario, faults) if paths is None else paths
+    equipment = equipment_table(site) if equipment is None else equipment
+    net = faults.net
+    n_bus, cap = len(paths.bus_ids), paths.cap_s
+    motor_end_s = site.facility.motor_contribution_end_s
+    device_base_ka = base_current_ka(site.facility.s_base_mva, net.device_kv)
+    threshold_pu = (paths.bank.threshold_a(cap if cap is not None else np.inf) / 1000.0
+                    / device_base_ka).min(initial=np.inf)
+    bus_base_ka = base_current_ka(site.facility.s_base_mva, net.base_kv)
+    result = pd.DataFrame(index=pd.Index(paths.bus_ids, name="bus"))
+    notes = list(paths.notes)
+    result["no_device"] = paths.no_device
+    stage_rows, step_rows = [], []
+    states = None
+    any_staged = np.zeros(n_bus, dtype=bool)
+    for case, prefix, arc in (("full", "", arcing_ka), ("reduced", "reduced_", reduced_arcing_ka)):
+        arc_ka = arc.reindex(paths.bus_ids).to_numpy(float)
+        ratio = np.where(paths.bolted_ka > 0, arc_ka / np.where(paths.bolted_ka > 0, paths.bolted_ka, 1.0), 0.0)
+        time = paths.bank.clearing_time_s(paths.device, paths.device_ka * ratio[paths.bus] * 1000.0)
+        duration, governing = _one_stage(paths, time)
+        staged = _needs_stages(faults, paths, ratio, np.nan_to_num(arc_ka) / bus_base_ka, duration, governing,
+                               threshold_pu, motor_end_s)
+        sequence = np.full(n_bus, "", dtype=object)
+        for k in np.flatnonzero(paths.energized & ~staged & (governing >= 0)):
+            sequence[k] = _sequence_text([(governing[k], duration[k], arc_ka[k], 0.0)], paths.device_ids)
+        no_trip_staged = np.zeros(n_bus, dtype=bool)
+        capped_staged = np.zeros(n_bus, dtype=bool)
+        if staged.any():
+            if states is None:
+                states = network_states(site, net)
+            context = StagingContext(
+                states=states, bank=paths.bank, device_branch=net.device_branch,
+                arcing=stage_arcing(net, equipment, case),
+                excluded=paths.excluded, line_side=paths.line_side, cap_s=cap, motor_end_s=motor_end_s)
+            for followed in follow_arcs(context, np.flatnonzero(staged)):
+                k = followed.bus
+                duration[k] = followed.duration_s
+                governing[k] = followed.governing
+                no_trip_staged[k], capped_staged[k] = followed.no_trip, followed.capped
+                sequence[k] = _sequence_text(followed.steps, paths.device_ids)
+                for number, (start, end, bolted, arcing, code) in enumerate(followed.stages):
+                    stage_rows.append((paths.bus_ids[k], case, number, start, end, bolted, arcing, code))
+                for d, t, before, after, bolted_before, bolted_after in followed.steps:
+                    step_rows.append((paths.bus_ids[k], case, paths.device_ids[d], t, before, after,
+                                      bolted_before, bolted_after))
+        any_staged |= staged
+        duration = np.where(paths.no_device, np.inf, duration)
+        duration = np.where(paths.energized, duration, np.nan)
+        governing = np.where(paths.no_device, -1, governing)
+        no_trip = (np.isinf(duration) & ~paths.no_device) | no_trip_staged
+        capped = ((duration > cap) if cap is not None else np.zeros(n_bus, bool)) | capped_staged
+        if cap is not None:
+            duration = np.minimum(duration, cap)
+        result[f"{prefix}clearing_time_s"] = duration
+        names = np.full(n_bus, None, dtype=object)
+        names[governing >= 0] = paths.device_ids[governing[governing >= 0]]
+        result[f"{prefix}governing_device"] = names
+        result[f"{prefix}no_trip"] = no_trip
+        result[f"{prefix}duration_capped"] = capped
+        result[f"{prefix}clearing_sequence"] = sequence
+        notes.append((no_trip, f"{case} arcing current: no device ends the arc"))
+        if cap is not None:
+            notes.append((capped, f"{case} arcing current: arc duration capped at {cap:g} s"))
+    result["meshed"] = paths.meshed
+    result["staged"] = any_staged
+    result["clearing_notes"] = _joined_notes(n_bus, notes)
+    stages = pd.DataFrame(stage_rows, columns=["bus", "case", "stage", "start_s", "end_s", "bolted_ka",
+                                               "arcing_ka", "range_code"])
+    steps = pd.DataFrame(step_rows, columns=["bus", "case", "device", "opening_time_s", "arcing_before_ka",
+                                             "arcing_after_ka", "bolted_before_ka", "bolted_after_ka"])
+    return ClearingResult(result, stages, steps)
+
+
+def clearing_times(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None, equipment=None):
     """Arc duration and governing device at every bus, for both arcing cases.
 
     Parameters
@@ -400,64 +597,19 @@ def clearing_times(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=N
         Per bus id: the two arcing currents [kA].
     paths : ClearingPaths, optional
         From :func:`clearing_paths` (computed when not given).
+    equipment : pandas.DataFrame, optional
+        Equipment geometry by bus (computed when not given).
 
     Returns
     -------
     pandas.DataFrame
-        Indexed by bus id: ``clearing_time_s``, ``governing_device``,
-        ``no_trip``, ``duration_capped`` and the same with ``reduced_``;
-        ``no_device``, ``meshed`` and ``clearing_notes`` (text).
+        Indexed by bus id: ``clearing_time_s``, ``governing_device`` (the
+        device whose opening ended the arc), ``no_trip``,
+        ``duration_capped``, ``clearing_sequence`` (the openings in order)
+        and the same with ``reduced_``; ``no_device``, ``meshed``,
+        ``staged`` (followed stage by stage) and ``clearing_notes`` (text).
     """
-    paths = clearing_paths(site, scenario, faults) if paths is None else paths
-    n_bus, cap = len(paths.bus_ids), paths.cap_s
-    bus, dev, live = paths.bus, paths.device, paths.live
-    result = pd.DataFrame(index=pd.Index(paths.bus_ids, name="bus"))
-    notes = list(paths.notes)
-    result["no_device"] = paths.no_device
-    for case, prefix, arc in (("full", "", arcing_ka), ("reduced", "reduced_", reduced_arcing_ka)):
-        ratio = arc.reindex(paths.bus_ids).to_numpy(float) / paths.bolted_ka
-        time = paths.bank.clearing_time_s(dev, paths.device_ka * ratio[bus] * 1000.0)
-        duration = np.full(n_bus, np.nan)
-        governing = np.full(n_bus, None, dtype=object)
-        path_best_bus = path_best_dev = np.array([], dtype=np.intp)
-        if live.any():
-            p, t, d, b = paths.path[live], time[live], dev[live], bus[live]
-            fastest = _first_of_groups(p, t)  # the fastest device of each path
-            path_best_bus, path_best_dev = b[fastest], d[fastest]
-            slowest = _first_of_groups(b[fastest], -t[fastest])  # the slowest path of each bus
-            chosen = fastest[slowest]
-            duration[b[chosen]] = t[chosen]
-            governing[b[chosen]] = paths.device_ids[d[chosen]]
-        if paths.meshed:
-            # The single-path answer is exact where the device it picks sits on a branch whose opening
-            # splits the network (a bridge): the path stays closed until then, and is cut then.
-            # Elsewhere the bus gets the sequential opening.
-            doubtful = paths.energized & np.array([g is None for g in governing])
-            doubtful[path_best_bus[paths.on_loop[faults.net.device_branch[path_best_dev]]]] = True
-            meshed_t, meshed_d = _sequential_opening(faults, paths, ratio, paths.source_bus,
-                                                     np.flatnonzero(doubtful))
-            duration = np.where(doubtful, meshed_t, duration)
-            governing = np.where(doubtful, np.where(meshed_d >= 0, paths.device_ids[np.maximum(meshed_d, 0)], None),
-                                 governing)
-        duration = np.where(paths.no_device, np.inf, duration)
-        duration = np.where(paths.energized, duration, np.nan)
-        governing = np.where(paths.no_device, None, governing)
-        no_trip = np.isinf(duration) & ~paths.no_device
-        capped = (duration > cap) if cap is not None else np.zeros(n_bus, bool)
-        if cap is not None:
-            duration = np.minimum(duration, cap)
-        result[f"{prefix}clearing_time_s"] = duration
-        result[f"{prefix}governing_device"] = governing
-        result[f"{prefix}no_trip"] = no_trip
-        result[f"{prefix}duration_capped"] = capped
-        notes.append((no_trip, f"{case} arcing current: no device on the path trips"))
-        if cap is not None:
-            notes.append((capped, f"{case} arcing current: arc duration capped at {cap:g} s"))
-    result["meshed"] = paths.meshed
-    notes.append((np.full(n_bus, paths.meshed), "meshed network: devices opened in time order until no source "
-                                                "reaches the bus (current redistribution not followed)"))
-    result["clearing_notes"] = _joined_notes(n_bus, notes)
-    return result
+    return clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths, equipment).table
 
 
 def clearing_table(site, scenario=None):

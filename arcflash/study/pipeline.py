@@ -16,9 +16,11 @@ import numpy as np
 import pandas as pd
 
 from ..models import ieee1584, nfpa70e
+from ..models.ieee1584_range import reason_text
+from ..models.ieee1584_staged import staged_incident_energy
 from ..models.units import j_cm2_to_cal_cm2
 from .arcing import arcing_currents, equipment_table
-from .clearing import clearing_paths, clearing_times
+from .clearing import clear_arcs, clearing_paths
 from .faults import solve_scenario
 
 #: IEEE 1584-2018 (clause 4.2 note): at 240 V or less with a bolted current under 2 kA
@@ -28,10 +30,45 @@ LOW_VOLTAGE_NOTE_KV, LOW_CURRENT_NOTE_KA = 0.24, 2.0
 
 @dataclass(frozen=True)
 class StudyResults:
-    """All rows (bus × scenario) and the governing row of each bus."""
+    """All rows (bus × scenario), the governing row of each bus, and the opening sequences.
+
+    ``steps`` has one row per device opening of every arc followed stage by
+    stage (``scenario``, ``bus``, ``case``, ``device``, ``opening_time_s``,
+    arcing and bolted current at the bus before and after); ``stages`` one
+    row per stage of those arcs.
+    """
 
     rows: pd.DataFrame
     governing: pd.DataFrame
+    steps: pd.DataFrame | None = None
+    stages: pd.DataFrame | None = None
+
+
+def _staged_energy(table, stages):
+    """Energy and boundary of the arcs followed stage by stage, summed stage by stage."""
+    for case, prefix in (("full", ""), ("reduced", "reduced_")):
+        part = stages[(stages["case"] == case) & (stages["end_s"] > stages["start_s"])]
+        if part.empty:
+            continue
+        buses = pd.unique(part["bus"])
+        arc = pd.Index(buses).get_indexer(part["bus"])
+        eq = table.loc[part["bus"]]
+        r = staged_incident_energy(
+            arc, len(buses), eq["nominal_kv"].to_numpy(float), part["bolted_ka"].to_numpy(float),
+            eq["gap_mm"].to_numpy(float), eq["working_distance_mm"].to_numpy(float),
+            (part["end_s"] - part["start_s"]).to_numpy(float), eq["config"].to_numpy(str),
+            eq["height_mm"].to_numpy(float), eq["width_mm"].to_numpy(float), eq["depth_mm"].to_numpy(float),
+            reduced=case == "reduced")
+        table.loc[buses, f"{prefix}incident_energy_cal_cm2"] = j_cm2_to_cal_cm2(r.incident_energy_j_cm2)
+        table.loc[buses, f"{prefix}arc_flash_boundary_mm"] = r.arc_flash_boundary_mm
+        code = np.zeros(len(buses), dtype=np.int64)
+        np.bitwise_or.at(code, arc, part["range_code"].to_numpy(np.int64))
+        flagged = code != 0
+        if flagged.any():
+            texts = [reason_text(c) for c in code[flagged]]
+            current = table.loc[buses[flagged], "model_range"].to_numpy(object)
+            table.loc[buses[flagged], "model_range"] = [
+                t if not c else (c if t in c else f"{c}; {t}") for c, t in zip(current, texts)]
 
 
 def _scenario_rows(site, scenario, equipment, stated_times=None):
@@ -39,14 +76,16 @@ def _scenario_rows(site, scenario, equipment, stated_times=None):
     buses = faults.buses
     arcs = arcing_currents(site, buses, equipment)
     paths = clearing_paths(site, scenario, faults)
-    times = clearing_times(site, scenario, faults, arcs["arcing_current_ka"], arcs["reduced_arcing_current_ka"],
-                           paths)
+    cleared = clear_arcs(site, scenario, faults, arcs["arcing_current_ka"], arcs["reduced_arcing_current_ka"],
+                         paths, equipment)
+    times = cleared.table
     table = buses.join(arcs).join(times).join(equipment)
     for bus, (t, tr) in (stated_times or {}).items():
         table.loc[bus, ["clearing_time_s", "reduced_clearing_time_s"]] = [t, tr]
         table.loc[bus, ["governing_device", "reduced_governing_device"]] = ["stated clearing time"] * 2
         table.loc[bus, ["no_device", "no_trip", "reduced_no_trip", "duration_capped", "reduced_duration_capped"]] = False
-        table.loc[bus, "clearing_notes"] = ""
+        table.loc[bus, ["clearing_notes", "clearing_sequence", "reduced_clearing_sequence"]] = ""
+        table.loc[bus, "staged"] = False
     live = table.index[table["energized"] & (table["bolted_ka"] > 0)]
     for column in ("incident_energy_cal_cm2", "reduced_incident_energy_cal_cm2", "arc_flash_boundary_mm",
                    "reduced_arc_flash_boundary_mm"):
@@ -65,7 +104,10 @@ def _scenario_rows(site, scenario, equipment, stated_times=None):
         table.loc[live, "arc_flash_boundary_mm"] = r.arc_flash_boundary_mm
         table.loc[live, "reduced_arc_flash_boundary_mm"] = r.reduced_arc_flash_boundary_mm
         table.loc[live, "model_range"] = r.out_of_range_reason
-    return table
+    stages = cleared.stages[~cleared.stages["bus"].isin(list(stated_times or {}))]
+    steps = cleared.steps[~cleared.steps["bus"].isin(list(stated_times or {}))]
+    _staged_energy(table, stages)
+    return table, stages, steps
 
 
 def _finish(table):
@@ -78,6 +120,8 @@ def _finish(table):
         reduced, table["reduced_arc_flash_boundary_mm"], table["arc_flash_boundary_mm"])
     table["clearing_time_governing_s"] = np.where(reduced, table["reduced_clearing_time_s"], table["clearing_time_s"])
     table["device_governing"] = np.where(reduced, table["reduced_governing_device"], table["governing_device"])
+    table["clearing_sequence_governing"] = np.where(reduced, table["reduced_clearing_sequence"],
+                                                    table["clearing_sequence"])
     energy = table["incident_energy_governing_cal_cm2"].to_numpy(float)
     table["ppe_category"] = np.where(np.isfinite(energy), nfpa70e.ppe_category(np.nan_to_num(energy)), -2)
     table["minimum_arc_rating_cal_cm2"] = nfpa70e.minimum_arc_rating_cal_cm2(energy)
@@ -124,16 +168,28 @@ def study_rows(site, progress=None, stated_times=None):
     pandas.DataFrame
         Columns with units in their names; ``bus`` and ``scenario`` first.
     """
+    return _study(site, progress, stated_times)[0]
+
+
+def _study(site, progress=None, stated_times=None):
+    """Rows, opening steps and stages of every scenario."""
     equipment = equipment_table(site)
-    parts = []
+    parts, all_steps, all_stages = [], [], []
     for scenario in site.scenarios.values():
-        table = _scenario_rows(site, scenario, equipment, stated_times)
+        table, stages, steps = _scenario_rows(site, scenario, equipment, stated_times)
         parts.append(table.reset_index())
+        all_stages.append(stages.assign(scenario=scenario.name))
+        all_steps.append(steps.assign(scenario=scenario.name))
         if progress:
             progress(scenario.name)
     rows = _finish(pd.concat(parts, ignore_index=True))
     first = ["bus", "scenario"]
-    return rows[first + [c for c in rows.columns if c not in first]]
+
+    def ordered(frames):
+        frame = pd.concat([f for f in frames if len(f)] or frames[:1], ignore_index=True)
+        return frame[["scenario"] + [c for c in frame.columns if c != "scenario"]]
+
+    return rows[first + [c for c in rows.columns if c not in first]], ordered(all_steps), ordered(all_stages)
 
 
 def governing_rows(rows):
@@ -171,8 +227,8 @@ def run_study(site, out_dir=None, progress=None, report=True, tcc_buses=None):
     StudyResults
         ``rows`` (every bus × scenario) and ``governing`` (one row per bus).
     """
-    rows = study_rows(site, progress)
-    results = StudyResults(rows=rows, governing=governing_rows(rows))
+    rows, steps, stages = _study(site, progress)
+    results = StudyResults(rows=rows, governing=governing_rows(rows), steps=steps, stages=stages)
     if out_dir is not None:
         from ..output.results import write_results
 

@@ -1,0 +1,260 @@
+"""Staged clearing: follow an arcing fault as devices open, stage by stage.
+
+Where more than one device can act on an arc before it ends — a bus fed
+over more than one path, a device that opens before the one that ends the
+arc — the arc is followed in time (the conventions below are stated with
+their sources in ``docs/protection.md``):
+
+- Stage s: the network in its present state (devices opened so far
+  removed, :mod:`arcflash.models.network_stages`) gives the bolted current
+  at the faulted bus, the arcing current from it (IEEE 1584-2018, the same
+  equipment; full or reduced case), and every device's current: its share
+  of the bolted current times I_arc/I_bf, in its own kV.
+- Each element of each device accumulates trip progress ∫ dt / t(I(t)) (the
+  integral form of the inverse-time characteristic, IEEE C37.112). An
+  element below its pickup resets: an IEEE C37.112 inverse-time element by
+  its reset characteristic, every other element at once.
+- The element whose progress reaches 1 first trips its device; the branch
+  opens after the breaker opening time (0 for digitised total-clearing
+  curves). A device that has tripped opens even if its current falls.
+- After each opening the network is solved again; the arc ends when no
+  source reaches the faulted point. The device whose opening left no
+  source connected governs. The arc-duration cap ends it otherwise.
+- Motor contributions may end after a stated time (site option); by default
+  they last the whole arc.
+- A device listed in the bus's ``arc_not_cleared_by`` that stands at the
+  bus (its ``at_bus``) has the arc on its line side: its opening separates
+  the bus (its motors, ties) from the arc, which stays fed through the
+  device's branch. A listed device standing elsewhere never opens for that
+  bus's arc (the arc stays fed through it: the longer, conservative arc).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..models import ieee1584
+from ..models.network_stages import NetworkStates, StateKey
+
+#: Two openings closer than this are simultaneous [s].
+SIMULTANEOUS_S = 1e-9
+#: Most openings followed for one arc [-].
+MAX_STAGES = 64
+
+
+@dataclass
+class StagedArc:
+    """One arc (bus, arcing case) followed stage by stage.
+
+    ``stages`` rows: (start [s], end [s], bolted [kA], arcing [kA], range
+    code); ``steps`` rows: (device index, opening time [s], arcing current
+    at the bus before and after [kA], bolted before and after [kA]).
+    """
+
+    bus: int
+    key: StateKey = field(default_factory=StateKey)
+    time_s: float = 0.0
+    progress: dict = field(default_factory=dict)
+    opening: dict = field(default_factory=dict)
+    stages: list = field(default_factory=list)
+    steps: list = field(default_factory=list)
+    done: bool = False
+    duration_s: float = np.inf
+    governing: int = -1
+    no_trip: bool = False
+    capped: bool = False
+
+
+@dataclass(frozen=True)
+class StagingContext:
+    """What the staged clearing of one scenario needs.
+
+    Attributes
+    ----------
+    states : NetworkStates
+        The scenario's network, solvable in any state.
+    bank : DeviceBank
+        Clearing-time elements of every device.
+    device_branch : numpy.ndarray of int
+        Branch of each device [-]
+    arcing : callable
+        ``arcing(bus_indices, bolted_ka)`` -> (arcing current [kA], range code).
+    excluded : dict
+        Bus index -> set of device indices in its ``arc_not_cleared_by``.
+    line_side : dict
+        Bus index -> those of them that stand at the bus (``at_bus``): the
+        arc is on their line side.
+    cap_s : float or None
+        Arc-duration cap [s]
+    motor_end_s : float or None
+        Time after which motor contributions end; None: never [s]
+    """
+
+    states: object
+    bank: object
+    device_branch: np.ndarray
+    arcing: object
+    excluded: dict
+    line_side: dict
+    cap_s: float | None
+    motor_end_s: float | None
+
+
+def follow_arcs(context, buses):
+    """Follow the arcs at ``buses`` (bus indices) until each ends; see the module docstring.
+
+    Returns
+    -------
+    list of StagedArc
+    """
+    arcs = [StagedArc(int(k)) for k in buses]
+    active = list(arcs)
+    for _ in range(MAX_STAGES + 1):
+        if not active:
+            break
+        groups = {}
+        for arc in active:
+            groups.setdefault(arc.key, []).append(arc)
+        for key, group in groups.items():
+            solved = context.states.solve(key, np.array([a.bus for a in group], dtype=np.intp))
+            arcing_ka, code = context.arcing(np.array([a.bus for a in group], dtype=np.intp), solved.bolted_ka)
+            for row, arc in enumerate(group):
+                ratio = arcing_ka[row] / solved.bolted_ka[row] if solved.bolted_ka[row] > 0 else 0.0
+                _advance(context, arc, solved.bolted_ka[row], arcing_ka[row], int(code[row]),
+                         solved.device_current_ka[row] * ratio * 1000.0)
+        active = [a for a in active if not a.done]
+    for arc in active:  # more openings than MAX_STAGES: stop at the cap, flagged
+        arc.done, arc.no_trip = True, True
+    return arcs
+
+
+def _advance(context, arc, bolted_ka, arcing_ka, code, device_a):
+    """One stage of ``arc``: from its present time to the next opening (or the end)."""
+    if arc.steps and arc.steps[-1][3] is None:
+        for step in arc.steps:
+            if step[3] is None:
+                step[3], step[5] = arcing_ka, bolted_ka
+    bank = context.bank
+    excluded = context.excluded.get(arc.bus, set())
+    held = np.array(sorted(arc.progress), dtype=np.intp)
+    candidates = np.flatnonzero(device_a > 0.0)
+    candidates = candidates[~np.isin(candidates, list(arc.opening))]
+    if excluded:
+        never = list(excluded - context.line_side.get(arc.bus, set()))
+        candidates = candidates[~np.isin(candidates, never)]
+    devices = np.union1d(candidates, held).astype(np.intp)
+    times, reset, breaker = bank.elements(devices, device_a[devices])
+    progress = np.array([arc.progress.get(int(d), np.zeros(times.shape[1])) for d in devices]).reshape(times.shape)
+    with np.errstate(invalid="ignore"):
+        remaining = np.where(np.isfinite(times), (1.0 - progress) * times, np.inf)
+    trip_in = remaining.min(axis=1) if devices.size else np.zeros(0)
+    open_at = arc.time_s + trip_in + breaker
+    next_time = min([float(open_at.min()) if open_at.size else np.inf] + list(arc.opening.values()))
+    motors_end = (context.motor_end_s is not None and not arc.key.motors_off
+                  and context.motor_end_s >= arc.time_s)
+    if motors_end:
+        next_time = min(next_time, context.motor_end_s)
+    end = next_time
+    if context.cap_s is not None and end > context.cap_s:
+        end = context.cap_s
+    arc.stages.append((arc.time_s, end, bolted_ka, arcing_ka, code))
+    if not np.isfinite(end) or end < next_time:  # nothing more opens, or the cap comes first
+        arc.done, arc.duration_s = True, end
+        arc.no_trip = not np.isfinite(next_time)
+        arc.capped = np.isfinite(end) and end < next_time
+        return
+    dt = end - arc.time_s
+    tripped = trip_in <= dt + SIMULTANEOUS_S
+    for d, at in zip(devices[tripped], open_at[tripped]):
+        arc.opening[int(d)] = float(at)
+        arc.progress.pop(int(d), None)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        rising = np.where(np.isfinite(times), progress + dt / times, 0.0)
+        falling = np.where(reset > 0.0, np.maximum(progress - dt / reset, 0.0), 0.0)
+    updated = np.where(np.isfinite(times), rising, np.where(np.isinf(reset), progress, falling))
+    for d, row, trip in zip(devices, updated, tripped):
+        if trip:
+            continue
+        if row.any():
+            arc.progress[int(d)] = row
+        else:
+            arc.progress.pop(int(d), None)
+    arc.time_s = end
+    now = sorted(d for d, at in arc.opening.items() if at <= end + SIMULTANEOUS_S)
+    for d in now:
+        del arc.opening[d]
+    arc.key = _after_openings(context, arc, arc.key, now, motors_end and end >= context.motor_end_s)
+    for d in now:
+        arc.steps.append([d, end, arcing_ka, None, bolted_ka, None])
+    if not context.states.reaches_source(arc.key, arc.bus):
+        for step in arc.steps:
+            if step[3] is None:
+                step[3], step[5] = 0.0, 0.0
+        arc.done, arc.duration_s = True, end
+        arc.governing = _governing(context, arc, now)
+
+
+def _after_openings(context, arc, key, devices, motors_off):
+    """The state after ``devices`` open (and motor contributions end, with ``motors_off``)."""
+    opened, split = set(key.opened), key.split
+    line_side = context.line_side.get(arc.bus, set())
+    for d in devices:
+        branch = int(context.device_branch[d])
+        if d in line_side:  # on the arc's source side: the bus is cut from the arc, not the arc from its source
+            moved = set(split[1]) if split else set()
+            split = (arc.bus, frozenset(moved | {branch}))
+        else:
+            opened.add(branch)
+    return StateKey(frozenset(opened), key.motors_off or motors_off, split)
+
+
+def _governing(context, arc, devices):
+    """Of the devices opening at the arc's end, the one whose opening left no source connected."""
+    if len(devices) == 1:
+        return devices[0]
+    before = StateKey(frozenset(set(arc.key.opened) - {int(context.device_branch[d]) for d in devices}),
+                      arc.key.motors_off, arc.key.split)
+    for d in devices:
+        alone = _after_openings(context, arc, before, [d], False)
+        if not context.states.reaches_source(alone, arc.bus):
+            return d
+    return devices[0]
+
+
+def network_states(site, net):
+    """:class:`~arcflash.models.network_stages.NetworkStates` of a scenario's network arrays."""
+    sources = set(net.source_ids)
+    return NetworkStates(
+        net.base_kv, net.branch_from, net.branch_to, net.branch_z_pu, net.shunt_bus, net.shunt_z_pu,
+        np.array([ident not in sources for ident in net.shunt_ids], dtype=bool), net.source_bus,
+        net.device_branch, net.device_kv, voltage_factor=site.facility.voltage_factor,
+        s_base_mva=site.facility.s_base_mva)
+
+
+def stage_arcing(net, equipment, case):
+    """``arcing(bus_indices, bolted_ka)``: IEEE 1584-2018 arcing current of a stage and its range code.
+
+    ``case`` 'full' gives the arcing current, 'reduced' the reduced arcing
+    current (Eq. 3), with each bus's own equipment.
+    """
+    eq = equipment.reindex(net.bus_ids)
+    columns = {name: eq[name].to_numpy(float) for name in ("gap_mm", "working_distance_mm", "height_mm",
+                                                            "width_mm", "depth_mm")}
+    config = eq["config"].to_numpy(str)
+
+    def arcing(buses, bolted_ka):
+        current = np.zeros(buses.size)
+        code = np.zeros(buses.size, dtype=np.int64)
+        live = bolted_ka > 0
+        if live.any():
+            b = buses[live]
+            r = ieee1584.evaluate(net.base_kv[b], bolted_ka[live], columns["gap_mm"][b],
+                                  columns["working_distance_mm"][b], 1.0, 1.0, config[b], columns["height_mm"][b],
+                                  columns["width_mm"][b], columns["depth_mm"][b])
+            current[live] = r.arcing_current_ka if case == "full" else r.reduced_arcing_current_ka
+            code[live] = r.out_of_range_code
+        return current, code
+
+    return arcing
