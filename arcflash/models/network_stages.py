@@ -25,13 +25,16 @@ from dataclasses import dataclass
 
 import numpy as np
 import scipy.sparse as sp
-from scipy.sparse.csgraph import connected_components
+from scipy.sparse.csgraph import connected_components, shortest_path
 from scipy.sparse.linalg import splu
 
 from .network import admittance_matrix, base_current_ka
 
 #: Fault columns solved together [-].
 BLOCK_COLUMNS = 128
+#: Branches of smaller impedance (closed switches, 1e-6 pu) are not removed by a low-rank
+#: update: the update's small matrix would lose most of its digits; the state is factorised [pu].
+LOW_RANK_MIN_Z_PU = 1e-4
 
 
 @dataclass(frozen=True)
@@ -140,7 +143,7 @@ class NetworkStates:
         graph = sp.coo_matrix((np.ones(int(closed.sum())), (f[closed], t[closed])), shape=(m, m))
         _, label = connected_components(graph, directed=False)
         energized = np.isin(label, label[self.source_bus]) if self.source_bus.size else np.zeros(m, bool)
-        topology = (f, t, closed, energized)
+        topology = (f, t, closed, energized, label)
         self._states[cache_key] = topology
         return topology
 
@@ -148,7 +151,7 @@ class NetworkStates:
         """Energised nodes, renumbering and LU factorisation of a state (cached)."""
         if key in self._states:
             return self._states[key]
-        f, t, closed, energized = self._topology(key)
+        f, t, closed, energized, _ = self._topology(key)
         index = np.full(energized.size, -1, dtype=np.intp)
         active = np.flatnonzero(energized)
         index[active] = np.arange(active.size)
@@ -172,8 +175,59 @@ class NetworkStates:
         """Number of LU factorisations made so far (one per distinct state solved) [-]."""
         return sum(1 for key in self._states if isinstance(key, StateKey))
 
+    def _update_plan(self, key):
+        """Branches whose removal turns the base state into ``key`` by a low-rank update, or None.
+
+        None (factorise the state itself) for a line-side split, ended motor
+        contributions, a near-zero-impedance branch among the removed ones
+        (a closed switch: the update would lose its precision), or a part
+        left without any shunt that more than one opened branch touches. A
+        part without shunts touched by a single opened branch keeps that
+        branch (it hangs on as a dead end that carries nothing).
+        """
+        if key.split is not None or key.motors_off:
+            return None
+        f, t, _, _, label = self._topology(key)
+        grounded = np.zeros(label.max() + 1, dtype=bool)
+        grounded[label[self.shunt_bus]] = True
+        applied, cuts = [], {}
+        for b in sorted(key.opened):
+            a, c = label[f[b]], label[t[b]]
+            if a != c:
+                for part in (a, c):
+                    if not grounded[part]:
+                        cuts.setdefault(part, []).append(b)
+            applied.append(b)
+        for part, branches in cuts.items():
+            if len(branches) > 1:
+                return None
+            applied.remove(branches[0])
+        if any(abs(self.branch_z_pu[b]) < LOW_RANK_MIN_Z_PU for b in applied):
+            return None
+        return applied
+
+    def _update_columns(self, branches):
+        """Z u_b of the base state for each branch b (cached) [pu]."""
+        energized, index, lu, _, _ = self._prepared(StateKey())
+        cache = self._states.setdefault("update_columns", {})
+        missing = [b for b in branches if b not in cache]
+        if missing:
+            rhs = np.zeros((lu.shape[0], len(missing)), dtype=complex)
+            cols = np.arange(len(missing))
+            rhs[index[self.branch_from[missing]], cols] += 1.0
+            rhs[index[self.branch_to[missing]], cols] -= 1.0
+            solved = lu.solve(rhs)
+            for number, b in enumerate(missing):
+                cache[b] = solved[:, number]
+        return np.column_stack([cache[b] for b in branches])
+
     def solve(self, key, fault_bus):
         """Faults at ``fault_bus`` (bus indices) in state ``key``.
+
+        A state reached by opening branches is solved with the base state's
+        factorisation and a low-rank (Woodbury) update for the opened
+        branches where that is exact and well conditioned
+        (:meth:`_update_plan`); otherwise with its own factorisation.
 
         Parameters
         ----------
@@ -187,7 +241,13 @@ class NetworkStates:
         StageFaults
         """
         fault_bus = np.asarray(fault_bus, dtype=np.intp)
-        energized, index, lu, (end_f, end_t), live = self._prepared(key)
+        f, t, closed, energized, label = self._topology(key)
+        plan = self._update_plan(key) if key.opened else None
+        if plan is None:
+            _, index, lu, _, _ = self._prepared(key)
+        else:
+            _, index, lu, _, _ = self._prepared(StateKey())
+            w = self._update_columns(plan) if plan else None
         point = fault_bus.copy()
         if key.split is not None:
             point[:] = self.n  # the line-side node
@@ -196,7 +256,10 @@ class NetworkStates:
         current = np.zeros((k_count, d_count))
         share = np.zeros((k_count, d_count))
         on = energized[point]
-        z_b = self.branch_z_pu[self.device_branch[live]]
+        b = self.device_branch
+        carrying = closed[b] & energized[f[b]]
+        end_f, end_t = index[f[b]], index[t[b]]
+        z_b = self.branch_z_pu[b]
         for lo in range(0, k_count, BLOCK_COLUMNS):
             rows = np.flatnonzero(on[lo:lo + BLOCK_COLUMNS]) + lo
             if not rows.size:
@@ -205,14 +268,30 @@ class NetworkStates:
             rhs = np.zeros((lu.shape[0], rows.size), dtype=complex)
             rhs[col, np.arange(rows.size)] = 1.0
             z = lu.solve(rhs)  # Z[:, k] of each fault
+            if plan:
+                # Y' = Y - U diag(y) U^T: Z' = Z - W (-diag(z_b) + U^T W)^-1 W^T, W = Z U (Woodbury).
+                ends = (index[self.branch_from[plan]], index[self.branch_to[plan]])
+                small = np.diag(-self.branch_z_pu[plan]) + (w[ends[0]] - w[ends[1]])
+                z = z - w @ np.linalg.solve(small, w[col].T)
             z_kk = z[col, np.arange(rows.size)]
             i_fault = self.voltage_factor / z_kk  # [pu]
             bolted[rows] = np.abs(i_fault) * base_current_ka(self.s_base_mva, self.base_kv[fault_bus[rows]])
-            drop = (z[end_f[live]] - z[end_t[live]]) * i_fault[None, :]  # V_i - V_j, up to sign
-            i_dev = np.abs(drop / z_b[:, None]).T
-            current[np.ix_(rows, np.flatnonzero(live))] = i_dev * self.device_base_ka[live][None, :]
-            share[np.ix_(rows, np.flatnonzero(live))] = i_dev / np.abs(i_fault)[:, None]
+            # A device carries current only in the faulted point's part of the network.
+            live = carrying[None, :] & (label[f[b]][None, :] == label[point[rows]][:, None])
+            drop = (z[end_f] - z[end_t]) * i_fault[None, :]  # V_i - V_j, up to sign
+            i_dev = np.where(live, np.abs(drop / z_b[:, None]).T, 0.0)
+            current[rows] = i_dev * self.device_base_ka[None, :]
+            share[rows] = i_dev / np.abs(i_fault)[:, None]
         return StageFaults(energized=on, bolted_ka=bolted, device_current_ka=current, device_share=share)
+
+    def hops_from(self, bus):
+        """Number of branches between ``bus`` and every bus, all branches closed (cached) [-]."""
+        cache = self._states.setdefault("hops", {})
+        if bus not in cache:
+            graph = sp.coo_matrix((np.ones(self.branch_from.size), (self.branch_from, self.branch_to)),
+                                  shape=(self.n, self.n))
+            cache[bus] = shortest_path(graph, directed=False, unweighted=True, indices=bus)
+        return cache[bus]
 
     def reaches_source(self, key, bus):
         """Whether a source still reaches ``bus`` (the split node when the state splits it) [-]."""

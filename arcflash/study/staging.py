@@ -56,7 +56,8 @@ class StagedArc:
     bus: int
     key: StateKey = field(default_factory=StateKey)
     time_s: float = 0.0
-    progress: dict = field(default_factory=dict)
+    held_device: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.intp))
+    held_progress: np.ndarray = field(default_factory=lambda: np.zeros((0, 1)))
     opening: dict = field(default_factory=dict)
     stages: list = field(default_factory=list)
     steps: list = field(default_factory=list)
@@ -86,6 +87,9 @@ class StagingContext:
     line_side : dict
         Bus index -> those of them that stand at the bus (``at_bus``): the
         arc is on their line side.
+    operating_a : numpy.ndarray
+        Per device, a current below which none of its elements operates
+        (a lower bound of its smallest pickup) [A]
     cap_s : float or None
         Arc-duration cap [s]
     motor_end_s : float or None
@@ -98,6 +102,7 @@ class StagingContext:
     arcing: object
     excluded: dict
     line_side: dict
+    operating_a: np.ndarray
     cap_s: float | None
     motor_end_s: float | None
 
@@ -138,15 +143,17 @@ def _advance(context, arc, bolted_ka, arcing_ka, code, device_a):
                 step[3], step[5] = arcing_ka, bolted_ka
     bank = context.bank
     excluded = context.excluded.get(arc.bus, set())
-    held = np.array(sorted(arc.progress), dtype=np.intp)
-    candidates = np.flatnonzero(device_a > 0.0)
-    candidates = candidates[~np.isin(candidates, list(arc.opening))]
+    candidates = np.flatnonzero(device_a >= context.operating_a)  # below: no element operates
+    if arc.opening:
+        candidates = candidates[~np.isin(candidates, list(arc.opening))]
     if excluded:
         never = list(excluded - context.line_side.get(arc.bus, set()))
         candidates = candidates[~np.isin(candidates, never)]
-    devices = np.union1d(candidates, held).astype(np.intp)
+    devices = np.union1d(candidates, arc.held_device).astype(np.intp)
     times, reset, breaker = bank.elements(devices, device_a[devices])
-    progress = np.array([arc.progress.get(int(d), np.zeros(times.shape[1])) for d in devices]).reshape(times.shape)
+    progress = np.zeros(times.shape)
+    if arc.held_device.size:
+        progress[np.searchsorted(devices, arc.held_device)] = arc.held_progress
     with np.errstate(invalid="ignore"):
         remaining = np.where(np.isfinite(times), (1.0 - progress) * times, np.inf)
     trip_in = remaining.min(axis=1) if devices.size else np.zeros(0)
@@ -164,23 +171,20 @@ def _advance(context, arc, bolted_ka, arcing_ka, code, device_a):
         arc.done, arc.duration_s = True, end
         arc.no_trip = not np.isfinite(next_time)
         arc.capped = np.isfinite(end) and end < next_time
+        if arc.capped:  # name the device that would have opened next, as the one-stage answer does
+            pending = {**arc.opening, **{int(d): float(t) for d, t in zip(devices, open_at)}}
+            arc.governing = min(pending, key=pending.get)
         return
     dt = end - arc.time_s
     tripped = trip_in <= dt + SIMULTANEOUS_S
     for d, at in zip(devices[tripped], open_at[tripped]):
         arc.opening[int(d)] = float(at)
-        arc.progress.pop(int(d), None)
     with np.errstate(invalid="ignore", divide="ignore"):
         rising = np.where(np.isfinite(times), progress + dt / times, 0.0)
         falling = np.where(reset > 0.0, np.maximum(progress - dt / reset, 0.0), 0.0)
     updated = np.where(np.isfinite(times), rising, np.where(np.isinf(reset), progress, falling))
-    for d, row, trip in zip(devices, updated, tripped):
-        if trip:
-            continue
-        if row.any():
-            arc.progress[int(d)] = row
-        else:
-            arc.progress.pop(int(d), None)
+    keep = ~tripped & updated.any(axis=1)
+    arc.held_device, arc.held_progress = devices[keep], updated[keep]
     arc.time_s = end
     now = sorted(d for d, at in arc.opening.items() if at <= end + SIMULTANEOUS_S)
     for d in now:
@@ -211,16 +215,23 @@ def _after_openings(context, arc, key, devices, motors_off):
 
 
 def _governing(context, arc, devices):
-    """Of the devices opening at the arc's end, the one whose opening left no source connected."""
+    """Of the devices opening at the arc's end, the one whose opening left no source connected.
+
+    Where several would have done so alone (devices in series), the one
+    nearest the faulted bus (fewest branches away) governs.
+    """
     if len(devices) == 1:
         return devices[0]
     before = StateKey(frozenset(set(arc.key.opened) - {int(context.device_branch[d]) for d in devices}),
                       arc.key.motors_off, arc.key.split)
-    for d in devices:
-        alone = _after_openings(context, arc, before, [d], False)
-        if not context.states.reaches_source(alone, arc.bus):
-            return d
-    return devices[0]
+    enough = [d for d in devices
+              if not context.states.reaches_source(_after_openings(context, arc, before, [d], False), arc.bus)]
+    if not enough:
+        return devices[0]
+    hops = context.states.hops_from(arc.bus)
+    branch_from, branch_to = context.states.branch_from, context.states.branch_to
+    return min(enough, key=lambda d: min(hops[branch_from[context.device_branch[d]]],
+                                         hops[branch_to[context.device_branch[d]]]))
 
 
 def network_states(site, net):

@@ -192,3 +192,28 @@ def test_clearing_time_never_increases_with_current(currents):
                   point_curve_time_s(currents, FUSE, "min")):
         finite = np.where(np.isinf(times), 1e300, times)
         assert np.all(np.diff(finite) <= 1e-12 * np.maximum(finite[:-1], 1.0))
+
+
+def test_definite_time_stage_at_a_scalar_current():
+    # A definite-time stage acts at a scalar current as on an array (issue 10: the TCC plot of SWG-4KV
+    # missed 52-4M's 0.25 s stage). IEC standard inverse, TMS 0.3, pickup 3000 A; at 20 kA (M = 6.67)
+    # the inverse element needs 0.3 x 0.14/(6.67^0.02 - 1) = 1.0822 s; the stage at 18 kA gives 0.25 s;
+    # + 5 cycles at 60 Hz (IEEE 1584-2002 Table 1, common practice).
+    relay = RelaySettings(pickup_a=3000.0, standard="IEC 60255-151", curve="standard inverse", time_dial=0.3,
+                          definite_time=(DefiniteTimeStage(18000.0, 0.25),))
+    assert float(relay_clearing_time_s(20000.0, relay)) == pytest.approx(0.25 + 5 / 60, rel=1e-12)
+    assert float(relay_clearing_time_s(np.array([20000.0]), relay)[0]) == pytest.approx(0.25 + 5 / 60, rel=1e-12)
+
+
+@pytest.mark.parametrize("hz, cycle_s", [(60, 0.016), (50, 0.020)])
+def test_relay_instantaneous_is_about_one_cycle(hz, cycle_s):
+    # Instantaneous element: 16 ms at 60 Hz (shared/reference/protection.md, IEEE 1584-2002 note) and
+    # one cycle, 20 ms, at 50 Hz (common practice); breaker 5 cycles of the system frequency.
+    relay = RelaySettings(pickup_a=100.0, instantaneous_a=1000.0, frequency_hz=hz)
+    assert float(relay_clearing_time_s(5000.0, relay)) == pytest.approx(cycle_s + 5 / hz, rel=1e-12)
+
+
+def test_trip_unit_at_zero_current_does_not_trip_and_warns_nothing():
+    # filterwarnings turns a RuntimeWarning from arcflash into an error: 0 A must be quiet.
+    unit = TripUnitSettings(rating_a=800.0, short_time_pickup=6.0, short_time_i2t=True)
+    assert np.isinf(trip_unit_clearing_time_s(np.array([0.0, 1e-300]), unit)).all()
