@@ -144,7 +144,7 @@ def clearing(site_dir, scenario, csv_path):
 @main.command("study")
 @click.argument("site_dir", type=click.Path(file_okay=True, dir_okay=True))
 @click.option("--out", "out_dir", type=click.Path(file_okay=False), required=True,
-              help="Folder for results.csv, governing.csv, results.xlsx and report.pdf.")
+              help="Folder for results.csv, governing.csv, steps.csv, results.xlsx and report.pdf.")
 @click.option("--tcc-bus", "tcc_buses", multiple=True, help="Bus with a TCC page in the report (repeatable).")
 @click.option("--no-report", is_flag=True, help="Write the result tables only.")
 @click.option("--quiet", is_flag=True, help="No progress bar.")
@@ -166,7 +166,7 @@ def study(site_dir, out_dir, tcc_buses, no_report, quiet):
     click.echo(f"Study of {site.facility.name}: {len(governing)} buses, {len(site.scenarios)} scenarios.")
     click.echo(f"Highest incident energy: {governing.loc[worst, 'incident_energy_governing_cal_cm2']:.1f} cal/cm2 "
                f"at {worst} ({governing.loc[worst, 'scenario']}); {flagged} buses flagged.")
-    files = ["results.csv", "governing.csv", "results.xlsx"] + ([] if no_report else ["report.pdf"])
+    files = ["results.csv", "governing.csv", "steps.csv", "results.xlsx"] + ([] if no_report else ["report.pdf"])
     click.echo(f"Results in {out_dir}: " + ", ".join(files))
     click.echo(CAUTION)
 

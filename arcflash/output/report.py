@@ -168,8 +168,13 @@ def _method(site):
         "arcing current with their own clearing times; the larger energy governs. Inputs outside the model's "
         "range are computed and flagged.",
         "Clearing: each device at its own share of the arcing current in its own kV, slowest (maximum) curve of "
-        "its band; a source path is interrupted by its fastest device and the arc ends when every path is; "
-        f"meshed networks by sequential opening. Arc-duration cap: {cap} (IEEE 1584-2018 guidance).",
+        "its band. Where one source feeds the bus and its path's fastest device is the first to open, that "
+        "device ends the arc. Everywhere else the arc is followed stage by stage: after each opening the "
+        "network is solved again, every device gathers trip progress (the integral of dt/t(I), IEEE C37.112) "
+        "at its new current, and the energy is summed over the stages; the governing device is the one whose "
+        "opening ended the arc. Motor contributions "
+        + (f"end after {f.motor_contribution_cycles:g} cycles" if f.motor_contribution_cycles else
+           "last the whole arc") + f". Arc-duration cap: {cap} (IEEE 1584-2018 guidance).",
         "PPE category by NFPA 70E (2021) Table 130.7(C)(15)(c) arc ratings from the calculated energy; shock "
         "approach boundaries by Table 130.4(E)(a). Above 40 cal/cm2 no PPE category applies.",
         "Coefficient tables and typical values marked 'from memory' in docs/method.md await a check against the "
@@ -213,6 +218,13 @@ def write_report(site, results, path, tcc_buses=None):
     story += [PageBreak(), Paragraph("Highest-risk equipment", _STYLES["Heading2"]),
               _table(["bus", "kV", "scenario / case", "device", "t (s)", "E (cal/cm2)", "arc-flash boundary",
                       "PPE category"], _results_rows(risky))]
+    staged = [(bus, f"{r['scenario']} / {r['governing_case']}", r["clearing_sequence_governing"])
+              for bus, r in governing.iterrows() if r.get("staged") and r["clearing_sequence_governing"]]
+    if staged:
+        story += [Spacer(1, 12), Paragraph("Opening sequences of arcs followed stage by stage (governing rows)",
+                                           _STYLES["Heading2"]),
+                  _table(["bus", "scenario / case", "openings in order: time, arcing current at the bus before -> "
+                          "after"], staged, widths=[1.1 * inch, 1.4 * inch, 4.5 * inch])]
     flagged = [(bus, r["flags"]) for bus, r in governing.iterrows() if r["flags"]]
     story += [Spacer(1, 12), Paragraph("Flags (governing rows)", _STYLES["Heading2"]),
               _table(["bus", "flags"], flagged or [["-", "none"]], widths=[1.2 * inch, 5.8 * inch])]

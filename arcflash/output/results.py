@@ -15,7 +15,7 @@ GOVERNING_COLUMNS = [
     "reduced_arcing_current_ka", "clearing_time_governing_s", "incident_energy_governing_cal_cm2",
     "arc_flash_boundary_governing_mm", "working_distance_mm", "config", "gap_mm", "ppe_category",
     "minimum_arc_rating_cal_cm2", "limited_approach_movable_mm", "limited_approach_fixed_mm",
-    "restricted_approach_mm", "flags",
+    "restricted_approach_mm", "clearing_sequence_governing", "flags",
 ]
 
 
@@ -46,7 +46,8 @@ def _write_xlsx(path, sheets):
 
 
 def write_results(site, results, out_dir, report=True, tcc_buses=None):
-    """Write ``results.csv`` (every bus × scenario), ``governing.csv``, ``results.xlsx`` and ``report.pdf``.
+    """Write ``results.csv`` (every bus × scenario), ``governing.csv``, ``steps.csv`` (device openings of
+    arcs followed stage by stage), ``results.xlsx`` and ``report.pdf``.
 
     Returns
     -------
@@ -57,11 +58,13 @@ def write_results(site, results, out_dir, report=True, tcc_buses=None):
     out.mkdir(parents=True, exist_ok=True)
     governing = governing_table(results)
     paths = {"results.csv": out / "results.csv", "governing.csv": out / "governing.csv",
-             "results.xlsx": out / "results.xlsx"}
+             "steps.csv": out / "steps.csv", "results.xlsx": out / "results.xlsx"}
     write_atomic(paths["results.csv"], lambda tmp: results.rows.to_csv(tmp, index=False, float_format="%.10g"))
     write_atomic(paths["governing.csv"], lambda tmp: governing.to_csv(tmp, float_format="%.10g"))
+    steps = results.steps if results.steps is not None else pd.DataFrame()
+    write_atomic(paths["steps.csv"], lambda tmp: steps.to_csv(tmp, index=False, float_format="%.10g"))
 
-    sheets = [("governing", governing.reset_index()), ("all rows", results.rows),
+    sheets = [("governing", governing.reset_index()), ("all rows", results.rows), ("openings", steps),
               ("caution", pd.DataFrame({"caution": [CAUTION]}))]
     write_atomic(paths["results.xlsx"], lambda tmp: _write_xlsx(tmp, sheets))
     if report:

@@ -217,8 +217,9 @@ def _after_openings(context, arc, key, devices, motors_off):
 def _governing(context, arc, devices):
     """Of the devices opening at the arc's end, the one whose opening left no source connected.
 
-    Where several would have done so alone (devices in series), the one
-    nearest the faulted bus (fewest branches away) governs.
+    Where several would have done so alone (devices in series), or none
+    would have alone (every one was needed), the one nearest the faulted bus
+    (fewest branches away) governs.
     """
     if len(devices) == 1:
         return devices[0]
@@ -226,8 +227,7 @@ def _governing(context, arc, devices):
                       arc.key.motors_off, arc.key.split)
     enough = [d for d in devices
               if not context.states.reaches_source(_after_openings(context, arc, before, [d], False), arc.bus)]
-    if not enough:
-        return devices[0]
+    enough = enough or list(devices)
     hops = context.states.hops_from(arc.bus)
     branch_from, branch_to = context.states.branch_from, context.states.branch_to
     return min(enough, key=lambda d: min(hops[branch_from[context.device_branch[d]]],

@@ -163,3 +163,16 @@ def test_parallel_feeders_both_must_open(tmp_path):
     row = clearing_table(arcflash.load_site(write_site(tmp_path / "parallel", doc))).loc["END"]
     assert row["governing_device"] == "CB-C2"
     assert row["clearing_time_s"] == pytest.approx(0.5 * 1.15 + 3 / 60, rel=1e-12)
+
+
+def test_tcc_dot_agrees_with_clearing_table(demo, normal):
+    # Issue 10: the TCC plot of SWG-4KV showed 52-4M at 0.94 s (its definite-time stage was skipped at a
+    # scalar current) while the clearing table gives 0.25 s + 5 cycles.
+    from arcflash.study.clearing import device_curve
+    from arcflash.study.faults import solve_scenario
+
+    faults = solve_scenario(demo, "normal")
+    row = faults.devices.query("fault_bus == 'SWG-4KV' and device == '52-4M'").iloc[0]
+    amps = row.current_ka * normal.loc["SWG-4KV", "arcing_current_ka"] / normal.loc["SWG-4KV", "bolted_ka"] * 1000
+    t = float(device_curve(demo, "52-4M").clearing_time_s(amps))
+    assert t == pytest.approx(0.25 + 5 / 60, rel=1e-12) == normal.loc["SWG-4KV", "clearing_time_s"]

@@ -52,7 +52,7 @@ def test_every_stage_of_staged_clearing(tmp_path):
     from arcflash.study.clearing import clear_arcs
     from arcflash.study.faults import solve_scenario
 
-    site = arcflash.load_site(synthetic_site(tmp_path / "s", 300, ties=6, substation_size=60))
+    site = arcflash.load_site(synthetic_site(tmp_path / "s", 150, ties=6, substation_size=30))
     scenario = site.scenario("ties-closed")
     faults = solve_scenario(site, scenario.name)
     arcs = arcing_currents(site, faults.buses)
@@ -64,7 +64,7 @@ def test_every_stage_of_staged_clearing(tmp_path):
     multi = [bus for bus, group in full.groupby("bus") if (group["bolted_after_ka"] > 0).any()]
     assert len(multi) >= 3  # arcs that outlive their first opening
     checked = 0
-    for bus in multi[:8]:
+    for bus in multi[:4]:
         opened = set()
         for _, together in full[full["bus"] == bus].groupby("opening_time_s"):  # simultaneous openings
             opened |= {branch_of[device] for device in together["device"]}
