@@ -115,7 +115,8 @@ def energized_buses(n_bus, branch_from, branch_to, source_bus):
 
 
 def solve_faults(base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_z_pu, source_bus,
-                 device_branch=(), device_kv=(), voltage_factor=1.0, s_base_mva=100.0, min_share=1e-3):
+                 device_branch=(), device_kv=(), voltage_factor=1.0, s_base_mva=100.0, min_share=1e-3,
+                 backfeed_min_ka=None):
     """Bolted three-phase faults at every bus and the current through each device.
 
     Parameters
@@ -140,6 +141,13 @@ def solve_faults(base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_
     min_share : float
         Device currents below this fraction of the bus fault current are
         left out of the device table [-]
+    backfeed_min_ka : numpy.ndarray, optional
+        Per device: in a radial network, rows where the device carries
+        back-feed (from sources or motors below it, for a fault elsewhere)
+        below this current are left out too, and a device whose back-feed can
+        never reach it (its subtree's contribution at full voltage) is not
+        explored at all (e.g. the smallest current at which the device
+        clears within the arc-duration cap) [kA]
 
     Returns
     -------
@@ -177,7 +185,11 @@ def solve_faults(base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_
         live = np.flatnonzero(keep[device_branch]) if device_branch.size else np.array([], dtype=np.intp)
         merged = _merged_edges(sub)
         if _is_radial(sub, merged):
-            diag, (k, d, current_pu, direction) = _radial(sub, merged, device_branch, live, voltage_factor, min_share)
+            floor = None
+            if backfeed_min_ka is not None:
+                floor = np.asarray(backfeed_min_ka, dtype=float)[live] / base_current_ka(s_base_mva, device_kv[live])
+            diag, (k, d, current_pu, direction) = _radial(sub, merged, device_branch, live, voltage_factor, min_share,
+                                                          floor)
         else:
             diag, (k, d, current_pu, direction) = _meshed(sub, device_branch, live, voltage_factor, min_share)
         z_th[active] = diag
@@ -292,7 +304,7 @@ def _joined(out):
     return tuple(np.concatenate(part) for part in out)
 
 
-def _radial(sub, merged, device_branch, live, voltage_factor, min_share):
+def _radial(sub, merged, device_branch, live, voltage_factor, min_share, backfeed_floor_pu=None):
     """Radial network: the passes of :mod:`.network_radial`, O(N) for the diagonal."""
     branch_edge, ea, eb, edge_y = merged
     shunt = np.zeros(sub.m, dtype=complex)
@@ -328,27 +340,29 @@ def _radial(sub, merged, device_branch, live, voltage_factor, min_share):
     # |Z_pk| <= |Z_pp| bounds the share by |Z_pp x gain|; devices below the threshold are skipped.
     gain = tree.contrib[child] * fraction
     parent = tree.parent[child]
-    candidates = np.flatnonzero(np.abs(tree.z_kk[parent] * gain) >= min_share)
-    nodes, which = np.unique(parent[candidates], return_inverse=True)
-    by_block = np.argsort(which, kind="stable")
-    edges = np.searchsorted(which[by_block], np.arange(0, nodes.size + BLOCK_COLUMNS, BLOCK_COLUMNS))
-    for number, lo in enumerate(range(0, nodes.size, BLOCK_COLUMNS)):
-        columns = tree.columns(nodes[lo:lo + BLOCK_COLUMNS])  # Z[:, p] for each parent bus p
-        devices = candidates[by_block[edges[number]:edges[number + 1]]]
-        column_of = which[np.searchsorted(candidates, devices)] - lo
-        limit = np.full(columns.shape[1], np.inf)
-        np.minimum.at(limit, column_of, min_share / np.abs(gain[devices]))
-        k, col = np.nonzero(np.abs(columns) >= limit[None, :])
-        # Expand each (fault, column) pair to the devices of that column.
-        per_column = np.argsort(column_of, kind="stable")
-        first = np.searchsorted(column_of[per_column], col, side="left")
-        count = np.searchsorted(column_of[per_column], col, side="right") - first
+    reach = np.abs(tree.z_kk[parent] * gain) >= min_share
+    if backfeed_floor_pu is not None:
+        # |Z_pk / Z_kk| <= 1: the back-feed current never exceeds c |gain| [pu].
+        reach &= voltage_factor * np.abs(gain) >= backfeed_floor_pu
+    candidates = np.flatnonzero(reach)
+    if candidates.size:
+        nodes, which = np.unique(parent[candidates], return_inverse=True)
+        limit = np.full(nodes.size, np.inf)
+        np.minimum.at(limit, which, min_share / np.abs(gain[candidates]))
+        # Z[k, p] for the faults k near each parent bus p: only entries above the smallest useful value.
+        col, k, z_kp = tree.local_columns(nodes, limit)
+        # Expand each (fault, parent) entry to the devices below that parent.
+        per_column = np.argsort(which, kind="stable")
+        first = np.searchsorted(which[per_column], col, side="left")
+        count = np.searchsorted(which[per_column], col, side="right") - first
         rows = np.repeat(np.arange(k.size), count)
         offsets = np.arange(rows.size) - np.repeat(np.cumsum(count) - count, count)
-        dev = devices[per_column[np.repeat(first, count) + offsets]]
-        k, col = k[rows], col[rows]
-        current = columns[k, col] * gain[dev] * voltage_factor / tree.z_kk[k]
+        dev = candidates[per_column[np.repeat(first, count) + offsets]]
+        k, z_kp = k[rows], z_kp[rows]
+        current = z_kp * gain[dev] * voltage_factor / tree.z_kk[k]
         keep = (np.abs(current) * np.abs(tree.z_kk[k]) / voltage_factor >= min_share) & ~tree.in_subtree(child[dev], k)
+        if backfeed_floor_pu is not None:
+            keep &= np.abs(current) >= backfeed_floor_pu[dev]
         k, dev = k[keep], dev[keep]
         out[0].append(k)
         out[1].append(live[dev])

@@ -99,6 +99,11 @@ class RadialNetwork:
         self.z_kk = 1.0 / (yd + yu)
         self.up = 1.0 / (1.0 + z * a)
         self.down = 1.0 / (1.0 + z * yd)
+        # Children of each node, grouped (CSR): children[child_start[p]:child_start[p + 1]].
+        has_parent = np.flatnonzero(self.parent >= 0)
+        by_parent = has_parent[np.argsort(self.parent[has_parent], kind="stable")]
+        self.children = by_parent
+        self.child_start = np.concatenate(([0], np.cumsum(np.bincount(self.parent[has_parent], minlength=n))))
 
     def in_subtree(self, root, nodes):
         """Whether each of ``nodes`` lies in the subtree of ``root`` (element-wise) [-]."""
@@ -129,6 +134,73 @@ class RadialNetwork:
             drop = drop * self.up[node]
             node = self.parent[node]
         return np.concatenate(out_k), np.concatenate(out_node), np.concatenate(out_i)
+
+    def local_columns(self, sources, threshold):
+        """The entries of Z[:, s] of magnitude at least ``threshold`` [pu], for each s in ``sources``.
+
+        Moving away from s along the tree, |Z[x, s]| never grows (each step
+        multiplies by ``up`` or ``down``, both of magnitude at most 1 in a
+        passive network: 1 + z Y with z and Y of non-negative resistance and
+        reactance has magnitude at least 1), so the walk stops where the
+        value falls below the threshold; the work is proportional to the
+        entries returned, not to the network's size.
+
+        Parameters
+        ----------
+        sources : numpy.ndarray of int
+            Buses s [-]
+        threshold : numpy.ndarray
+            Smallest magnitude kept, per source [pu]
+
+        Returns
+        -------
+        tuple of numpy.ndarray
+            Source position (into ``sources``), bus x, Z[x, s] [pu].
+        """
+        sources = np.asarray(sources, dtype=np.intp)
+        threshold = np.asarray(threshold, dtype=float)
+        col = np.arange(sources.size)
+        node = sources.copy()
+        value = self.z_kk[node].copy()
+        keep = np.abs(value) >= threshold
+        col, node, value = col[keep], node[keep], value[keep]
+        came_from = np.full(col.size, -1, dtype=np.intp)  # the child a climbing walk came from
+        out_col, out_node, out_value = [col], [node], [value]
+        frontier = [(col, node, value, came_from)]
+        # Climb: each source's path to its root while the value stays above the threshold.
+        climb_col, climb_node, climb_value = col, node, value
+        while climb_col.size:
+            live = self.parent[climb_node] >= 0
+            climb_col, climb_node, climb_value = climb_col[live], climb_node[live], climb_value[live]
+            climb_value = climb_value * self.up[climb_node]
+            child = climb_node
+            climb_node = self.parent[climb_node]
+            keep = np.abs(climb_value) >= threshold[climb_col]
+            climb_col, climb_node, climb_value, child = (x[keep] for x in (climb_col, climb_node, climb_value,
+                                                                           child))
+            out_col.append(climb_col)
+            out_node.append(climb_node)
+            out_value.append(climb_value)
+            frontier.append((climb_col, climb_node, climb_value, child))
+        # Descend from every node reached so far into its other children, level by level.
+        col = np.concatenate([f[0] for f in frontier])
+        node = np.concatenate([f[1] for f in frontier])
+        value = np.concatenate([f[2] for f in frontier])
+        came_from = np.concatenate([f[3] for f in frontier])
+        while col.size:
+            count = self.child_start[node + 1] - self.child_start[node]
+            rows = np.repeat(np.arange(col.size), count)
+            offsets = np.arange(rows.size) - np.repeat(np.cumsum(count) - count, count)
+            child = self.children[self.child_start[node][rows] + offsets]
+            value = value[rows] * self.down[child]
+            col = col[rows]
+            keep = (child != came_from[rows]) & (np.abs(value) >= threshold[col])
+            col, node, value = col[keep], child[keep], value[keep]
+            came_from = np.full(col.size, -1, dtype=np.intp)
+            out_col.append(col)
+            out_node.append(node)
+            out_value.append(value)
+        return np.concatenate(out_col), np.concatenate(out_node), np.concatenate(out_value)
 
     def columns(self, sources):
         """Z[:, s] for each bus s in ``sources`` (N × len(sources)) [pu]."""

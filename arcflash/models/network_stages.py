@@ -222,17 +222,24 @@ class NetworkStates:
         return np.column_stack([cache[b] for b in branches])
 
     def solve(self, key, fault_bus):
-        """Faults at ``fault_bus`` (bus indices) in state ``key``.
+        """Faults at ``fault_bus`` (bus indices), all in state ``key`` (see :meth:`solve_pairs`)."""
+        fault_bus = np.asarray(fault_bus, dtype=np.intp)
+        return self.solve_pairs([key] * fault_bus.size, fault_bus)
 
-        A state reached by opening branches is solved with the base state's
-        factorisation and a low-rank (Woodbury) update for the opened
-        branches where that is exact and well conditioned
-        (:meth:`_update_plan`); otherwise with its own factorisation.
+    def solve_pairs(self, keys, fault_bus):
+        """Fault k at bus ``fault_bus[k]`` in state ``keys[k]``, for every k.
+
+        A state reached by opening branches is solved from the base state's
+        factorisation: the base columns Z[:, bus] of all such faults in one
+        block solve, then a low-rank (Woodbury) update for each fault's
+        opened branches where that is exact and well conditioned
+        (:meth:`_update_plan`). Other states are solved with their own
+        factorisation.
 
         Parameters
         ----------
-        key : StateKey
-            The state; with a split, every fault must be at the split bus.
+        keys : sequence of StateKey
+            The state of each fault; with a split, the fault is on the split node.
         fault_bus : numpy.ndarray of int
             Faulted buses [-]
 
@@ -241,48 +248,73 @@ class NetworkStates:
         StageFaults
         """
         fault_bus = np.asarray(fault_bus, dtype=np.intp)
-        f, t, closed, energized, label = self._topology(key)
-        plan = self._update_plan(key) if key.opened else None
-        if plan is None:
-            _, index, lu, _, _ = self._prepared(key)
-        else:
-            _, index, lu, _, _ = self._prepared(StateKey())
-            w = self._update_columns(plan) if plan else None
-        point = fault_bus.copy()
-        if key.split is not None:
-            point[:] = self.n  # the line-side node
-        k_count, d_count = fault_bus.size, self.device_branch.size
-        bolted = np.zeros(k_count)
-        current = np.zeros((k_count, d_count))
-        share = np.zeros((k_count, d_count))
-        on = energized[point]
+        count = fault_bus.size
+        bolted = np.zeros(count)
+        current = np.zeros((count, self.device_branch.size))
+        share = np.zeros((count, self.device_branch.size))
+        on = np.zeros(count, dtype=bool)
+        plans = [self._update_plan(key) if key.opened else None for key in keys]
+        from_base = [k for k in range(count) if plans[k] is not None or keys[k] == StateKey()]
+        own = {}
+        for k in range(count):
+            if plans[k] is None and keys[k] != StateKey():
+                own.setdefault(keys[k], []).append(k)
+        base = StateKey()
+        for lo in range(0, len(from_base), BLOCK_COLUMNS):
+            rows = np.array(from_base[lo:lo + BLOCK_COLUMNS], dtype=np.intp)
+            self._fill(base, rows, fault_bus, [keys[k] for k in rows], [plans[k] for k in rows],
+                       bolted, current, share, on)
+        for key, rows in own.items():
+            for lo in range(0, len(rows), BLOCK_COLUMNS):
+                part = np.array(rows[lo:lo + BLOCK_COLUMNS], dtype=np.intp)
+                self._fill(key, part, fault_bus, [key] * part.size, [None] * part.size, bolted, current, share, on)
+        return StageFaults(energized=on, bolted_ka=bolted, device_current_ka=current, device_share=share)
+
+    def _fill(self, solved_key, rows, fault_bus, keys, plans, bolted, current, share, on):
+        """Solve faults ``rows`` with the factorisation of ``solved_key``, each updated by its plan."""
+        _, index, lu, _, _ = self._prepared(solved_key)
         b = self.device_branch
-        carrying = closed[b] & energized[f[b]]
-        end_f, end_t = index[f[b]], index[t[b]]
         z_b = self.branch_z_pu[b]
-        for lo in range(0, k_count, BLOCK_COLUMNS):
-            rows = np.flatnonzero(on[lo:lo + BLOCK_COLUMNS]) + lo
-            if not rows.size:
-                continue
-            col = index[point[rows]]
-            rhs = np.zeros((lu.shape[0], rows.size), dtype=complex)
-            rhs[col, np.arange(rows.size)] = 1.0
-            z = lu.solve(rhs)  # Z[:, k] of each fault
+        points, live_rows = [], []
+        for row, key in zip(rows, keys):
+            energized = self._topology(key)[3]
+            point = self.n if key.split is not None else fault_bus[row]
+            if energized[point]:
+                points.append(point)
+                live_rows.append(row)
+        if not live_rows:
+            return
+        live_rows = np.array(live_rows, dtype=np.intp)
+        by_row = dict(zip(rows.tolist(), zip(keys, plans)))
+        col = index[np.array(points, dtype=np.intp)]
+        rhs = np.zeros((lu.shape[0], col.size), dtype=complex)
+        rhs[col, np.arange(col.size)] = 1.0
+        z_all = lu.solve(rhs)  # Z[:, k] of each fault in the factorised state
+        base_f, base_t = index[self.branch_from[b]], index[self.branch_to[b]]
+        for j, row in enumerate(live_rows):
+            key, plan = by_row[int(row)]
+            z = z_all[:, j]
             if plan:
                 # Y' = Y - U diag(y) U^T: Z' = Z - W (-diag(z_b) + U^T W)^-1 W^T, W = Z U (Woodbury).
+                w = self._update_columns(plan)
                 ends = (index[self.branch_from[plan]], index[self.branch_to[plan]])
                 small = np.diag(-self.branch_z_pu[plan]) + (w[ends[0]] - w[ends[1]])
-                z = z - w @ np.linalg.solve(small, w[col].T)
-            z_kk = z[col, np.arange(rows.size)]
-            i_fault = self.voltage_factor / z_kk  # [pu]
-            bolted[rows] = np.abs(i_fault) * base_current_ka(self.s_base_mva, self.base_kv[fault_bus[rows]])
-            # A device carries current only in the faulted point's part of the network.
-            live = carrying[None, :] & (label[f[b]][None, :] == label[point[rows]][:, None])
-            drop = (z[end_f] - z[end_t]) * i_fault[None, :]  # V_i - V_j, up to sign
-            i_dev = np.where(live, np.abs(drop / z_b[:, None]).T, 0.0)
-            current[rows] = i_dev * self.device_base_ka[None, :]
-            share[rows] = i_dev / np.abs(i_fault)[:, None]
-        return StageFaults(energized=on, bolted_ka=bolted, device_current_ka=current, device_share=share)
+                z = z - w @ np.linalg.solve(small, w[col[j]])
+            f, t, closed, energized, label = self._topology(key)
+            i_fault = self.voltage_factor / z[col[j]]  # [pu]
+            on[row] = True
+            bolted[row] = abs(i_fault) * base_current_ka(self.s_base_mva, self.base_kv[fault_bus[row]])
+            point = self.n if key.split is not None else fault_bus[row]
+            # A device carries current only if closed and in the faulted point's part of the network.
+            live = closed[b] & (label[f[b]] == label[point]) & energized[f[b]]
+            if key.split is not None:  # the split state's own numbering
+                ends_f, ends_t = index[f[b]], index[t[b]]
+            else:
+                ends_f, ends_t = base_f, base_t
+            idx = np.flatnonzero(live)
+            i_dev = np.abs((z[ends_f[idx]] - z[ends_t[idx]]) * i_fault / z_b[idx])
+            current[row, idx] = i_dev * self.device_base_ka[idx]
+            share[row, idx] = i_dev / abs(i_fault)
 
     def hops_from(self, bus):
         """Number of branches between ``bus`` and every bus, all branches closed (cached) [-]."""

@@ -190,8 +190,14 @@ class ScenarioFaults:
         )
 
 
-def solve_scenario(site, scenario=None):
+def solve_scenario(site, scenario=None, for_clearing=False):
     """Bolted faults at every bus and the device currents, one scenario.
+
+    With ``for_clearing``, back-feed rows (a device carrying current from
+    motors or sources below it to a fault elsewhere) are kept only where the
+    current could make the device clear within the arc-duration cap: the
+    rows clearing can use. Staged clearing solves every device's current
+    anew and does not depend on this.
 
     Returns
     -------
@@ -205,10 +211,16 @@ def solve_scenario(site, scenario=None):
     """
     chosen = site.scenario(scenario)
     net = build_network(site, chosen)
+    floor = None
+    if for_clearing and net.device_ids:
+        from .clearing import DeviceBank
+
+        cap = site.facility.arc_duration_cap_s
+        floor = DeviceBank(site, chosen, net.device_ids).threshold_a(cap if cap is not None else np.inf) / 1000.0
     solution = solve_faults(
         net.base_kv, net.branch_from, net.branch_to, net.branch_z_pu, net.shunt_bus, net.shunt_z_pu,
         net.source_bus, net.device_branch, net.device_kv, voltage_factor=site.facility.voltage_factor,
-        s_base_mva=site.facility.s_base_mva,
+        s_base_mva=site.facility.s_base_mva, backfeed_min_ka=floor,
     )
     buses = pd.DataFrame(
         {

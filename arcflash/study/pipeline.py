@@ -72,7 +72,7 @@ def _staged_energy(table, stages):
 
 
 def _scenario_rows(site, scenario, equipment, stated_times=None):
-    faults = solve_scenario(site, scenario.name)
+    faults = solve_scenario(site, scenario.name, for_clearing=True)
     buses = faults.buses
     arcs = arcing_currents(site, buses, equipment)
     paths = clearing_paths(site, scenario, faults)

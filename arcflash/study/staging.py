@@ -42,6 +42,8 @@ from ..models.network_stages import NetworkStates, StateKey
 SIMULTANEOUS_S = 1e-9
 #: Most openings followed for one arc [-].
 MAX_STAGES = 64
+#: Arcs solved together (memory: two arrays of this many rows by the number of devices) [-].
+CHUNK_ARCS = 256
 
 
 @dataclass
@@ -110,38 +112,45 @@ class StagingContext:
 def follow_arcs(context, buses):
     """Follow the arcs at ``buses`` (bus indices) until each ends; see the module docstring.
 
+    All arcs advance together, one stage per round, in chunks of
+    :data:`CHUNK_ARCS`: one network solve and one curve evaluation per chunk.
+
     Returns
     -------
     list of StagedArc
     """
     arcs = [StagedArc(int(k)) for k in buses]
     active = list(arcs)
+    bank = context.bank
     for _ in range(MAX_STAGES + 1):
         if not active:
             break
-        groups = {}
-        for arc in active:
-            groups.setdefault(arc.key, []).append(arc)
-        for key, group in groups.items():
-            solved = context.states.solve(key, np.array([a.bus for a in group], dtype=np.intp))
-            arcing_ka, code = context.arcing(np.array([a.bus for a in group], dtype=np.intp), solved.bolted_ka)
-            for row, arc in enumerate(group):
-                ratio = arcing_ka[row] / solved.bolted_ka[row] if solved.bolted_ka[row] > 0 else 0.0
-                _advance(context, arc, solved.bolted_ka[row], arcing_ka[row], int(code[row]),
-                         solved.device_current_ka[row] * ratio * 1000.0)
+        for lo in range(0, len(active), CHUNK_ARCS):
+            chunk = active[lo:lo + CHUNK_ARCS]
+            at = np.array([a.bus for a in chunk], dtype=np.intp)
+            solved = context.states.solve_pairs([a.key for a in chunk], at)
+            arcing_ka, code = context.arcing(at, solved.bolted_ka)
+            ratio = np.divide(arcing_ka, solved.bolted_ka, out=np.zeros(at.size), where=solved.bolted_ka > 0)
+            device_a = solved.device_current_ka * (ratio * 1000.0)[:, None]
+            chosen = [_devices(context, arc, device_a[j]) for j, arc in enumerate(chunk)]
+            sizes = np.array([c.size for c in chosen])
+            rows = np.repeat(np.arange(at.size), sizes)
+            devices = np.concatenate(chosen) if chosen else np.zeros(0, dtype=np.intp)
+            times, reset, breaker = bank.elements(devices, device_a[rows, devices])
+            bounds = np.concatenate(([0], np.cumsum(sizes)))
+            for j, arc in enumerate(chunk):
+                part = slice(bounds[j], bounds[j + 1])
+                _advance(context, arc, solved.bolted_ka[j], arcing_ka[j], int(code[j]), chosen[j], times[part],
+                         reset[part], breaker[part])
         active = [a for a in active if not a.done]
     for arc in active:  # more openings than MAX_STAGES: stop at the cap, flagged
         arc.done, arc.no_trip = True, True
     return arcs
 
 
-def _advance(context, arc, bolted_ka, arcing_ka, code, device_a):
-    """One stage of ``arc``: from its present time to the next opening (or the end)."""
-    if arc.steps and arc.steps[-1][3] is None:
-        for step in arc.steps:
-            if step[3] is None:
-                step[3], step[5] = arcing_ka, bolted_ka
-    bank = context.bank
+def _devices(context, arc, device_a):
+    """Devices to follow in this stage: those whose current reaches an operating element, and those
+    still holding trip progress (sorted)."""
     excluded = context.excluded.get(arc.bus, set())
     candidates = np.flatnonzero(device_a >= context.operating_a)  # below: no element operates
     if arc.opening:
@@ -149,8 +158,15 @@ def _advance(context, arc, bolted_ka, arcing_ka, code, device_a):
     if excluded:
         never = list(excluded - context.line_side.get(arc.bus, set()))
         candidates = candidates[~np.isin(candidates, never)]
-    devices = np.union1d(candidates, arc.held_device).astype(np.intp)
-    times, reset, breaker = bank.elements(devices, device_a[devices])
+    return np.union1d(candidates, arc.held_device).astype(np.intp) if arc.held_device.size else candidates
+
+
+def _advance(context, arc, bolted_ka, arcing_ka, code, devices, times, reset, breaker):
+    """One stage of ``arc``: from its present time to the next opening (or the end)."""
+    if arc.steps and arc.steps[-1][3] is None:
+        for step in arc.steps:
+            if step[3] is None:
+                step[3], step[5] = arcing_ka, bolted_ka
     progress = np.zeros(times.shape)
     if arc.held_device.size:
         progress[np.searchsorted(devices, arc.held_device)] = arc.held_progress
@@ -172,7 +188,9 @@ def _advance(context, arc, bolted_ka, arcing_ka, code, device_a):
         arc.no_trip = not np.isfinite(next_time)
         arc.capped = np.isfinite(end) and end < next_time
         if arc.capped:  # name the device that would have opened next, as the one-stage answer does
-            pending = {**arc.opening, **{int(d): float(t) for d, t in zip(devices, open_at)}}
+            pending = dict(arc.opening)
+            if open_at.size:
+                pending[int(devices[np.argmin(open_at)])] = float(open_at.min())
             arc.governing = min(pending, key=pending.get)
         return
     dt = end - arc.time_s
