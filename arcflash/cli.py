@@ -27,6 +27,9 @@ def main():
     Results are for qualified persons; local codes and licensed engineering
     practice govern.
     """
+    from .output.memory import release_large_blocks_promptly
+
+    release_large_blocks_promptly()
 
 
 @main.command("equipment")

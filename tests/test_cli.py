@@ -94,3 +94,13 @@ def test_missing_geometry_without_class():
                   "--config", "VCB"])
     assert result.exit_code == 2
     assert "missing gap_mm, working_distance_mm, height_mm, width_mm" in result.output
+
+
+def test_memory_setting_takes_effect_on_glibc_only():
+    # The command line asks glibc to map blocks of 1 MB and more on their own (returned when freed);
+    # where that C library is absent the call changes nothing and says so.
+    import platform
+
+    from arcflash.output.memory import release_large_blocks_promptly
+
+    assert release_large_blocks_promptly() is (platform.libc_ver()[0] == "glibc")

@@ -32,6 +32,8 @@ from .network import admittance_matrix, base_current_ka
 
 #: Fault columns solved together [-].
 BLOCK_COLUMNS = 128
+#: Base-state fault columns kept for reuse by later stages of the same arcs [-].
+BASE_COLUMNS_KEPT = 160
 #: Branches of smaller impedance (closed switches, 1e-6 pu) are not removed by a low-rank
 #: update: the update's small matrix would lose most of its digits; the state is factorised [pu].
 LOW_RANK_MIN_Z_PU = 1e-4
@@ -65,14 +67,11 @@ class StageFaults:
     device_current_ka : numpy.ndarray
         Shape (faults, devices): current through each device in its own kV
         base, 0 where opened or cut off [kA]
-    device_share : numpy.ndarray
-        The same as a fraction of the bolted current (per unit of I_f) [-]
     """
 
     energized: np.ndarray
     bolted_ka: np.ndarray
     device_current_ka: np.ndarray
-    device_share: np.ndarray
 
 
 class NetworkStates:
@@ -82,14 +81,9 @@ class NetworkStates:
     ----------
     base_kv : numpy.ndarray
         Voltage base of each bus [kV]
-    branch_from, branch_to : numpy.ndarray of int
-        Bus indices of each series branch [-]
-    branch_z_pu : numpy.ndarray of complex
-        Series impedance of each branch [pu]
-    shunt_bus : numpy.ndarray of int
-        Bus of each shunt source [-]
-    shunt_z_pu : numpy.ndarray of complex
-        Impedance of each shunt source [pu]
+    branch_from, branch_to, branch_z_pu, shunt_bus, shunt_z_pu
+        Branches and shunt sources, see
+        :func:`arcflash.models.network.admittance_matrix` [-], [-], [pu], [-], [pu]
     shunt_is_motor : numpy.ndarray of bool
         The shunt is a motor (contributes, does not energise; ends when a
         state has ``motors_off``) [-]
@@ -128,9 +122,10 @@ class NetworkStates:
         if cache_key in self._states:
             return self._states[cache_key]
         n = self.n
-        f, t = self.branch_from.copy(), self.branch_to.copy()
+        f, t = self.branch_from, self.branch_to  # copied only when a split rewires them
         extra = 0
         if key.split is not None:
+            f, t = f.copy(), t.copy()
             bus, branches = key.split
             branches = np.asarray(sorted(branches), dtype=np.intp)
             extra = 1
@@ -142,6 +137,7 @@ class NetworkStates:
             closed[np.fromiter(key.opened, dtype=np.intp)] = False
         graph = sp.coo_matrix((np.ones(int(closed.sum())), (f[closed], t[closed])), shape=(m, m))
         _, label = connected_components(graph, directed=False)
+        label = label.astype(np.int32)
         energized = np.isin(label, label[self.source_bus]) if self.source_bus.size else np.zeros(m, bool)
         topology = (f, t, closed, energized, label)
         self._states[cache_key] = topology
@@ -206,6 +202,20 @@ class NetworkStates:
             return None
         return applied
 
+    def _base_columns(self, col, lu):
+        """Z[:, c] of the base state for each position c (the last :data:`BASE_COLUMNS_KEPT` kept) [pu]."""
+        cache = self._states.setdefault("base_columns", {})
+        missing = [c for c in dict.fromkeys(col.tolist()) if c not in cache]
+        if missing:
+            rhs = np.zeros((lu.shape[0], len(missing)), dtype=complex)
+            rhs[missing, np.arange(len(missing))] = 1.0
+            solved = lu.solve(rhs)
+            for number, c in enumerate(missing):
+                cache[c] = solved[:, number]
+            for old in list(cache)[:max(0, len(cache) - BASE_COLUMNS_KEPT)]:
+                del cache[old]
+        return np.column_stack([cache[c] for c in col.tolist()])
+
     def _update_columns(self, branches):
         """Z u_b of the base state for each branch b (cached) [pu]."""
         energized, index, lu, _, _ = self._prepared(StateKey())
@@ -251,7 +261,6 @@ class NetworkStates:
         count = fault_bus.size
         bolted = np.zeros(count)
         current = np.zeros((count, self.device_branch.size))
-        share = np.zeros((count, self.device_branch.size))
         on = np.zeros(count, dtype=bool)
         plans = [self._update_plan(key) if key.opened else None for key in keys]
         from_base = [k for k in range(count) if plans[k] is not None or keys[k] == StateKey()]
@@ -262,15 +271,14 @@ class NetworkStates:
         base = StateKey()
         for lo in range(0, len(from_base), BLOCK_COLUMNS):
             rows = np.array(from_base[lo:lo + BLOCK_COLUMNS], dtype=np.intp)
-            self._fill(base, rows, fault_bus, [keys[k] for k in rows], [plans[k] for k in rows],
-                       bolted, current, share, on)
+            self._fill(base, rows, fault_bus, [keys[k] for k in rows], [plans[k] for k in rows], bolted, current, on)
         for key, rows in own.items():
             for lo in range(0, len(rows), BLOCK_COLUMNS):
                 part = np.array(rows[lo:lo + BLOCK_COLUMNS], dtype=np.intp)
-                self._fill(key, part, fault_bus, [key] * part.size, [None] * part.size, bolted, current, share, on)
-        return StageFaults(energized=on, bolted_ka=bolted, device_current_ka=current, device_share=share)
+                self._fill(key, part, fault_bus, [key] * part.size, [None] * part.size, bolted, current, on)
+        return StageFaults(energized=on, bolted_ka=bolted, device_current_ka=current)
 
-    def _fill(self, solved_key, rows, fault_bus, keys, plans, bolted, current, share, on):
+    def _fill(self, solved_key, rows, fault_bus, keys, plans, bolted, current, on):
         """Solve faults ``rows`` with the factorisation of ``solved_key``, each updated by its plan."""
         _, index, lu, _, _ = self._prepared(solved_key)
         b = self.device_branch
@@ -287,34 +295,41 @@ class NetworkStates:
         live_rows = np.array(live_rows, dtype=np.intp)
         by_row = dict(zip(rows.tolist(), zip(keys, plans)))
         col = index[np.array(points, dtype=np.intp)]
-        rhs = np.zeros((lu.shape[0], col.size), dtype=complex)
-        rhs[col, np.arange(col.size)] = 1.0
-        z_all = lu.solve(rhs)  # Z[:, k] of each fault in the factorised state
+        if solved_key == StateKey():
+            z_all = self._base_columns(col, lu)
+        else:
+            rhs = np.zeros((lu.shape[0], col.size), dtype=complex)
+            rhs[col, np.arange(col.size)] = 1.0
+            z_all = lu.solve(rhs)  # Z[:, k] of each fault in the factorised state
         base_f, base_t = index[self.branch_from[b]], index[self.branch_to[b]]
-        for j, row in enumerate(live_rows):
-            key, plan = by_row[int(row)]
-            z = z_all[:, j]
+        # Faults in the same state and the same part of the network are taken together.
+        groups = {}
+        for j, (row, point) in enumerate(zip(live_rows.tolist(), points)):
+            key = by_row[row][0]
+            groups.setdefault((key, int(self._topology(key)[4][point])), []).append(j)
+        for (key, part), js in groups.items():
+            js = np.array(js, dtype=np.intp)
+            plan = by_row[int(live_rows[js[0]])][1]
+            z = z_all[:, js]
             if plan:
                 # Y' = Y - U diag(y) U^T: Z' = Z - W (-diag(z_b) + U^T W)^-1 W^T, W = Z U (Woodbury).
                 w = self._update_columns(plan)
                 ends = (index[self.branch_from[plan]], index[self.branch_to[plan]])
                 small = np.diag(-self.branch_z_pu[plan]) + (w[ends[0]] - w[ends[1]])
-                z = z - w @ np.linalg.solve(small, w[col[j]])
+                z = z - w @ np.linalg.solve(small, w[col[js]].T)
             f, t, closed, energized, label = self._topology(key)
-            i_fault = self.voltage_factor / z[col[j]]  # [pu]
-            on[row] = True
-            bolted[row] = abs(i_fault) * base_current_ka(self.s_base_mva, self.base_kv[fault_bus[row]])
-            point = self.n if key.split is not None else fault_bus[row]
+            i_fault = self.voltage_factor / z[col[js], np.arange(js.size)]  # [pu]
+            rows_js = live_rows[js]
+            on[rows_js] = True
+            bolted[rows_js] = np.abs(i_fault) * base_current_ka(self.s_base_mva, self.base_kv[fault_bus[rows_js]])
             # A device carries current only if closed and in the faulted point's part of the network.
-            live = closed[b] & (label[f[b]] == label[point]) & energized[f[b]]
+            idx = np.flatnonzero(closed[b] & (label[f[b]] == part) & energized[f[b]])
             if key.split is not None:  # the split state's own numbering
-                ends_f, ends_t = index[f[b]], index[t[b]]
+                ends_f, ends_t = index[f[b[idx]]], index[t[b[idx]]]
             else:
-                ends_f, ends_t = base_f, base_t
-            idx = np.flatnonzero(live)
-            i_dev = np.abs((z[ends_f[idx]] - z[ends_t[idx]]) * i_fault / z_b[idx])
-            current[row, idx] = i_dev * self.device_base_ka[idx]
-            share[row, idx] = i_dev / abs(i_fault)
+                ends_f, ends_t = base_f[idx], base_t[idx]
+            i_dev = np.abs((z[ends_f] - z[ends_t]) * (i_fault[None, :] / z_b[idx][:, None]))
+            current[np.ix_(rows_js, idx)] = (i_dev * self.device_base_ka[idx][:, None]).T
 
     def hops_from(self, bus):
         """Number of branches between ``bus`` and every bus, all branches closed (cached) [-]."""

@@ -49,6 +49,8 @@ from ..models.curves import (
     trip_unit_time_batch_s,
 )
 
+#: (device, current) pairs evaluated together by :meth:`DeviceBank.clearing_time_s` [-].
+EVALUATION_BLOCK = 1 << 16
 #: A path whose devices all carry less than this share of the bolted current is negligible [-].
 NEGLIGIBLE_PATH_SHARE = 0.01
 
@@ -181,7 +183,18 @@ class DeviceBank:
         self.point_curve = np.array([lookup[n] if n else -1 for n in named], dtype=np.intp)
 
     def clearing_time_s(self, device, current_a):
-        """Clearing time of device ``device[k]`` at ``current_a[k]`` (max band) [s]."""
+        """Clearing time of device ``device[k]`` at ``current_a[k]`` (max band) [s].
+
+        Taken in blocks of :data:`EVALUATION_BLOCK` pairs, so that the
+        temporary arrays stay small however long the input.
+        """
+        device, current_a = np.asarray(device, dtype=np.intp), np.asarray(current_a, dtype=float)
+        if device.size > EVALUATION_BLOCK:
+            t = np.empty(current_a.shape)
+            for lo in range(0, device.size, EVALUATION_BLOCK):
+                t[lo:lo + EVALUATION_BLOCK] = self.clearing_time_s(device[lo:lo + EVALUATION_BLOCK],
+                                                                   current_a[lo:lo + EVALUATION_BLOCK])
+            return t
         t = np.full(current_a.shape, np.inf)
         kind = self.kind[device]
         for code, evaluate in ((0, self._relays), (1, self._units)):
@@ -589,18 +602,7 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
 def clearing_times(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None, equipment=None):
     """Arc duration and governing device at every bus, for both arcing cases.
 
-    Parameters
-    ----------
-    site : Site
-    scenario : Scenario
-    faults : ScenarioFaults
-        The scenario's faults (:func:`arcflash.study.faults.solve_scenario`).
-    arcing_ka, reduced_arcing_ka : pandas.Series
-        Per bus id: the two arcing currents [kA].
-    paths : ClearingPaths, optional
-        From :func:`clearing_paths` (computed when not given).
-    equipment : pandas.DataFrame, optional
-        Equipment geometry by bus (computed when not given).
+    The per-bus table of :func:`clear_arcs` (same parameters).
 
     Returns
     -------

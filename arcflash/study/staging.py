@@ -43,7 +43,7 @@ SIMULTANEOUS_S = 1e-9
 #: Most openings followed for one arc [-].
 MAX_STAGES = 64
 #: Arcs solved together (memory: two arrays of this many rows by the number of devices) [-].
-CHUNK_ARCS = 256
+CHUNK_ARCS = 64
 
 
 @dataclass
@@ -112,40 +112,47 @@ class StagingContext:
 def follow_arcs(context, buses):
     """Follow the arcs at ``buses`` (bus indices) until each ends; see the module docstring.
 
-    All arcs advance together, one stage per round, in chunks of
-    :data:`CHUNK_ARCS`: one network solve and one curve evaluation per chunk.
+    Arcs are taken in chunks of :data:`CHUNK_ARCS`; the arcs of a chunk
+    advance together, one stage per round: one network solve and one curve
+    evaluation per round.
 
     Returns
     -------
     list of StagedArc
     """
     arcs = [StagedArc(int(k)) for k in buses]
-    active = list(arcs)
-    bank = context.bank
+    for lo in range(0, len(arcs), CHUNK_ARCS):  # a chunk at a time: trip progress is held for few arcs
+        _follow_chunk(context, arcs[lo:lo + CHUNK_ARCS])
+    return arcs
+
+
+def _follow_chunk(context, chunk):
+    """Advance the arcs of ``chunk`` together, one stage per round, until each ends."""
+    active = list(chunk)
     for _ in range(MAX_STAGES + 1):
         if not active:
             break
-        for lo in range(0, len(active), CHUNK_ARCS):
-            chunk = active[lo:lo + CHUNK_ARCS]
-            at = np.array([a.bus for a in chunk], dtype=np.intp)
-            solved = context.states.solve_pairs([a.key for a in chunk], at)
-            arcing_ka, code = context.arcing(at, solved.bolted_ka)
-            ratio = np.divide(arcing_ka, solved.bolted_ka, out=np.zeros(at.size), where=solved.bolted_ka > 0)
-            device_a = solved.device_current_ka * (ratio * 1000.0)[:, None]
-            chosen = [_devices(context, arc, device_a[j]) for j, arc in enumerate(chunk)]
-            sizes = np.array([c.size for c in chosen])
-            rows = np.repeat(np.arange(at.size), sizes)
-            devices = np.concatenate(chosen) if chosen else np.zeros(0, dtype=np.intp)
-            times, reset, breaker = bank.elements(devices, device_a[rows, devices])
-            bounds = np.concatenate(([0], np.cumsum(sizes)))
-            for j, arc in enumerate(chunk):
-                part = slice(bounds[j], bounds[j + 1])
-                _advance(context, arc, solved.bolted_ka[j], arcing_ka[j], int(code[j]), chosen[j], times[part],
-                         reset[part], breaker[part])
+        at = np.array([a.bus for a in active], dtype=np.intp)
+        solved = context.states.solve_pairs([a.key for a in active], at)
+        arcing_ka, code = context.arcing(at, solved.bolted_ka)
+        ratio = np.divide(arcing_ka, solved.bolted_ka, out=np.zeros(at.size), where=solved.bolted_ka > 0)
+        device_a = solved.device_current_ka * (ratio * 1000.0)[:, None]
+        chosen = [_devices(context, arc, device_a[j]) for j, arc in enumerate(active)]
+        sizes = np.array([c.size for c in chosen])
+        rows = np.repeat(np.arange(at.size), sizes)
+        devices = np.concatenate(chosen) if chosen else np.zeros(0, dtype=np.intp)
+        times, reset, breaker = context.bank.elements(devices, device_a[rows, devices])
+        bounds = np.concatenate(([0], np.cumsum(sizes)))
+        for j, arc in enumerate(active):
+            part = slice(bounds[j], bounds[j + 1])
+            _advance(context, arc, solved.bolted_ka[j], arcing_ka[j], int(code[j]), chosen[j], times[part],
+                     reset[part], breaker[part])
+        for arc in active:
+            if arc.done:  # its trip progress is no longer needed
+                arc.held_device, arc.held_progress = np.zeros(0, dtype=np.intp), np.zeros((0, 1))
         active = [a for a in active if not a.done]
     for arc in active:  # more openings than MAX_STAGES: stop at the cap, flagged
         arc.done, arc.no_trip = True, True
-    return arcs
 
 
 def _devices(context, arc, device_a):

@@ -64,3 +64,41 @@ def test_parallel_branches_are_merged(monkeypatch):
     assert solution.z_thevenin_pu[1] == pytest.approx(z_th, rel=1e-12)
     at_1 = solution.device_fault_bus == 1
     np.testing.assert_allclose(solution.device_share[at_1], [0.5, 0.5], rtol=1e-12)
+
+
+@pytest.mark.parametrize("source", ["demo", "synthetic"])
+def test_tree_plus_loops_equals_sparse_lu(source, tmp_path, monkeypatch):
+    # A meshed network (ties closed) solved as spanning tree + low-rank update against the general sparse
+    # LU solve: same Thevenin impedances, same device rows and currents (rows whose share is within the
+    # update's tolerance of the table's 1e-3 threshold may fall on either side of it).
+    if source == "demo":
+        site, scenario = arcflash.load_site(DEMO), "tie-closed"
+    else:
+        site, scenario = arcflash.load_site(synthetic_site(tmp_path / "s", 400, ties=8, substation_size=80)), \
+            "ties-closed"
+    net = build_network(site, site.scenario(scenario))
+    args = (net.base_kv, net.branch_from, net.branch_to, net.branch_z_pu, net.shunt_bus, net.shunt_z_pu,
+            net.source_bus, net.device_branch, net.device_kv)
+    with monkeypatch.context() as patch:
+        patch.setattr(network, "_meshed", lambda *a: (_ for _ in ()).throw(AssertionError("LU used")))
+        update = network.solve_faults(*args)
+    with monkeypatch.context() as patch:
+        patch.setattr(network, "MAX_LOOPS_FOR_UPDATE", -1)
+        general = network.solve_faults(*args)
+    live = general.energized
+    np.testing.assert_allclose(update.z_thevenin_pu[live], general.z_thevenin_pu[live], rtol=1e-7)
+    key_u, current_u = _sorted(update)
+    key_g, current_g = _sorted(general)
+    common, at_u, at_g = np.intersect1d(key_u, key_g, return_indices=True)
+    assert common.size > 0.99 * key_g.size
+    np.testing.assert_allclose(current_u[at_u], current_g[at_g], rtol=1e-3)
+    share_g = general.device_share[np.argsort(general.device_fault_bus.astype(np.int64) * 1_000_000
+                                              + general.device)]
+    only_g = np.setdiff1d(np.arange(key_g.size), at_g)
+    assert np.all(share_g[only_g] < 1e-3 + 1e-5)
+    direction_u = update.device_direction[np.argsort(update.device_fault_bus.astype(np.int64) * 1_000_000
+                                                     + update.device)][at_u]
+    direction_g = general.device_direction[np.argsort(general.device_fault_bus.astype(np.int64) * 1_000_000
+                                                      + general.device)][at_g]
+    big = current_g[at_g] > 1e-2 * current_g.max()
+    assert np.mean(direction_u[big] == direction_g[big]) > 0.99

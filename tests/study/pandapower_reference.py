@@ -20,10 +20,9 @@ import numpy as np
 #: IEC 60909 maximum voltage factor pandapower uses with lv_tol_percent=10 (LV and MV).
 PANDAPOWER_C_MAX = 1.1
 
-def pandapower_bolted_ka(net_arrays, s_base_mva=100.0, switch_z_pu=1e-6j):
-    """Bolted fault current at every bus by pandapower, voltage factor 1 [kA]."""
+def pandapower_network(net_arrays, s_base_mva=100.0, switch_z_pu=1e-6j):
+    """The pandapower network of our per-unit arrays (see the module docstring)."""
     import pandapower as pp
-    import pandapower.shortcircuit as sc
 
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
@@ -38,6 +37,20 @@ def pandapower_bolted_ka(net_arrays, s_base_mva=100.0, switch_z_pu=1e-6j):
             s_sc = PANDAPOWER_C_MAX * s_base_mva / abs(z)
             pp.create_ext_grid(net, buses[bus], s_sc_max_mva=s_sc, rx_max=z.real / z.imag,
                                s_sc_min_mva=s_sc, rx_min=z.real / z.imag)
+    return net
+
+
+def pandapower_short_circuit_ka(net):
+    """pandapower's IEC 60909 calculation on ``net`` (its core call), voltage factor 1 [kA]."""
+    import pandapower.shortcircuit as sc
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
         sc.calc_sc(net, case="max", ip=False, ith=False, branch_results=False, lv_tol_percent=10,
                    check_connectivity=True)
-        return np.nan_to_num(net.res_bus_sc["ikss_ka"].to_numpy() / PANDAPOWER_C_MAX, nan=0.0)
+    return np.nan_to_num(net.res_bus_sc["ikss_ka"].to_numpy() / PANDAPOWER_C_MAX, nan=0.0)
+
+
+def pandapower_bolted_ka(net_arrays, s_base_mva=100.0, switch_z_pu=1e-6j):
+    """Bolted fault current at every bus by pandapower, voltage factor 1 [kA]."""
+    return pandapower_short_circuit_ka(pandapower_network(net_arrays, s_base_mva, switch_z_pu))
