@@ -341,8 +341,10 @@ def _tree_plus_loops(sub, merged, device_branch, live, voltage_factor, min_share
         picked = diff[kk, dd]
         current_pu = -picked * i_fault[kk] / z_b[dd]
         # Direction: that of the active power through the branch, Re((V_i + V_j)/2 conj(I_ij)),
-        # with Z[:, i] + Z[:, j] = (Z[:, i] - Z[:, j]) + 2 Z[:, j].
-        both = picked + 2.0 * (cols[kk, half + dd] - np.einsum("nc,nc->n", wm[kk], w[j[part][dd]]))
+        # with Z[:, i] + Z[:, j] = (Z[:, i] - Z[:, j]) + 2 Z[:, j] (cols' second half reused for Z[:, j]).
+        z_j = cols[:, half:]
+        z_j -= wm @ w[j[part]].T  # Z[:, j]
+        both = picked + 2.0 * z_j[kk, dd]
         volts = 2.0 * voltage_factor - both * i_fault[kk]
         toward_j = (volts * np.conj(current_pu)).real >= 0.0
         out[0].append(kk)
