@@ -157,6 +157,10 @@ def clearing_report(facility_name, scenario, table):
             f"{str(row['governing_device'] or 'none'):<12}{row['reduced_arcing_current_ka']:>12.2f}"
             f"{row['reduced_clearing_time_s']:>8.3f}  {row['reduced_governing_device'] or 'none'}"
         )
+    if "staged" in table and table["staged"].any():
+        lines += ["", "Arcs followed stage by stage as devices open (full arcing current)"]
+        lines += [f"  {bus}: {row['clearing_sequence']}" for bus, row in table[table["staged"]].iterrows()
+                  if row["clearing_sequence"]]
     noted = [(bus, note) for bus, note in table["clearing_notes"].items() if note]
     if noted:
         lines += ["", "Notes"] + [f"  {bus}: {note}" for bus, note in noted]

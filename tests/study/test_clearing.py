@@ -176,3 +176,10 @@ def test_tcc_dot_agrees_with_clearing_table(demo, normal):
     amps = row.current_ka * normal.loc["SWG-4KV", "arcing_current_ka"] / normal.loc["SWG-4KV", "bolted_ka"] * 1000
     t = float(device_curve(demo, "52-4M").clearing_time_s(amps))
     assert t == pytest.approx(0.25 + 5 / 60, rel=1e-12) == normal.loc["SWG-4KV", "clearing_time_s"]
+
+
+def test_clearing_command_shows_opening_sequences():
+    result = CliRunner().invoke(main, ["clearing", str(DEMO), "--scenario", "tie-closed"])
+    assert result.exit_code == 0, result.output
+    assert "Arcs followed stage by stage" in result.output
+    assert "SS-A-PRI: 52-A opens at 0.099 s" in result.output
