@@ -183,6 +183,12 @@ def test_feeder_below_its_short_time_pickup_after_a_generator_opens(tmp_path):
     assert row["clearing_time_s"] == pytest.approx(end, rel=SWITCH_RTOL)
     # The answer at the inception current alone would be the short-time delay: far too short.
     assert row["clearing_time_s"] > 0.3 * 1.15 + LV_BREAKER_S + 0.5
+    # Not crediting long-time progress gathered above the short-time pickup (thermal memory) errs long:
+    # had the long-time element run during stage 1 too, the feeder would have cleared sooner.
+    m_1 = arcing_1 * 1000 / (800 * 1.1)
+    memory = t_gb1 / (1.0 * 1.15 * (6 / m_1) ** 2)
+    with_memory = t_gb1 + (1 - memory) * 1.0 * 1.15 * (6 / m) ** 2 + LV_BREAKER_S
+    assert row["clearing_time_s"] > with_memory
     expected = _energy_cal(site, "PNL", [(bolted_1, t_gb1), (bolted_2, end - t_gb1)])
     assert row["incident_energy_cal_cm2"] == pytest.approx(expected, rel=SWITCH_RTOL)
 
