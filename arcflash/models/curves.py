@@ -51,8 +51,6 @@ BREAKER_OPENING_CYCLES = {
 #: at 60 Hz as IEEE 1584-2002 Table 1 notes allow (common practice since;
 #: shared/reference/protection.md), and one cycle, 20 ms, at 50 Hz [s].
 RELAY_INSTANTANEOUS_S_BY_HZ = {60.0: 0.016, 50.0: 0.020}
-#: The 60 Hz value, kept for callers that name it [s].
-RELAY_INSTANTANEOUS_S = RELAY_INSTANTANEOUS_S_BY_HZ[60.0]
 #: IEEE C37.112 reset constant tr of each inverse-time curve: below pickup an
 #: element's progress falls at the rate 1/t_r, t_r = TD tr/(1 − M²)
 #: (shared/reference/protection.md, verified via relay manuals citing C37.112).

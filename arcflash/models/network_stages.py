@@ -212,9 +212,10 @@ class NetworkStates:
             solved = lu.solve(rhs)
             for number, c in enumerate(missing):
                 cache[c] = solved[:, number]
-            for old in list(cache)[:max(0, len(cache) - BASE_COLUMNS_KEPT)]:
-                del cache[old]
-        return np.column_stack([cache[c] for c in col.tolist()])
+        columns = np.column_stack([cache[c] for c in col.tolist()])
+        for old in list(cache)[:max(0, len(cache) - BASE_COLUMNS_KEPT)]:  # the oldest first
+            del cache[old]
+        return columns
 
     def _update_columns(self, branches):
         """Z u_b of the base state for each branch b (cached) [pu]."""
