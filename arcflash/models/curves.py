@@ -390,24 +390,47 @@ def trip_unit_element_times_s(current_a, parameters, which, band="max"):
         raise ValueError(f"band: expected 'min', 'nominal' or 'max', got {band!r}")
     current = _currents(current_a)
     which = np.broadcast_to(np.asarray(which, dtype=np.intp), current.shape)
-    par = {name: values[which] for name, values in parameters.items()}
-    sign = _BAND[band]
-    p = 1.0 + sign * par["pickup_tolerance"]
-    d = 1.0 + sign * par["time_tolerance"]
-    m = current / (par["long_time_pickup"] * par["rating_a"] * p)
-    above_long = m > 1.0
-    safe_m = np.where(above_long, m, 1.0)  # no overflow at or near 0 A
-    stpu = par["short_time_pickup"]
-    with np.errstate(invalid="ignore"):
-        in_short = m > stpu  # NaN pickup: never
-        at_pickup = par["long_time_delay_s"] * d * (6.0 / stpu) ** 2
-        delay = np.minimum(par["short_time_delay_s"] * d, at_pickup)
-        ramp = np.minimum(at_pickup, np.maximum(delay, delay * (10.0 / safe_m) ** 2))
-        above = current > par["instantaneous_pickup"] * par["rating_a"] * p
-    long_time = np.where(above_long & ~in_short, par["long_time_delay_s"] * d * (6.0 / safe_m) ** 2, np.inf)
-    short_time = np.where(in_short, np.where(par["short_time_i2t"], ramp, delay), np.inf)
-    instantaneous = np.where(above, par["instantaneous_s"], np.inf)
+    unit = _trip_unit_band(parameters, band)  # per unit, then gathered per current
+    lt_pickup, st_pickup = unit["lt_pickup_a"][which], unit["st_pickup_a"][which]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        inverse_square = 1.0 / np.square(np.where(current > 0.0, current, 1.0))  # no overflow near 0 A
+        in_short = current > st_pickup  # NaN pickup: never
+        above_long = (current > lt_pickup) & ~in_short
+        delay = unit["st_delay_s"][which]
+        ramp = np.clip(unit["ramp_a2s"][which] * inverse_square, delay, unit["st_at_pickup_s"][which])
+        above = current > unit["inst_pickup_a"][which]
+    long_time = np.where(above_long, unit["lt_a2s"][which] * inverse_square, np.inf)
+    short_time = np.where(in_short, np.where(unit["st_i2t"][which], ramp, delay), np.inf)
+    instantaneous = np.where(above, unit["inst_s"][which], np.inf)
     return np.stack([long_time, short_time, instantaneous], axis=-1)
+
+
+def _trip_unit_band(parameters, band):
+    """Per trip unit, the band's pickups in amperes and the curve constants (kept in ``parameters``).
+
+    Long time t = LTD d (6/M)² = ``lt_a2s``/I² with M = I/``lt_pickup_a``; I²t
+    short time delay (10/M)² = ``ramp_a2s``/I², held between the delay and the
+    long-time time at the short-time pickup (see :func:`trip_unit_element_times_s`).
+    """
+    key = ("band", band)
+    if key not in parameters:
+        sign = _BAND[band]
+        p = 1.0 + sign * parameters["pickup_tolerance"]
+        d = 1.0 + sign * parameters["time_tolerance"]
+        lt_pickup = parameters["long_time_pickup"] * parameters["rating_a"] * p
+        stpu = parameters["short_time_pickup"]
+        with np.errstate(invalid="ignore"):
+            at_pickup = parameters["long_time_delay_s"] * d * (6.0 / stpu) ** 2
+            delay = np.minimum(parameters["short_time_delay_s"] * d, at_pickup)
+        parameters[key] = {
+            "lt_pickup_a": lt_pickup, "st_pickup_a": stpu * lt_pickup,
+            "lt_a2s": parameters["long_time_delay_s"] * d * 36.0 * lt_pickup**2,
+            "st_delay_s": delay, "st_at_pickup_s": at_pickup, "ramp_a2s": delay * 100.0 * lt_pickup**2,
+            "st_i2t": parameters["short_time_i2t"],
+            "inst_pickup_a": parameters["instantaneous_pickup"] * parameters["rating_a"] * p,
+            "inst_s": parameters["instantaneous_s"],
+        }
+    return parameters[key]
 
 
 def trip_unit_time_batch_s(current_a, parameters, which, band="max", clearing=True):
