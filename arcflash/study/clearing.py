@@ -375,10 +375,11 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
             if states is None:
                 states = network_states(site, net)
                 operating_a = paths.bank.threshold_a(np.inf)
+                hot_a = paths.bank.threshold_a(cap) if cap is not None else operating_a
             context = StagingContext(
                 states=states, bank=paths.bank, device_branch=net.device_branch,
                 arcing=stage_arcing(net, equipment, case),
-                excluded=paths.excluded, line_side=paths.line_side, operating_a=operating_a, cap_s=cap,
+                excluded=paths.excluded, line_side=paths.line_side, operating_a=operating_a, hot_a=hot_a, cap_s=cap,
                 motor_end_s=motor_end_s)
             for followed in follow_arcs(context, np.flatnonzero(staged)):
                 k = followed.bus

@@ -60,6 +60,8 @@ class StagedArc:
     time_s: float = 0.0
     held_device: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.intp))
     held_progress: np.ndarray = field(default_factory=lambda: np.zeros((0, 1)))
+    history: list = field(default_factory=list)
+    opened: set = field(default_factory=set)
     opening: dict = field(default_factory=dict)
     stages: list = field(default_factory=list)
     steps: list = field(default_factory=list)
@@ -92,6 +94,9 @@ class StagingContext:
     operating_a : numpy.ndarray
         Per device, a current below which none of its elements operates
         (a lower bound of its smallest pickup) [A]
+    hot_a : numpy.ndarray
+        Per device, a current below which it does not clear within the cap
+        (a lower bound; equal to ``operating_a`` without a cap) [A]
     cap_s : float or None
         Arc-duration cap [s]
     motor_end_s : float or None
@@ -105,6 +110,7 @@ class StagingContext:
     excluded: dict
     line_side: dict
     operating_a: np.ndarray
+    hot_a: np.ndarray
     cap_s: float | None
     motor_end_s: float | None
 
@@ -146,29 +152,62 @@ def _follow_chunk(context, chunk):
         for j, arc in enumerate(active):
             part = slice(bounds[j], bounds[j + 1])
             _advance(context, arc, solved.bolted_ka[j], arcing_ka[j], int(code[j]), chosen[j], times[part],
-                     reset[part], breaker[part])
+                     reset[part], breaker[part], device_a[j])
         for arc in active:
-            if arc.done:  # its trip progress is no longer needed
+            if arc.done:  # its trip progress and history are no longer needed
                 arc.held_device, arc.held_progress = np.zeros(0, dtype=np.intp), np.zeros((0, 1))
+                arc.history = []
         active = [a for a in active if not a.done]
     for arc in active:  # more openings than MAX_STAGES: stop at the cap, flagged
         arc.done, arc.no_trip = True, True
 
 
-def _devices(context, arc, device_a):
-    """Devices to follow in this stage: those whose current reaches an operating element, and those
-    still holding trip progress (sorted)."""
+def _warm(context, arc, device_a):
+    """Devices whose current reaches one of their elements' pickups, less those that have tripped and
+    those that never open for this bus (sorted)."""
     excluded = context.excluded.get(arc.bus, set())
     candidates = np.flatnonzero(device_a >= context.operating_a)  # below: no element operates
-    if arc.opening:
-        candidates = candidates[~np.isin(candidates, list(arc.opening))]
+    if arc.opening or arc.opened:  # tripped (opening pending) or opened: never again
+        candidates = candidates[~np.isin(candidates, list(arc.opening) + list(arc.opened))]
     if excluded:
         never = list(excluded - context.line_side.get(arc.bus, set()))
         candidates = candidates[~np.isin(candidates, never)]
-    return np.union1d(candidates, arc.held_device).astype(np.intp) if arc.held_device.size else candidates
+    return candidates
 
 
-def _advance(context, arc, bolted_ka, arcing_ka, code, devices, times, reset, breaker):
+def _devices(context, arc, device_a):
+    """Devices to follow in this stage (sorted): those whose current could make them clear within the
+    cap, and those already followed that still hold trip progress.
+
+    A device whose current has stayed below the smallest current at which it clears within the cap
+    cannot open before the cap (each element's time then exceeds the cap less the opening time, so its
+    progress cannot reach 1 in time): it is not followed until its current first reaches that level;
+    then its progress so far is replayed from the arc's history (:func:`_replay`), so nothing is lost.
+    """
+    warm = _warm(context, arc, device_a)
+    hot = warm[device_a[warm] >= context.hot_a[warm]]
+    return np.union1d(hot, arc.held_device).astype(np.intp) if arc.held_device.size else hot
+
+
+def _progressed(progress, times, reset, dt):
+    """Trip progress after ``dt`` at constant current: rising at 1/t where an element operates, else
+    resetting (at once where ``reset`` is 0, at 1/reset where finite, held where infinite)."""
+    with np.errstate(invalid="ignore", divide="ignore"):
+        rising = np.where(np.isfinite(times), progress + dt / times, 0.0)
+        falling = np.where(reset > 0.0, np.maximum(progress - dt / reset, 0.0), 0.0)
+    return np.where(np.isfinite(times), rising, np.where(np.isinf(reset), progress, falling))
+
+
+def _replay(context, arc, devices):
+    """Trip progress of ``devices`` at the arc's present time, from the currents of its past stages."""
+    progress = np.zeros((devices.size, context.bank.element_count))
+    for dt, device_a in arc.history:
+        times, reset, _ = context.bank.elements(devices, device_a[devices])
+        progress = _progressed(progress, times, reset, dt)
+    return progress
+
+
+def _advance(context, arc, bolted_ka, arcing_ka, code, devices, times, reset, breaker, device_a):
     """One stage of ``arc``: from its present time to the next opening (or the end)."""
     if arc.steps and arc.steps[-1][3] is None:
         for step in arc.steps:
@@ -177,6 +216,9 @@ def _advance(context, arc, bolted_ka, arcing_ka, code, devices, times, reset, br
     progress = np.zeros(times.shape)
     if arc.held_device.size:
         progress[np.searchsorted(devices, arc.held_device)] = arc.held_progress
+    new = ~np.isin(devices, arc.held_device)
+    if arc.history and new.any():  # followed from now on: their progress so far
+        progress[new] = _replay(context, arc, devices[new])
     with np.errstate(invalid="ignore"):
         remaining = np.where(np.isfinite(times), (1.0 - progress) * times, np.inf)
     trip_in = remaining.min(axis=1) if devices.size else np.zeros(0)
@@ -196,24 +238,33 @@ def _advance(context, arc, bolted_ka, arcing_ka, code, devices, times, reset, br
         arc.capped = np.isfinite(end) and end < next_time
         if arc.capped:  # name the device that would have opened next, as the one-stage answer does
             pending = dict(arc.opening)
-            if open_at.size:
+            others = np.setdiff1d(_warm(context, arc, device_a), devices)  # not followed: below the cap's level
+            if others.size:
+                o_times, o_reset, o_breaker = context.bank.elements(others, device_a[others])
+                o_progress = _replay(context, arc, others)
+                with np.errstate(invalid="ignore"):
+                    o_remaining = np.where(np.isfinite(o_times), (1.0 - o_progress) * o_times, np.inf).min(axis=1)
+                devices = np.concatenate([devices, others])
+                open_at = np.concatenate([open_at, arc.time_s + o_remaining + o_breaker])
+            if open_at.size and np.isfinite(open_at.min()):
                 pending[int(devices[np.argmin(open_at)])] = float(open_at.min())
-            arc.governing = min(pending, key=pending.get)
+            arc.no_trip = not pending
+            if pending:
+                arc.governing = min(pending, key=pending.get)
         return
     dt = end - arc.time_s
     tripped = trip_in <= dt + SIMULTANEOUS_S
     for d, at in zip(devices[tripped], open_at[tripped]):
         arc.opening[int(d)] = float(at)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        rising = np.where(np.isfinite(times), progress + dt / times, 0.0)
-        falling = np.where(reset > 0.0, np.maximum(progress - dt / reset, 0.0), 0.0)
-    updated = np.where(np.isfinite(times), rising, np.where(np.isinf(reset), progress, falling))
+    updated = _progressed(progress, times, reset, dt)
     keep = ~tripped & updated.any(axis=1)
     arc.held_device, arc.held_progress = devices[keep], updated[keep]
+    arc.history.append((dt, device_a.copy()))
     arc.time_s = end
     now = sorted(d for d, at in arc.opening.items() if at <= end + SIMULTANEOUS_S)
     for d in now:
         del arc.opening[d]
+    arc.opened.update(now)
     arc.key = _after_openings(context, arc, arc.key, now, motors_end and end >= context.motor_end_s)
     for d in now:
         arc.steps.append([d, end, arcing_ka, None, bolted_ka, None])

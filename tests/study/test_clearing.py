@@ -103,6 +103,10 @@ def test_line_side_of_main_goes_to_next_device(tmp_path):
     line_side = clearing_table(_chain_with_main(tmp_path / "b", arc_not_cleared_by=["MAIN"]))
     assert line_side.loc["LV", "governing_device"] == "PRI"
     assert line_side.loc["LV", "clearing_time_s"] > own.loc["LV", "clearing_time_s"]
+    # The main opens once (cutting the bus and the rest of the network off its line side); the arc on the
+    # line side stays fed through the transformer until the primary relay opens.
+    sequence = line_side.loc["LV", "clearing_sequence"]
+    assert sequence.count("MAIN opens") == 1 and sequence.index("MAIN") < sequence.index("PRI opens")
 
 
 def test_device_that_does_not_trip_is_flagged(tmp_path):

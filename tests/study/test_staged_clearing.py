@@ -418,3 +418,31 @@ def test_closing_a_tie_never_ends_the_arc_before_the_slower_path_alone(tmp_path_
             continue
         slower = max(row[f"{prefix}clearing_time_s"] for row in alone)
         assert both[f"{prefix}clearing_time_s"] >= slower * (1 - 1e-9)
+
+
+@pytest.mark.parametrize("source, scenario", [("demo", "tie-closed"), ("demo", "utility-min"),
+                                              ("synthetic", "ties-closed")])
+def test_following_only_devices_that_can_clear_within_the_cap_changes_nothing(demo, tmp_path, source, scenario,
+                                                                              monkeypatch):
+    # Devices whose current stays below the level at which they clear within the cap are followed only
+    # once their current reaches it, their progress then replayed from the arc's history. Following every
+    # device from the start (each device's cap level lowered to its smallest pickup) must give the same arcs.
+    from arcflash.study import staging
+    from arcflash.study.arcing import arcing_currents
+    from arcflash.study.clearing import clear_arcs
+    from arcflash.study.faults import solve_scenario
+    from tests.synthetic import synthetic_site
+
+    site = demo if source == "demo" else arcflash.load_site(synthetic_site(tmp_path / "s", 300, ties=6,
+                                                                          substation_size=60))
+    chosen = site.scenario(scenario)
+    faults = solve_scenario(site, scenario, for_clearing=True)
+    arcs = arcing_currents(site, faults.buses)
+    lazy = clear_arcs(site, chosen, faults, arcs["arcing_current_ka"], arcs["reduced_arcing_current_ka"])
+    real = staging.StagingContext
+    monkeypatch.setattr(staging, "StagingContext", lambda **kw: real(**{**kw, "hot_a": kw["operating_a"]}))
+    every = clear_arcs(site, chosen, faults, arcs["arcing_current_ka"], arcs["reduced_arcing_current_ka"])
+    for column in ("clearing_time_s", "reduced_clearing_time_s", "governing_device", "clearing_sequence",
+                   "no_trip", "duration_capped"):
+        assert (lazy.table[column].fillna(-1) == every.table[column].fillna(-1)).all(), column
+    assert lazy.table["staged"].sum() > 3
