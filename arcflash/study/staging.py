@@ -158,8 +158,14 @@ def _follow_chunk(context, chunk):
                 arc.held_device, arc.held_progress = np.zeros(0, dtype=np.intp), np.zeros((0, 1))
                 arc.history = []
         active = [a for a in active if not a.done]
-    for arc in active:  # more openings than MAX_STAGES: stop at the cap, flagged
+    for arc in active:  # more openings than MAX_STAGES: flagged; the rest of the arc at its largest current
         arc.done, arc.no_trip = True, True
+        worst = max(arc.stages, key=lambda stage: stage[2])
+        arc.duration_s = context.cap_s if context.cap_s is not None else np.inf
+        arc.stages.append((arc.time_s, arc.duration_s, worst[2], worst[3], worst[4]))
+        for step in arc.steps:
+            if step[3] is None:
+                step[3], step[5] = np.nan, np.nan
 
 
 def _warm(context, arc, device_a):

@@ -446,3 +446,16 @@ def test_following_only_devices_that_can_clear_within_the_cap_changes_nothing(de
                    "no_trip", "duration_capped"):
         assert (lazy.table[column].fillna(-1) == every.table[column].fillna(-1)).all(), column
     assert lazy.table["staged"].sum() > 3
+
+
+def test_an_arc_with_too_many_openings_runs_to_the_cap_at_its_largest_current(tmp_path, monkeypatch):
+    # Past MAX_STAGES openings the arc is not followed further: it is flagged and counted to the cap at the
+    # largest current it has had (never less energy than following it would give).
+    from arcflash.study import staging
+
+    site = _generator_in_parallel(tmp_path)
+    followed = _study_row(site, "SWGR")
+    monkeypatch.setattr(staging, "MAX_STAGES", 0)
+    stopped = _study_row(site, "SWGR")
+    assert stopped["no_trip"] and stopped["clearing_time_s"] == 2.0
+    assert stopped["incident_energy_cal_cm2"] > followed["incident_energy_cal_cm2"]
