@@ -144,7 +144,7 @@ class NetworkStates:
         return topology
 
     def _prepared(self, key):
-        """Energised nodes, renumbering and LU factorisation of a state (cached)."""
+        """Renumbering of the energised nodes and LU factorisation of a state (cached)."""
         if key in self._states:
             return self._states[key]
         f, t, closed, energized, _ = self._topology(key)
@@ -158,13 +158,8 @@ class NetworkStates:
             y = admittance_matrix(active.size, index[f[use]], index[t[use]], self.branch_z_pu[use],
                                   index[self.shunt_bus[shunt]], self.shunt_z_pu[shunt])
             lu = splu(y)
-        # Device branch ends in the state's numbering, -1 where the branch carries nothing.
-        b = self.device_branch
-        live = use[b]
-        ends = (np.where(live, index[f[b]], -1), np.where(live, index[t[b]], -1))
-        prepared = (energized, index, lu, ends, live)
-        self._states[key] = prepared
-        return prepared
+        self._states[key] = (index, lu)
+        return index, lu
 
     @property
     def factorisations(self):
@@ -202,35 +197,40 @@ class NetworkStates:
             return None
         return applied
 
-    def _base_columns(self, col, lu):
-        """Z[:, c] of the base state for each position c (the last :data:`BASE_COLUMNS_KEPT` kept) [pu]."""
-        cache = self._states.setdefault("base_columns", {})
-        missing = [c for c in dict.fromkeys(col.tolist()) if c not in cache]
+    def _cached_columns(self, cache_name, keys, lu, fill):
+        """Solved columns of the base state, cached by key; ``fill(rhs, missing)`` sets the
+        right-hand sides of the keys not yet solved [pu]."""
+        cache = self._states.setdefault(cache_name, {})
+        missing = [k for k in dict.fromkeys(keys) if k not in cache]
         if missing:
             rhs = np.zeros((lu.shape[0], len(missing)), dtype=complex)
-            rhs[missing, np.arange(len(missing))] = 1.0
+            fill(rhs, missing)
             solved = lu.solve(rhs)
-            for number, c in enumerate(missing):
-                cache[c] = solved[:, number]
-        columns = np.column_stack([cache[c] for c in col.tolist()])
+            for number, k in enumerate(missing):
+                cache[k] = solved[:, number]
+        return np.column_stack([cache[k] for k in keys])
+
+    def _base_columns(self, col, lu):
+        """Z[:, c] of the base state for each position c (the last :data:`BASE_COLUMNS_KEPT` kept) [pu]."""
+        def fill(rhs, missing):
+            rhs[missing, np.arange(len(missing))] = 1.0
+
+        columns = self._cached_columns("base_columns", col.tolist(), lu, fill)
+        cache = self._states["base_columns"]
         for old in list(cache)[:max(0, len(cache) - BASE_COLUMNS_KEPT)]:  # the oldest first
             del cache[old]
         return columns
 
     def _update_columns(self, branches):
         """Z u_b of the base state for each branch b (cached) [pu]."""
-        energized, index, lu, _, _ = self._prepared(StateKey())
-        cache = self._states.setdefault("update_columns", {})
-        missing = [b for b in branches if b not in cache]
-        if missing:
-            rhs = np.zeros((lu.shape[0], len(missing)), dtype=complex)
+        index, lu = self._prepared(StateKey())
+
+        def fill(rhs, missing):
             cols = np.arange(len(missing))
             rhs[index[self.branch_from[missing]], cols] += 1.0
             rhs[index[self.branch_to[missing]], cols] -= 1.0
-            solved = lu.solve(rhs)
-            for number, b in enumerate(missing):
-                cache[b] = solved[:, number]
-        return np.column_stack([cache[b] for b in branches])
+
+        return self._cached_columns("update_columns", list(branches), lu, fill)
 
     def solve(self, key, fault_bus):
         """Faults at ``fault_bus`` (bus indices), all in state ``key`` (see :meth:`solve_pairs`)."""
@@ -281,7 +281,7 @@ class NetworkStates:
 
     def _fill(self, solved_key, rows, fault_bus, keys, plans, bolted, current, on):
         """Solve faults ``rows`` with the factorisation of ``solved_key``, each updated by its plan."""
-        _, index, lu, _, _ = self._prepared(solved_key)
+        index, lu = self._prepared(solved_key)
         b = self.device_branch
         z_b = self.branch_z_pu[b]
         points, live_rows = [], []

@@ -350,8 +350,8 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
     n_bus, cap = len(paths.bus_ids), paths.cap_s
     motor_end_s = site.facility.motor_contribution_end_s
     device_base_ka = base_current_ka(site.facility.s_base_mva, net.device_kv)
-    threshold_pu = (paths.bank.threshold_a(cap if cap is not None else np.inf) / 1000.0
-                    / device_base_ka).min(initial=np.inf)
+    cap_level_a = paths.bank.threshold_a(cap if cap is not None else np.inf)  # clears within the cap from here
+    threshold_pu = (cap_level_a / 1000.0 / device_base_ka).min(initial=np.inf)
     bus_base_ka = base_current_ka(site.facility.s_base_mva, net.base_kv)
     result = pd.DataFrame(index=pd.Index(paths.bus_ids, name="bus"))
     notes = list(paths.notes)
@@ -375,7 +375,7 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
             if states is None:
                 states = network_states(site, net)
                 operating_a = paths.bank.threshold_a(np.inf)
-                hot_a = paths.bank.threshold_a(cap) if cap is not None else operating_a
+                hot_a = cap_level_a
             context = StagingContext(
                 states=states, bank=paths.bank, device_branch=net.device_branch,
                 arcing=stage_arcing(net, equipment, case),
