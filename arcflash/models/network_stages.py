@@ -112,6 +112,7 @@ class NetworkStates:
         self.source_bus = np.asarray(source_bus, dtype=np.intp)
         self.device_branch = np.asarray(device_branch, dtype=np.intp)
         self.device_base_ka = base_current_ka(s_base_mva, np.asarray(device_kv, dtype=float))
+        self._device_scale = self.device_base_ka / np.abs(self.branch_z_pu[self.device_branch])  # [kA/pu]
         self.voltage_factor = float(voltage_factor)
         self.s_base_mva = float(s_base_mva)
         self._states = {}
@@ -172,27 +173,37 @@ class NetworkStates:
         None (factorise the state itself) for a line-side split, ended motor
         contributions, a near-zero-impedance branch among the removed ones
         (a closed switch: the update would lose its precision), or a part
-        left without any shunt that more than one opened branch touches. A
-        part without shunts touched by a single opened branch keeps that
-        branch (it hangs on as a dead end that carries nothing).
+        left without any shunt that no opened branch can tie to a part with
+        one. Opened branches that cut off a part without shunts are kept
+        where needed, one per such part, tying it to a part with a shunt:
+        it then hangs on as a dead end that carries nothing (no source, no
+        fault inside), and the updated matrix stays regular.
         """
         if key.split is not None or key.motors_off:
             return None
         f, t, _, _, label = self._topology(key)
-        grounded = np.zeros(label.max() + 1, dtype=bool)
+        parts = label.max() + 1
+        grounded = np.zeros(parts, dtype=bool)
         grounded[label[self.shunt_bus]] = True
-        applied, cuts = [], {}
+        root = np.arange(parts)
+
+        def find(x):
+            while root[x] != x:
+                root[x] = root[root[x]]
+                x = root[x]
+            return x
+
+        applied, touched = [], set()
         for b in sorted(key.opened):
-            a, c = label[f[b]], label[t[b]]
-            if a != c:
-                for part in (a, c):
-                    if not grounded[part]:
-                        cuts.setdefault(part, []).append(b)
-            applied.append(b)
-        for part, branches in cuts.items():
-            if len(branches) > 1:
-                return None
-            applied.remove(branches[0])
+            touched.update((int(label[f[b]]), int(label[t[b]])))
+            a, c = find(label[f[b]]), find(label[t[b]])
+            if a != c and not (grounded[a] and grounded[c]):  # kept: ties a part without shunts on
+                root[a] = c
+                grounded[c] |= grounded[a]
+            else:
+                applied.append(b)
+        if not all(grounded[find(p)] for p in touched):
+            return None
         if any(abs(self.branch_z_pu[b]) < LOW_RANK_MIN_Z_PU for b in applied):
             return None
         return applied
@@ -283,7 +294,6 @@ class NetworkStates:
         """Solve faults ``rows`` with the factorisation of ``solved_key``, each updated by its plan."""
         index, lu = self._prepared(solved_key)
         b = self.device_branch
-        z_b = self.branch_z_pu[b]
         points, live_rows = [], []
         for row, key in zip(rows, keys):
             energized = self._topology(key)[3]
@@ -329,8 +339,15 @@ class NetworkStates:
                 ends_f, ends_t = index[f[b[idx]]], index[t[b[idx]]]
             else:
                 ends_f, ends_t = base_f[idx], base_t[idx]
-            i_dev = np.abs((z[ends_f] - z[ends_t]) * (i_fault[None, :] / z_b[idx][:, None]))
-            current[np.ix_(rows_js, idx)] = (i_dev * self.device_base_ka[idx][:, None]).T
+            # |I_d| = |Z[f, k] - Z[t, k]| |I_k| / |z_d| in the device's own kV, one row per fault.
+            zt = np.ascontiguousarray(z.T)
+            i_dev = np.abs(zt[:, ends_f] - zt[:, ends_t])
+            i_dev *= np.abs(i_fault)[:, None]
+            i_dev *= self._device_scale[idx][None, :]
+            if idx.size == b.size:
+                current[rows_js] = i_dev
+            else:
+                current[np.ix_(rows_js, idx)] = i_dev
 
     def hops_from(self, bus):
         """Number of branches between ``bus`` and every bus, all branches closed (cached) [-]."""

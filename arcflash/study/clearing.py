@@ -286,13 +286,18 @@ def _one_stage(paths, time):
 def _needs_stages(faults, paths, ratio, arcing_pu, duration, governing, threshold_pu, motor_end_s):
     """Buses whose one-stage answer is not exact: they are followed stage by stage.
 
-    The one-stage answer is exact where exactly one source reaches the bus,
-    the governing device's branch splits the network (its opening cuts the
-    bus from that source), no device opens before it at the currents of the
-    fault's inception, no device left out of the device table (under 0.1 %
-    of the bolted current) could clear within the duration cap at the
-    largest current it may carry there, and no motor contribution ends
-    before it.
+    The one-stage answer is exact where no device left out of the device
+    table (under 0.1 % of the bolted current) could clear within the
+    duration cap at the largest current it may carry there, no motor
+    contribution ends before the answer's time, and either
+
+    - exactly one source reaches the bus, the governing device's branch
+      splits the network (its opening cuts the bus from that source) and no
+      device opens before it at the currents of the fault's inception; or
+    - no device at all opens within the duration cap at those currents: the
+      network does not change before the cap, so the arc burns at its
+      inception current until the cap (the governing device named is the
+      one-stage answer's, the device that would end it later).
     """
     net, solution = faults.net, faults.solution
     n_bus = len(paths.bus_ids)
@@ -304,11 +309,15 @@ def _needs_stages(faults, paths, ratio, arcing_pu, duration, governing, threshol
     bridge = np.zeros(n_bus, dtype=bool)
     has = governing >= 0
     bridge[has] = ~paths.on_loop[net.device_branch[governing[has]]]
+    cap = paths.cap_s
     with np.errstate(invalid="ignore"):
-        exact = ((paths.sources_reaching == 1) & bridge & (first >= duration - 1e-9)
-                 & ~(1e-3 * arcing_pu >= threshold_pu))
+        answer_s = np.minimum(duration, cap) if cap is not None else duration
+        exact = ((paths.sources_reaching == 1) & bridge & (first >= duration - 1e-9))
+        if cap is not None:  # nothing opens before the cap
+            exact |= first > cap
+        exact &= ~(1e-3 * arcing_pu >= threshold_pu)
     if motor_end_s is not None:
-        exact &= ~(duration > motor_end_s)
+        exact &= ~(answer_s > motor_end_s)
     return paths.energized & ~paths.no_device & ~exact
 
 
@@ -356,42 +365,50 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
     result = pd.DataFrame(index=pd.Index(paths.bus_ids, name="bus"))
     notes = list(paths.notes)
     result["no_device"] = paths.no_device
-    stage_rows, step_rows = [], []
-    states = None
-    any_staged = np.zeros(n_bus, dtype=bool)
-    for case, prefix, arc in (("full", "", arcing_ka), ("reduced", "reduced_", reduced_arcing_ka)):
+    cases = (("full", "", arcing_ka), ("reduced", "reduced_", reduced_arcing_ka))
+    one = {}  # per case: inception arcing current, one-stage duration and device, buses followed
+    for case, _, arc in cases:
         arc_ka = arc.reindex(paths.bus_ids).to_numpy(float)
         ratio = np.where(paths.bolted_ka > 0, arc_ka / np.where(paths.bolted_ka > 0, paths.bolted_ka, 1.0), 0.0)
         time = paths.bank.clearing_time_s(paths.device, paths.device_ka * ratio[paths.bus] * 1000.0)
         duration, governing = _one_stage(paths, time)
         staged = _needs_stages(faults, paths, ratio, np.nan_to_num(arc_ka) / bus_base_ka, duration, governing,
                                threshold_pu, motor_end_s)
+        one[case] = (arc_ka, duration, governing, staged)
+    followed = {case: [] for case, _, _ in cases}
+    if any(one[case][3].any() for case, _, _ in cases):
+        context = StagingContext(
+            states=network_states(site, net), bank=paths.bank, device_branch=net.device_branch,
+            arcing=stage_arcing(net, equipment), excluded=paths.excluded, line_side=paths.line_side,
+            operating_a=paths.bank.threshold_a(np.inf), hot_a=cap_level_a, cap_s=cap, motor_end_s=motor_end_s)
+        # Both cases of a bus side by side: they share the bus's fault columns.
+        bus = np.concatenate([np.flatnonzero(one[case][3]) for case, _, _ in cases])
+        reduced = np.concatenate([np.full(int(one[case][3].sum()), case == "reduced") for case, _, _ in cases])
+        named = np.concatenate([np.where(np.isfinite(one[case][1]), one[case][2], -1)[one[case][3]]
+                                for case, _, _ in cases])  # the one-stage device, where it trips
+        order = np.lexsort((reduced, bus))
+        for arc in follow_arcs(context, bus[order], named[order], reduced[order]):
+            followed["reduced" if arc.reduced else "full"].append(arc)
+    stage_rows, step_rows = [], []
+    any_staged = np.zeros(n_bus, dtype=bool)
+    for case, prefix, _ in cases:
+        arc_ka, duration, governing, staged = one[case]
         sequence = np.full(n_bus, "", dtype=object)
         for k in np.flatnonzero(paths.energized & ~staged & (governing >= 0)):
             sequence[k] = _sequence_text([(governing[k], duration[k], arc_ka[k], 0.0)], paths.device_ids)
         no_trip_staged = np.zeros(n_bus, dtype=bool)
         capped_staged = np.zeros(n_bus, dtype=bool)
-        if staged.any():
-            if states is None:
-                states = network_states(site, net)
-                operating_a = paths.bank.threshold_a(np.inf)
-                hot_a = cap_level_a
-            context = StagingContext(
-                states=states, bank=paths.bank, device_branch=net.device_branch,
-                arcing=stage_arcing(net, equipment, case),
-                excluded=paths.excluded, line_side=paths.line_side, operating_a=operating_a, hot_a=hot_a, cap_s=cap,
-                motor_end_s=motor_end_s)
-            for followed in follow_arcs(context, np.flatnonzero(staged)):
-                k = followed.bus
-                duration[k] = followed.duration_s
-                governing[k] = followed.governing
-                no_trip_staged[k], capped_staged[k] = followed.no_trip, followed.capped
-                sequence[k] = _sequence_text(followed.steps, paths.device_ids)
-                for number, (start, end, bolted, arcing, code) in enumerate(followed.stages):
-                    stage_rows.append((paths.bus_ids[k], case, number, start, end, bolted, arcing, code))
-                for d, t, before, after, bolted_before, bolted_after in followed.steps:
-                    step_rows.append((paths.bus_ids[k], case, paths.device_ids[d], t, before, after,
-                                      bolted_before, bolted_after))
+        for arc in followed[case]:
+            k = arc.bus
+            duration[k] = arc.duration_s
+            governing[k] = arc.governing
+            no_trip_staged[k], capped_staged[k] = arc.no_trip, arc.capped
+            sequence[k] = _sequence_text(arc.steps, paths.device_ids)
+            for number, (start, end, bolted, arcing, code) in enumerate(arc.stages):
+                stage_rows.append((paths.bus_ids[k], case, number, start, end, bolted, arcing, code))
+            for d, t, before, after, bolted_before, bolted_after in arc.steps:
+                step_rows.append((paths.bus_ids[k], case, paths.device_ids[d], t, before, after,
+                                  bolted_before, bolted_after))
         any_staged |= staged
         duration = np.where(paths.no_device, np.inf, duration)
         duration = np.where(paths.energized, duration, np.nan)

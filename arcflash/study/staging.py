@@ -56,6 +56,7 @@ class StagedArc:
     """
 
     bus: int
+    reduced: bool = False
     key: StateKey = field(default_factory=StateKey)
     time_s: float = 0.0
     held_device: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.intp))
@@ -68,6 +69,7 @@ class StagedArc:
     done: bool = False
     duration_s: float = np.inf
     governing: int = -1
+    named: int = -1
     no_trip: bool = False
     capped: bool = False
 
@@ -85,7 +87,9 @@ class StagingContext:
     device_branch : numpy.ndarray of int
         Branch of each device [-]
     arcing : callable
-        ``arcing(bus_indices, bolted_ka)`` -> (arcing current [kA], range code).
+        ``arcing(bus_indices, bolted_ka, reduced)`` -> (arcing current [kA],
+        range code); ``reduced`` (bool per fault) asks for the reduced
+        arcing current.
     excluded : dict
         Bus index -> set of device indices in its ``arc_not_cleared_by``.
     line_side : dict
@@ -115,8 +119,18 @@ class StagingContext:
     motor_end_s: float | None
 
 
-def follow_arcs(context, buses):
+def follow_arcs(context, buses, named=None, reduced=None):
     """Follow the arcs at ``buses`` (bus indices) until each ends; see the module docstring.
+
+    ``reduced`` (bool per arc) marks the arcs of the reduced-arcing-current
+    case; both cases of a bus are best given next to each other (they share
+    the bus's fault columns).
+
+    ``named`` (device index per bus, -1 for none) is the device that ends
+    each arc by the one-stage reading at the currents of its inception; an
+    arc that reaches the duration cap names it as its governing device,
+    unless it opened before the cap (then the device that would open next
+    is named).
 
     Arcs are taken in chunks of :data:`CHUNK_ARCS`; the arcs of a chunk
     advance together, one stage per round: one network solve and one curve
@@ -126,7 +140,9 @@ def follow_arcs(context, buses):
     -------
     list of StagedArc
     """
-    arcs = [StagedArc(int(k)) for k in buses]
+    named = np.full(len(buses), -1) if named is None else named
+    reduced = np.zeros(len(buses), dtype=bool) if reduced is None else reduced
+    arcs = [StagedArc(int(k), reduced=bool(r), named=int(d)) for k, d, r in zip(buses, named, reduced)]
     for lo in range(0, len(arcs), CHUNK_ARCS):  # a chunk at a time: trip progress is held for few arcs
         _follow_chunk(context, arcs[lo:lo + CHUNK_ARCS])
     return arcs
@@ -140,7 +156,7 @@ def _follow_chunk(context, chunk):
             break
         at = np.array([a.bus for a in active], dtype=np.intp)
         solved = context.states.solve_pairs([a.key for a in active], at)
-        arcing_ka, code = context.arcing(at, solved.bolted_ka)
+        arcing_ka, code = context.arcing(at, solved.bolted_ka, np.array([a.reduced for a in active], dtype=bool))
         ratio = np.divide(arcing_ka, solved.bolted_ka, out=np.zeros(at.size), where=solved.bolted_ka > 0)
         device_a = solved.device_current_ka * (ratio * 1000.0)[:, None]
         chosen = [_devices(context, arc, device_a[j]) for j, arc in enumerate(active)]
@@ -170,15 +186,15 @@ def _follow_chunk(context, chunk):
 
 def _warm(context, arc, device_a):
     """Devices whose current reaches one of their elements' pickups, less those that have tripped and
-    those that never open for this bus (sorted)."""
-    excluded = context.excluded.get(arc.bus, set())
-    candidates = np.flatnonzero(device_a >= context.operating_a)  # below: no element operates
+    those that never open for this bus, as a mask [-]."""
+    warm = device_a >= context.operating_a  # below: no element operates
     if arc.opening or arc.opened:  # tripped (opening pending) or opened: never again
-        candidates = candidates[~np.isin(candidates, list(arc.opening) + list(arc.opened))]
+        warm[list(arc.opening) + list(arc.opened)] = False
+    excluded = context.excluded.get(arc.bus, set())
     if excluded:
         never = list(excluded - context.line_side.get(arc.bus, set()))
-        candidates = candidates[~np.isin(candidates, never)]
-    return candidates
+        warm[never] = False
+    return warm
 
 
 def _devices(context, arc, device_a):
@@ -190,8 +206,7 @@ def _devices(context, arc, device_a):
     progress cannot reach 1 in time): it is not followed until its current first reaches that level;
     then its progress so far is replayed from the arc's history (:func:`_replay`), so nothing is lost.
     """
-    warm = _warm(context, arc, device_a)
-    hot = warm[device_a[warm] >= context.hot_a[warm]]
+    hot = np.flatnonzero(_warm(context, arc, device_a) & (device_a >= context.hot_a))
     return np.union1d(hot, arc.held_device).astype(np.intp) if arc.held_device.size else hot
 
 
@@ -242,21 +257,12 @@ def _advance(context, arc, bolted_ka, arcing_ka, code, devices, times, reset, br
         arc.done, arc.duration_s = True, end
         arc.no_trip = not np.isfinite(next_time)
         arc.capped = np.isfinite(end) and end < next_time
-        if arc.capped:  # name the device that would have opened next, as the one-stage answer does
-            pending = dict(arc.opening)
-            others = np.setdiff1d(_warm(context, arc, device_a), devices)  # not followed: below the cap's level
-            if others.size:
-                o_times, o_reset, o_breaker = context.bank.elements(others, device_a[others])
-                o_progress = _replay(context, arc, others)
-                with np.errstate(invalid="ignore"):
-                    o_remaining = np.where(np.isfinite(o_times), (1.0 - o_progress) * o_times, np.inf).min(axis=1)
-                devices = np.concatenate([devices, others])
-                open_at = np.concatenate([open_at, arc.time_s + o_remaining + o_breaker])
-            if open_at.size and np.isfinite(open_at.min()):
-                pending[int(devices[np.argmin(open_at)])] = float(open_at.min())
-            arc.no_trip = not pending
-            if pending:
-                arc.governing = min(pending, key=pending.get)
+        if arc.capped and arc.named >= 0 and arc.named not in arc.opened:
+            arc.governing = arc.named  # the device that would end the arc at its inception currents
+            arc.no_trip = False
+        elif arc.capped:  # that device has opened: name the device that would open next
+            arc.governing = _next_to_open(context, arc, devices, open_at, device_a)
+            arc.no_trip = arc.governing < 0
         return
     dt = end - arc.time_s
     tripped = trip_in <= dt + SIMULTANEOUS_S
@@ -280,6 +286,24 @@ def _advance(context, arc, bolted_ka, arcing_ka, code, devices, times, reset, br
                 step[3], step[5] = 0.0, 0.0
         arc.done, arc.duration_s = True, end
         arc.governing = _governing(context, arc, now)
+
+
+def _next_to_open(context, arc, devices, open_at, device_a):
+    """The device that would open next after the cap (-1: none): of those tripped already, the
+    followed ``devices`` (opening at ``open_at``) and those not followed (their progress replayed)."""
+    pending = dict(arc.opening)
+    others = _warm(context, arc, device_a)
+    others[devices] = False
+    others = np.flatnonzero(others)  # not followed: below the cap's level
+    if others.size:
+        times, _, breaker = context.bank.elements(others, device_a[others])
+        progress = _replay(context, arc, others)
+        with np.errstate(invalid="ignore"):
+            at = arc.time_s + np.where(np.isfinite(times), (1.0 - progress) * times, np.inf).min(axis=1) + breaker
+        devices, open_at = np.concatenate([devices, others]), np.concatenate([open_at, at])
+    if open_at.size and np.isfinite(open_at.min()):
+        pending[int(devices[np.argmin(open_at)])] = float(open_at.min())
+    return min(pending, key=pending.get) if pending else -1
 
 
 def _after_openings(context, arc, key, devices, motors_off):
@@ -326,18 +350,17 @@ def network_states(site, net):
         s_base_mva=site.facility.s_base_mva)
 
 
-def stage_arcing(net, equipment, case):
-    """``arcing(bus_indices, bolted_ka)``: IEEE 1584-2018 arcing current of a stage and its range code.
-
-    ``case`` 'full' gives the arcing current, 'reduced' the reduced arcing
-    current (Eq. 3), with each bus's own equipment.
+def stage_arcing(net, equipment):
+    """``arcing(bus_indices, bolted_ka, reduced)``: IEEE 1584-2018 arcing current of a stage and its
+    range code, with each bus's own equipment: the arcing current, or where ``reduced`` the reduced
+    arcing current (Eq. 3).
     """
     eq = equipment.reindex(net.bus_ids)
     columns = {name: eq[name].to_numpy(float) for name in ("gap_mm", "working_distance_mm", "height_mm",
                                                             "width_mm", "depth_mm")}
     config = eq["config"].to_numpy(str)
 
-    def arcing(buses, bolted_ka):
+    def arcing(buses, bolted_ka, reduced):
         current = np.zeros(buses.size)
         code = np.zeros(buses.size, dtype=np.int64)
         live = bolted_ka > 0
@@ -346,7 +369,7 @@ def stage_arcing(net, equipment, case):
             r = ieee1584.evaluate(net.base_kv[b], bolted_ka[live], columns["gap_mm"][b],
                                   columns["working_distance_mm"][b], 1.0, 1.0, config[b], columns["height_mm"][b],
                                   columns["width_mm"][b], columns["depth_mm"][b])
-            current[live] = r.arcing_current_ka if case == "full" else r.reduced_arcing_current_ka
+            current[live] = np.where(reduced[live], r.reduced_arcing_current_ka, r.arcing_current_ka)
             code[live] = r.out_of_range_code
         return current, code
 

@@ -48,3 +48,40 @@ def test_line_side_split_moves_the_fault_off_the_bus(tmp_path):
     whole = states.solve(StateKey(), [lv])
     split = states.solve(StateKey(split=(lv, frozenset({t}))), [lv])
     assert split.energized[0] and 0 < split.bolted_ka[0] < whole.bolted_ka[0]
+
+
+@pytest.mark.parametrize("scenario", ["normal", "ties-closed"])
+def test_update_ties_on_parts_without_shunts(tmp_path, scenario):
+    # Opening the devices around a bus without motors cuts it off on several sides (and, opened further
+    # out, chains of such buses): the update keeps one opened branch per such part, hanging it on a part
+    # with a shunt. Same answer as factorising the state, still one factorisation.
+    import scipy.sparse as sp
+    from scipy.sparse.csgraph import breadth_first_order
+
+    site = arcflash.load_site(synthetic_site(tmp_path / "s", 400, ties=6, substation_size=80))
+    net = build_network(site, site.scenario(scenario))
+    updated, fresh = network_states(site, net), network_states(site, net)
+    fresh._update_plan = lambda key: None
+    n = len(net.bus_ids)
+    graph = sp.coo_matrix((np.ones(net.branch_from.size), (net.branch_from, net.branch_to)), shape=(n, n))
+    device_branches = set(int(b) for b in net.device_branch)
+    no_shunt = np.setdiff1d(np.arange(n), net.shunt_bus)
+    rng = np.random.default_rng(11)
+    multi_cut = 0
+    for bus in rng.choice(no_shunt, 40, replace=False):
+        near = breadth_first_order(graph, int(bus), directed=False, return_predecessors=False)[:4]
+        opened = frozenset(b for b in range(net.branch_from.size) if b in device_branches
+                           and (net.branch_from[b] in near or net.branch_to[b] in near))
+        if len(opened) < 2:
+            continue
+        key = StateKey(opened)
+        plan = updated._update_plan(key)
+        multi_cut += plan is not None and len(plan) < len(opened)
+        buses = rng.choice(n, 20, replace=False)
+        a, b = updated.solve(key, buses), fresh.solve(key, buses)
+        assert (a.energized == b.energized).all()
+        np.testing.assert_allclose(a.bolted_ka, b.bolted_ka, rtol=1e-7)
+        scale = max(b.bolted_ka.max(), 1.0)
+        assert np.abs(a.device_current_ka - b.device_current_ka).max() <= 1e-7 * scale * 1000
+    assert multi_cut >= 5  # the case this test is about was reached
+    assert updated.factorisations == 1
