@@ -394,7 +394,8 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
     for case, prefix, _ in cases:
         arc_ka, duration, governing, staged = one[case]
         sequence = np.full(n_bus, "", dtype=object)
-        for k in np.flatnonzero(paths.energized & ~staged & (governing >= 0)):
+        within = duration <= cap if cap is not None else np.isfinite(duration)  # openings after the cap: none listed
+        for k in np.flatnonzero(paths.energized & ~staged & (governing >= 0) & within):
             sequence[k] = _sequence_text([(governing[k], duration[k], arc_ka[k], 0.0)], paths.device_ids)
         no_trip_staged = np.zeros(n_bus, dtype=bool)
         capped_staged = np.zeros(n_bus, dtype=bool)

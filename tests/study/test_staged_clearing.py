@@ -336,6 +336,25 @@ def test_staged_equals_one_stage_where_one_stage_is_exact(demo, scenario, monkey
     assert (forced.loc[exact, "governing_device"] == plain.loc[exact, "governing_device"]).all()
 
 
+def test_staged_equals_one_stage_where_nothing_opens_within_the_cap(tmp_path, monkeypatch):
+    # A bus where no device opens within the duration cap at the inception currents is taken as exact even
+    # when fed over several paths (closed ties): followed stage by stage, its arc must burn unchanged until
+    # the cap and name the same device.
+    from arcflash.study import clearing
+    from tests.synthetic import synthetic_site
+
+    site = arcflash.load_site(synthetic_site(tmp_path / "s", 300, ties=6, substation_size=60))
+    plain = clearing_table(site, "ties-closed")
+    monkeypatch.setattr(clearing, "_needs_stages", lambda faults, paths, *args: paths.energized & ~paths.no_device)
+    forced = clearing_table(site, "ties-closed")
+    exact = plain.index[~plain["staged"] & plain["energized"] & ~plain["no_device"] & plain["meshed"]
+                        & plain["duration_capped"] & plain["reduced_duration_capped"]]
+    assert len(exact) > 10
+    for column in ("clearing_time_s", "reduced_clearing_time_s", "governing_device", "reduced_governing_device",
+                   "duration_capped", "reduced_duration_capped", "clearing_sequence"):
+        assert (forced.loc[exact, column] == plain.loc[exact, column]).all(), column
+
+
 def test_motor_contributions_end_when_the_site_says(tmp_path):
     # With motor_contribution_cycles, the motors leave the network after that time: the stage after it
     # has a smaller bolted current; by default they feed the whole arc.
