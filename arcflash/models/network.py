@@ -297,9 +297,11 @@ def _tree_plus_loops(sub, merged, device_branch, live, voltage_factor, min_share
     costs O(N r). Devices whose share of any fault current the update changes
     by less than :data:`LOOP_SHARE_TOLERANCE` (bounded by |g_d| times the
     largest |W| of each column) keep the tree's rows, rescaled to the meshed
-    fault current; the others (on or near a loop) get full rows, a tree
-    column pair each, corrected by the update. ``floor`` prunes the tree's
-    back-feed rows as in :func:`_radial`.
+    fault current; the others (on or near a loop) get full rows, corrected
+    by the update: one tree column each, scaled on either side of the
+    device's tree edge (:meth:`RadialNetwork.columns`), or a column pair
+    where the device is not on a tree edge or nothing below it feeds back.
+    ``floor`` prunes the tree's back-feed rows as in :func:`_radial`.
     """
     branch_edge, ea, eb, edge_y = merged
     in_tree = _spanning_forest(sub, merged)
@@ -327,30 +329,50 @@ def _tree_plus_loops(sub, merged, device_branch, live, voltage_factor, min_share
                                             min_share, None if floor is None else floor[~affected], tree=tree)
     out = [[k], [d], [current * tree.z_kk[k] / diag[k]], [direction]]
     i_fault = voltage_factor / diag
-    near = np.flatnonzero(affected)
-    for lo in range(0, near.size, BLOCK_COLUMNS // 2):
-        part = near[lo:lo + BLOCK_COLUMNS // 2]
-        cols = tree.columns(np.concatenate([i[part], j[part]]))
-        half = part.size
-        diff = cols[:, :half]
-        diff -= cols[:, half:]
-        diff -= w @ g[part].T  # Z[:, i] - Z[:, j]
-        z_b = sub.z[bdev[part]]
-        limit = (min_share * np.abs(z_b)) ** 2
-        kk, dd = np.nonzero(diff.real ** 2 + diff.imag ** 2 >= limit[None, :])
-        picked = diff[kk, dd]
-        current_pu = -picked * i_fault[kk] / z_b[dd]
-        # Direction: that of the active power through the branch, Re((V_i + V_j)/2 conj(I_ij)),
-        # with Z[:, i] + Z[:, j] = (Z[:, i] - Z[:, j]) + 2 Z[:, j] (cols' second half reused for Z[:, j]).
-        z_j = cols[:, half:]
-        z_j -= wm @ w[j[part]].T  # Z[:, j]
-        both = picked + 2.0 * z_j[kk, dd]
-        volts = 2.0 * voltage_factor - both * i_fault[kk]
-        toward_j = (volts * np.conj(current_pu)).real >= 0.0
-        out[0].append(kk)
-        out[1].append(live[part][dd])
-        out[2].append(current_pu)
-        out[3].append(np.where(toward_j, 1, -1))
+    # A device on a tree edge p-c (c the child): Z_T[k, p] = Z_T[k, c] up[c] for k in c's subtree, and
+    # Z_T[k, c] / down[c] elsewhere, so Z_T[:, i] - Z_T[:, j] is one tree column Z_T[:, c], scaled per
+    # region; where nothing below c feeds back (down[c] = 1) both columns are spread instead.
+    edge_id = tree_merged[0][bdev]
+    child = np.where((tree.parent[j] == i) & (tree.edge[j] == edge_id), j, i)
+    sign = np.where(child == j, 1.0, -1.0)  # Z_T[:, i] - Z_T[:, j] = sign (Z_T[:, p] - Z_T[:, c])
+    scale_in = sign * (tree.up[child] - 1.0)
+    scale_out = sign * (1.0 / tree.down[child] - 1.0)
+    one = affected & (edge_id >= 0) & (np.abs(scale_out) > 1e-100)
+    for group, single in ((np.flatnonzero(one), True), (np.flatnonzero(affected & ~one), False)):
+        for lo in range(0, group.size, BLOCK_COLUMNS // 2):
+            part = group[lo:lo + BLOCK_COLUMNS // 2]
+            half = part.size
+            if single:
+                tree_diff = tree.columns(child[part], scale_in[part], scale_out[part])
+                diff = tree_diff - w @ g[part].T  # Z[:, i] - Z[:, j]
+            else:
+                cols = tree.columns(np.concatenate([i[part], j[part]]))
+                diff = cols[:, :half]
+                diff -= cols[:, half:]
+                diff -= w @ g[part].T
+            z_b = sub.z[bdev[part]]
+            limit = (min_share * np.abs(z_b)) ** 2
+            kk, dd = np.nonzero(diff.real ** 2 + diff.imag ** 2 >= limit[None, :])
+            picked = diff[kk, dd]
+            current_pu = -picked * i_fault[kk] / z_b[dd]
+            if single:  # Z_T[k, j] at the picked rows, from the scaled column
+                c_d = child[part][dd]
+                inside = tree.in_subtree(c_d, kk)
+                z_c = tree_diff[kk, dd] / np.where(inside, scale_in[part][dd], scale_out[part][dd])
+                z_p = z_c * np.where(inside, tree.up[c_d], 1.0 / tree.down[c_d])
+                z_j_tree = np.where(j[part][dd] == c_d, z_c, z_p)
+            else:
+                z_j_tree = cols[kk, half + dd]
+            # Direction: that of the active power through the branch, Re((V_i + V_j)/2 conj(I_ij)), with
+            # Z[:, i] + Z[:, j] = (Z[:, i] - Z[:, j]) + 2 Z[:, j], Z[k, j] corrected at the picked rows only.
+            z_j = z_j_tree - np.einsum("pc,pc->p", wm[kk], w[j[part]][dd])
+            both = picked + 2.0 * z_j
+            volts = 2.0 * voltage_factor - both * i_fault[kk]
+            toward_j = (volts * np.conj(current_pu)).real >= 0.0
+            out[0].append(kk)
+            out[1].append(live[part][dd])
+            out[2].append(current_pu)
+            out[3].append(np.where(toward_j, 1, -1))
     return diag, tuple(np.concatenate(x) for x in out)
 
 

@@ -202,19 +202,26 @@ class RadialNetwork:
             out_value.append(value)
         return np.concatenate(out_col), np.concatenate(out_node), np.concatenate(out_value)
 
-    def columns(self, sources):
-        """Z[:, s] for each bus s in ``sources`` (N × len(sources)) [pu]."""
+    def columns(self, sources, scale_in=None, scale_out=None):
+        """Z[:, s] for each bus s in ``sources`` (N × len(sources)) [pu].
+
+        With ``scale_in`` and ``scale_out`` (one factor per source), the rows
+        of each column inside the source's subtree are multiplied by its
+        ``scale_in`` and the others by its ``scale_out`` (the spreading down
+        the tree is linear, so the two regions are scaled where they start:
+        the source itself, and its ancestors) [-].
+        """
         n, b = self.parent.size, len(sources)
         cols = np.arange(b)
         node = np.asarray(sources, dtype=np.intp)
         value = self.z_kk[node].copy()
-        path = [(node, cols, value)]  # the sources and their ancestors, with their values
+        path = [(node, cols, value if scale_in is None else value * scale_in)]  # sources, ancestors, values
         while cols.size:
             live = self.parent[node] >= 0
             node, value, cols = node[live], value[live], cols[live]
             value = value * self.up[node]
             node = self.parent[node]
-            path.append((node, cols, value))
+            path.append((node, cols, value if scale_out is None else value * scale_out[cols]))
         path_node = np.concatenate([p[0] for p in path])
         path_col = np.concatenate([p[1] for p in path])
         path_value = np.concatenate([p[2] for p in path])

@@ -102,3 +102,31 @@ def test_tree_plus_loops_equals_sparse_lu(source, tmp_path, monkeypatch):
                                                       + general.device)][at_g]
     big = current_g[at_g] > 1e-2 * current_g.max()
     assert np.mean(direction_u[big] == direction_g[big]) > 0.99
+
+
+def test_scaled_tree_columns_scale_each_side_of_the_source(tmp_path):
+    # RadialNetwork.columns with per-source factors inside and outside the source's subtree equals the
+    # plain columns multiplied region by region (the spreading down the tree is linear); the meshed solve
+    # relies on it to get Z_T[:, p] - Z_T[:, c] of a tree edge from one column.
+    from arcflash.models.network_radial import RadialNetwork
+
+    rng = np.random.default_rng(3)
+    n = 60
+    parent = np.array([-1] + [int(rng.integers(0, k)) for k in range(1, n)])
+    a, b = parent[1:], np.arange(1, n)
+    edge_y = 1.0 / (rng.uniform(0.01, 0.2, n - 1) + 1j * rng.uniform(0.05, 0.5, n - 1))
+    shunt = np.where(rng.random(n) < 0.3, 1.0 / (0.5 + 3j), 0.0)
+    shunt[0] = 1.0 / (0.001 + 0.01j)
+    tree = RadialNetwork(n, a, b, edge_y, shunt, [0])
+    sources = rng.choice(np.arange(1, n), 12, replace=False)
+    s_in, s_out = rng.normal(size=12) + 1j * rng.normal(size=12), rng.normal(size=12) + 1j * rng.normal(size=12)
+    plain, scaled = tree.columns(sources), tree.columns(sources, s_in, s_out)
+    for col, s in enumerate(sources):
+        inside = tree.in_subtree(np.full(n, s), np.arange(n))
+        expected = plain[:, col] * np.where(inside, s_in[col], s_out[col])
+        np.testing.assert_allclose(scaled[:, col], expected, rtol=1e-12)
+        # and the identities used: Z_T[k, p] = Z_T[k, c] up[c] inside, Z_T[k, c] / down[c] outside
+        p = tree.parent[s]
+        z_p = tree.columns([p])[:, 0]
+        np.testing.assert_allclose(z_p, plain[:, col] * np.where(inside, tree.up[s], 1.0 / tree.down[s]),
+                                   rtol=1e-12)
