@@ -25,7 +25,7 @@ from dataclasses import dataclass
 
 import numpy as np
 import scipy.sparse as sp
-from scipy.sparse.csgraph import connected_components, shortest_path
+from scipy.sparse.csgraph import breadth_first_order, connected_components, depth_first_order, shortest_path
 from scipy.sparse.linalg import splu
 
 from .network import admittance_matrix, base_current_ka
@@ -136,13 +136,21 @@ class NetworkStates:
         closed = np.ones(f.size, dtype=bool)
         if key.opened:
             closed[np.fromiter(key.opened, dtype=np.intp)] = False
-        graph = sp.coo_matrix((np.ones(int(closed.sum())), (f[closed], t[closed])), shape=(m, m))
-        _, label = connected_components(graph, directed=False)
-        label = label.astype(np.int32)
+        if key.split is None:
+            label = self._forest().components(closed)
+        else:
+            graph = sp.coo_matrix((np.ones(int(closed.sum())), (f[closed], t[closed])), shape=(m, m))
+            label = connected_components(graph, directed=False)[1].astype(np.int32)
         energized = np.isin(label, label[self.source_bus]) if self.source_bus.size else np.zeros(m, bool)
         topology = (f, t, closed, energized, label)
         self._states[cache_key] = topology
         return topology
+
+    def _forest(self):
+        """Spanning forest of all branches (cached), for the parts of a state without a split."""
+        if "forest" not in self._states:
+            self._states["forest"] = _Forest(self.n, self.branch_from, self.branch_to)
+        return self._states["forest"]
 
     def _prepared(self, key):
         """Renumbering of the energised nodes and LU factorisation of a state (cached)."""
@@ -362,3 +370,69 @@ class NetworkStates:
         """Whether a source still reaches ``bus`` (the split node when the state splits it) [-]."""
         energized = self._topology(key)[3]
         return bool(energized[self.n if key.split is not None else bus])
+
+
+class _Forest:
+    """A spanning forest of a network's branches, for the connected parts of a state quickly.
+
+    Opening forest branches cuts subtrees off (nested intervals of a preorder
+    numbering); the branches outside the forest that are still closed then
+    join some of those pieces again (a small graph of pieces).
+    """
+
+    def __init__(self, n, branch_from, branch_to):
+        m = branch_from.size
+        graph = sp.coo_matrix((np.arange(1, m + 1), (branch_from, branch_to)), shape=(n, n)).tocsr()
+        graph = (graph + graph.T).tocsr()  # parallel branches: one entry (sum), found by the tree test below
+        parts, base = connected_components(graph, directed=False)
+        roots = np.unique(base, return_index=True)[1]
+        parent = np.full(n, -1, dtype=np.intp)
+        depth = np.zeros(n, dtype=np.intp)
+        for root in roots:
+            order, pred = breadth_first_order(graph, int(root), directed=False, return_predecessors=True)
+            parent[order[1:]] = pred[order[1:]]
+            for node in order[1:]:  # parents first
+                depth[node] = depth[parent[node]] + 1
+        # Preorder of the forest itself (not of the whole graph): each subtree is one interval.
+        child = np.flatnonzero(parent >= 0)
+        forest = sp.coo_matrix((np.ones(child.size), (child, parent[child])), shape=(n, n)).tocsr()
+        self.preorder = np.concatenate([depth_first_order(forest, int(root), directed=False,
+                                                          return_predecessors=False) for root in roots])
+        self.tin = np.empty(n, dtype=np.intp)
+        self.tin[self.preorder] = np.arange(n)
+        self.size = np.ones(n, dtype=np.intp)
+        for d in range(depth.max(initial=0), 0, -1):
+            level = np.flatnonzero(depth == d)
+            np.add.at(self.size, parent[level], self.size[level])
+        # The forest branch of each child node: one of the branches between it and its parent.
+        self.child_of = np.full(m, -1, dtype=np.intp)
+        taken = np.zeros(n, dtype=bool)
+        for b in range(m):
+            f, t = int(branch_from[b]), int(branch_to[b])
+            child = t if parent[t] == f else (f if parent[f] == t else -1)
+            if child >= 0 and not taken[child]:
+                taken[child] = True
+                self.child_of[b] = child
+        self.depth = depth
+        self.base = base.astype(np.int32)
+        self.parts = int(parts)
+        self.branch_from, self.branch_to = branch_from, branch_to
+        self.others = np.flatnonzero(self.child_of < 0)  # branches outside the forest
+
+    def components(self, closed):
+        """Connected-part label of each node with only the ``closed`` branches in (int32) [-]."""
+        cut = self.child_of[~closed]
+        cut = cut[cut >= 0]
+        by_position = self.base[self.preorder].astype(np.int32)
+        if cut.size:
+            cut = cut[np.argsort(self.depth[cut], kind="stable")]  # deeper cuts overwrite shallower ones
+            for number, child in enumerate(cut):
+                by_position[self.tin[child]:self.tin[child] + self.size[child]] = self.parts + number
+        label = by_position[self.tin]
+        pieces = self.parts + cut.size
+        joining = self.others[closed[self.others]]
+        if cut.size and joining.size:
+            graph = sp.coo_matrix((np.ones(joining.size), (label[self.branch_from[joining]],
+                                                           label[self.branch_to[joining]])), shape=(pieces, pieces))
+            label = connected_components(graph, directed=False)[1].astype(np.int32)[label]
+        return label

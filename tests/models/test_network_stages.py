@@ -85,3 +85,28 @@ def test_update_ties_on_parts_without_shunts(tmp_path, scenario):
         assert np.abs(a.device_current_ka - b.device_current_ka).max() <= 1e-7 * scale * 1000
     assert multi_cut >= 5  # the case this test is about was reached
     assert updated.factorisations == 1
+
+
+@pytest.mark.parametrize("scenario", ["normal", "ties-closed"])
+def test_parts_of_a_state_from_the_forest_equal_a_graph_search(tmp_path, scenario):
+    # The connected parts of a state (forest branches cut, the other closed branches joining pieces again)
+    # must be those a plain graph search finds (the same partition of the buses).
+    import scipy.sparse as sp
+    from scipy.sparse.csgraph import connected_components
+
+    from arcflash.models.network_stages import _Forest
+
+    site = arcflash.load_site(synthetic_site(tmp_path / "s", 400, ties=6, substation_size=80))
+    net = build_network(site, site.scenario(scenario))
+    n, m = len(net.bus_ids), net.branch_from.size
+    forest = _Forest(n, net.branch_from, net.branch_to)
+    rng = np.random.default_rng(5)
+    for count in (0, 1, 3, 8, 30, 120):
+        closed = np.ones(m, dtype=bool)
+        closed[rng.choice(m, count, replace=False)] = False
+        graph = sp.coo_matrix((np.ones(int(closed.sum())), (net.branch_from[closed], net.branch_to[closed])),
+                              shape=(n, n))
+        expected = connected_components(graph, directed=False)[1]
+        label = forest.components(closed)
+        pairs = np.unique(np.stack([label, expected]), axis=1)  # a one-to-one map between the two labellings
+        assert np.unique(pairs[0]).size == pairs.shape[1] == np.unique(pairs[1]).size
