@@ -11,6 +11,7 @@ from reportlab.lib.units import inch
 from reportlab.platypus import Paragraph, SimpleDocTemplate, Spacer
 
 from .cautions import CAUTION
+from .text import energy_text
 from .report import _figure, _ft_in, _ppe, _settings, _table, flatten
 
 _STYLES = getSampleStyleSheet()
@@ -85,7 +86,7 @@ def write_briefing(site, bus, row, path):
         _table(["nominal voltage", "scenario / case", "incident energy", "arc-flash boundary", "PPE"],
                [[f"{row['nominal_kv'] * 1000:g} V" if row["nominal_kv"] < 1 else f"{row['nominal_kv']:g} kV",
                  f"{row['scenario']} / {row['governing_case']}",
-                 "-" if not np.isfinite(energy) else f"{energy:.1f} cal/cm2 at {row['working_distance_mm']:g} mm",
+                 "-" if not np.isfinite(energy) else f"{energy_text(energy)} cal/cm2 at {row['working_distance_mm']:g} mm",
                  _ft_in(row["arc_flash_boundary_governing_mm"]),
                  f"{_category(row['ppe_category'])}; minimum arc rating {row['minimum_arc_rating_cal_cm2']:.1f} cal/cm2"]]),
         Spacer(1, 4),

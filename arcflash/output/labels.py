@@ -18,11 +18,14 @@ from pathlib import Path
 import numpy as np
 import yaml
 
-from ..models.nfpa70e import shock_boundary_text
+from ..models.nfpa70e import NO_CATEGORY_ABOVE_CAL_CM2, shock_boundary_text
 from ..models.units import mm_to_feet_inches
+from .text import energy_text
 
-#: Energies at or above this get the DANGER panel (common practice; no PPE category applies) [cal/cm²].
-DANGER_FROM_CAL_CM2 = 40.0
+#: Energies above this get the DANGER panel: no PPE category applies there (NFPA 70E Table
+#: 130.7(C)(15)(c): category 4 PPE has a minimum arc rating of 40 cal/cm², so it covers exactly
+#: 40.0 cal/cm²; the same edge as :func:`arcflash.models.nfpa70e.ppe_category`) [cal/cm²].
+DANGER_ABOVE_CAL_CM2 = NO_CATEGORY_ABOVE_CAL_CM2
 #: Data behind a label are reviewed at intervals not over 5 years (NFPA 70E 130.5) [years].
 REVIEW_YEARS = 5
 LAYOUT_DIR = Path(__file__).resolve().parents[2] / "label_layouts"
@@ -105,7 +108,7 @@ def label_content(site, bus, row, shows=None):
     energy = float(row["incident_energy_governing_cal_cm2"])
     shock = shock_boundary_text(float(row["nominal_kv"]))
     known = np.isfinite(energy)
-    danger = known and energy >= DANGER_FROM_CAL_CM2
+    danger = known and energy > DANGER_ABOVE_CAL_CM2
     if danger:
         hazard = "ENERGIZED WORK NOT PERMITTED. De-energize and verify absence of voltage before any work."
         shown = "No PPE category applies (above 40 cal/cm2)"
@@ -116,7 +119,7 @@ def label_content(site, bus, row, shows=None):
         hazard = "Arc-flash and shock hazard. Qualified persons only, with the PPE below."
         if shows == "energy":
             distance = float(row["working_distance_mm"])
-            shown = f"{energy:.1f} cal/cm2 at {_length(distance)}"
+            shown = f"{energy_text(energy)} cal/cm2 at {_length(distance)}"
         else:
             category = int(row["ppe_category"])
             shown = "below 1.2 cal/cm2" if category == 0 else f"PPE category {category}"

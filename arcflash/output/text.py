@@ -9,6 +9,26 @@ from ..models.units import mm_to_feet_inches
 from .cautions import CAUTION
 
 
+def energy_text(incident_energy_cal_cm2):
+    """An incident energy to one decimal, rounded up: the printed value is never below the computed one.
+
+    Parameters
+    ----------
+    incident_energy_cal_cm2 : float
+        Incident energy [cal/cm²]
+
+    Returns
+    -------
+    str
+
+    Examples
+    --------
+    >>> energy_text(3.94), energy_text(4.0), energy_text(39.96)
+    ('4.0', '4.0', '40.0')
+    """
+    return f"{math.ceil(incident_energy_cal_cm2 * 10.0 - 1e-9) / 10.0:.1f}"
+
+
 def feet_inches(length_mm):
     """A length as ``3 ft 7 in (1,083 mm)``, rounded up to the inch and the mm.
 

@@ -80,11 +80,18 @@ def _scenario_rows(site, scenario, equipment, stated_times=None):
                          paths, equipment)
     times = cleared.table
     table = buses.join(arcs).join(times).join(equipment)
-    for bus, (t, tr) in (stated_times or {}).items():
-        table.loc[bus, ["clearing_time_s", "reduced_clearing_time_s"]] = [t, tr]
+    cap = site.facility.arc_duration_cap_s
+    for bus, (t, tr) in (stated_times or {}).items():  # stated times take the site's duration cap like any other
+        capped = [cap is not None and t > cap, cap is not None and tr > cap]
+        table.loc[bus, ["clearing_time_s", "reduced_clearing_time_s"]] = [
+            min(t, cap) if capped[0] else t, min(tr, cap) if capped[1] else tr]
         table.loc[bus, ["governing_device", "reduced_governing_device"]] = ["stated clearing time"] * 2
-        table.loc[bus, ["no_device", "no_trip", "reduced_no_trip", "duration_capped", "reduced_duration_capped"]] = False
-        table.loc[bus, ["clearing_notes", "clearing_sequence", "reduced_clearing_sequence"]] = ""
+        table.loc[bus, ["no_device", "no_trip", "reduced_no_trip"]] = False
+        table.loc[bus, ["duration_capped", "reduced_duration_capped"]] = capped
+        table.loc[bus, "clearing_notes"] = "; ".join(
+            f"{case} arcing current: arc duration capped at {cap:g} s"
+            for case, hit in zip(("full", "reduced"), capped) if hit)
+        table.loc[bus, ["clearing_sequence", "reduced_clearing_sequence"]] = ""
         table.loc[bus, "staged"] = False
     live = table.index[table["energized"] & (table["bolted_ka"] > 0)]
     for column in ("incident_energy_cal_cm2", "reduced_incident_energy_cal_cm2", "arc_flash_boundary_mm",

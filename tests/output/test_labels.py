@@ -55,12 +55,60 @@ def test_never_both_energy_and_category(study, tmp_path, shows):
 
 
 def test_danger_above_40_cal(study):
-    # Common practice (shared/reference/nfpa70e.md): DANGER where the energy is 40 cal/cm2 or more.
+    # Common practice (shared/reference/nfpa70e.md): DANGER where the energy is above 40 cal/cm2.
     site, governing = study
     content = label_content(site, "TC-SEC", governing.loc["TC-SEC"])
     assert governing.loc["TC-SEC", "incident_energy_governing_cal_cm2"] > 40
     assert content.signal_word == "DANGER" and "NOT PERMITTED" in content.hazard
     assert content.minimum_arc_rating == "not applicable"
+
+
+def _with_energy(row, energy):
+    from arcflash.models import nfpa70e
+
+    changed = row.copy()
+    changed["incident_energy_governing_cal_cm2"] = energy
+    changed["ppe_category"] = int(nfpa70e.ppe_category(energy))
+    changed["minimum_arc_rating_cal_cm2"] = float(nfpa70e.minimum_arc_rating_cal_cm2(energy))
+    return changed
+
+
+@pytest.mark.parametrize("energy, word, category_text", [
+    (39.99, "WARNING", "PPE category 4"), (40.0, "WARNING", "PPE category 4"),
+    (40.01, "DANGER", "No PPE category applies"),
+])
+def test_danger_edge_is_the_category_edge(study, energy, word, category_text):
+    # NFPA 70E Table 130.7(C)(15)(c): category 4 PPE is rated 40 cal/cm2, so exactly 40.0 is category 4 (WARNING)
+    # and only above it does no category apply (DANGER) — the same edge as the study's ppe_category.
+    site, governing = study
+    row = _with_energy(governing.loc["SWG-A"], energy)
+    content = label_content(site, "SWG-A", row, shows="category")
+    assert content.signal_word == word
+    assert category_text in content.energy_or_category
+    energy_mode = label_content(site, "SWG-A", row, shows="energy")
+    assert energy_mode.signal_word == word
+    assert (energy_mode.minimum_arc_rating == "not applicable") == (word == "DANGER")
+
+
+@pytest.mark.parametrize("energy, printed", [(3.94, "4.0"), (4.0, "4.0"), (0.51, "0.6"), (39.96, "40.0"),
+                                             (12.3000001, "12.4")])
+def test_printed_energy_is_rounded_up(study, energy, printed):
+    # Common practice: a printed energy is never below the computed one (rounded up to 0.1 cal/cm2).
+    site, governing = study
+    content = label_content(site, "SWG-A", _with_energy(governing.loc["SWG-A"], energy), shows="energy")
+    assert content.energy_or_category.startswith(f"{printed} cal/cm2 at ")
+
+
+@pytest.mark.parametrize("mm, printed", [(914.4, "3 ft 0 in (1.0 m)"), (914.5, "3 ft 1 in (1.0 m)"),
+                                         (1000.1, "3 ft 4 in (1.1 m)"), (1200.0, "4 ft 0 in (1.2 m)"),
+                                         (1219.2, "4 ft 0 in (1.3 m)")])
+def test_printed_boundary_is_rounded_up_in_both_units(study, mm, printed):
+    # Common practice: a printed boundary is never shorter than the computed one, in feet-inches and in metres
+    # (25.4 mm/in exactly; 914.4 mm is 3 ft exactly).
+    site, governing = study
+    row = governing.loc["SWG-A"].copy()
+    row["arc_flash_boundary_governing_mm"] = mm
+    assert label_content(site, "SWG-A", row).arc_flash_boundary == printed
 
 
 def test_hash_is_stable_and_content_sensitive(study):

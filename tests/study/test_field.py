@@ -114,3 +114,34 @@ def test_briefing_sheet(tmp_path):
                      PERMIT_ITEMS[0], PERMIT_ITEMS[-1], " ".join(CAUTION.split()[:10])):
         assert expected in text, expected
     assert run(["briefing", str(DEMO), "NOPE", "--out", str(out)]).exit_code == 2
+
+
+def test_quick_assessment_caps_the_arc_at_2_s(tmp_path):
+    # The 2 s arc-duration guidance of IEEE 1584-2018 (docs/method.md; the exact clause is from memory), the same
+    # cap as a facility's default: a stated 5 s clearing time is counted as 2 s, and the row says so.
+    result = quick_assessment(tmp_path, kva=500, primary_kv=4.16, secondary_kv=0.48, z_percent=5.0, x_over_r=5.0,
+                              equipment={"equipment_class": "switchgear-lv"}, clearing_time_s=5.0)
+    row = result["row"]
+    assert row["clearing_time_governing_s"] == 2.0
+    assert result["site"].facility.arc_duration_cap_s == 2.0
+    assert "capped at 2 s" in row["flags"]
+
+
+def test_briefing_category_edge_at_40_cal(tmp_path):
+    # NFPA 70E Table 130.7(C)(15)(c): exactly 40.0 cal/cm² is category 4 on the briefing sheet as on the label.
+    from pypdf import PdfReader
+
+    from arcflash.models import nfpa70e
+    from arcflash.output.briefing import write_briefing
+    from arcflash.study.pipeline import run_study
+
+    site = arcflash.load_site(DEMO)
+    row = run_study(site).governing.loc["SWG-A"].copy()
+    for energy, expected in ((40.0, "PPE category 4"), (40.01, "none applies")):
+        row["incident_energy_governing_cal_cm2"] = energy
+        row["ppe_category"] = int(nfpa70e.ppe_category(energy))
+        row["minimum_arc_rating_cal_cm2"] = float(nfpa70e.minimum_arc_rating_cal_cm2(energy))
+        path = tmp_path / f"{energy}.pdf"
+        write_briefing(site, "SWG-A", row, path)
+        text = " ".join(" ".join(page.extract_text() for page in PdfReader(path).pages).split())
+        assert expected in text, energy
