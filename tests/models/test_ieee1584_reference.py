@@ -137,3 +137,37 @@ def test_boundary_threshold_is_one_point_two_cal():
     from arcflash.models.units import J_PER_CAL
 
     assert BOUNDARY_TERM * ENERGY_CONSTANT / J_PER_CAL == pytest.approx(1.2, abs=1e-12)
+
+
+def _coefficients(row, count):
+    return tuple(float(getattr(row, f"k{i}")) for i in range(1, count + 1))
+
+
+def test_table4_transcribed():
+    # Source: IEEE 1584-2018 Table 4 (tests/reference/ieee1584_2018_table4.csv): VCB k1..k6 verified in a public
+    # reproduction, the rest from memory (marked per row there).
+    for row in _table("ieee1584_2018_table4.csv").itertuples():
+        assert tables.ENERGY_COEFFICIENTS_2700V[row.config] == _coefficients(row, 13), row.config
+
+
+def test_table5_transcribed_from_memory():
+    # Source: IEEE 1584-2018 Table 5, from memory (tests/reference/ieee1584_2018_table5.csv; no public
+    # reproduction found). Pins every coefficient against the recalled table, so that a changed digit fails here.
+    for row in _table("ieee1584_2018_table5.csv").itertuples():
+        assert "from memory" in row.status
+        assert tables.ENERGY_COEFFICIENTS_14300V[row.config] == _coefficients(row, 13), row.config
+
+
+def test_table7_enclosure_constants():
+    # Source: IEEE 1584-2018 equivalent width/height constants A and B (tests/reference/ieee1584_2018_table7.csv,
+    # verified; the table number is from memory).
+    for row in _table("ieee1584_2018_table7.csv").itertuples():
+        assert tables.ENCLOSURE_ADJUSTMENT_CONSTANTS[row.config] == (float(row.A), float(row.B))
+
+
+def test_table8_enclosure_correction_from_memory():
+    # Source: IEEE 1584-2018 Table 8, from memory (tests/reference/ieee1584_2018_table8.csv).
+    chosen = {"typical": tables.ENCLOSURE_CORRECTION_TYPICAL, "shallow": tables.ENCLOSURE_CORRECTION_SHALLOW}
+    for row in _table("ieee1584_2018_table8.csv").itertuples():
+        assert "from memory" in row.status
+        assert chosen[row.enclosure][row.config] == (float(row.b1), float(row.b2), float(row.b3))
