@@ -181,3 +181,15 @@ def test_the_hand_calculation_reproduces_annex_d_currents():
         else:
             value = correction_factor(row.config, row.voltage_kv, row.height_mm, row.width_mm, row.depth_mm)
         assert value == pytest.approx(row.published_value, abs=0.5 * 10.0 ** -row.digits), row.quantity
+
+
+@pytest.mark.parametrize("reduced_time_s", [0.1, 0.2, 0.6])
+def test_the_larger_case_governs(reduced_time_s):
+    # IEEE 1584-2018 clause 4 (both arcing currents, each with its own clearing time; the larger energy is used):
+    # by hand, the governing energy and boundary are those of the larger of the two cases.
+    hand = by_hand(0.48, 30.0, 32.0, 455.0, 0.2, reduced_time_s, "VCB", 508.0, 508.0, 508.0)
+    r = ieee1584.evaluate(0.48, 30.0, 32.0, 455.0, 0.2, reduced_time_s, "VCB", 508.0, 508.0, 508.0)
+    case = max(hand, key=lambda c: hand[c][1])
+    assert bool(r.reduced_governs) == (case == "reduced")
+    assert float(r.governing_incident_energy_j_cm2) == pytest.approx(hand[case][1], rel=1e-9)
+    assert float(r.governing_arc_flash_boundary_mm) == pytest.approx(hand[case][2], rel=1e-9)

@@ -83,3 +83,26 @@ def test_de_energised_bus_reported(tmp_path):
     table = arcflash.bolted_faults(arcflash.load_site(write_site(tmp_path / "i", doc)))
     assert not table.loc["ISLAND", "energized"] and table.loc["ISLAND", "bolted_ka"] == 0.0
     assert table.loc["END", "energized"]
+
+
+def test_motor_contribution_by_hand(tmp_path):
+    # Hand calculation in ohms (common practice): a 400 hp motor group at LV, 1 hp taken as 1 kVA, X'' = 16.7 %
+    # on 400 kVA at its rated 460 V, X/R 10: X'' ohms = 0.167 x 0.46^2 / 0.4 (the same ohms on the 480 V bus,
+    # no transformer between); in parallel with
+    # the utility + transformer path. The fault at LV sums both; the motor feeder device is not involved, and a
+    # fault at END (200 ft of 4/0 Cu downstream) sees the parallel combination plus the cable.
+    doc = chain(motors=[{"id": "M", "bus": "LV", "size": "400 hp", "kv": 0.46}])
+    table = arcflash.bolted_faults(arcflash.load_site(write_site(tmp_path / "m", doc)))
+    z_up = _split(13.8 / (math.sqrt(3) * 10.0), 10.0) * (0.48 / 13.8) ** 2 + _split(0.0575 * 0.48**2, 6.0)
+    x_m = 0.167 * 0.46**2 / 0.4  # ohms at 460 V
+    z_m = complex(x_m / 10.0, x_m)
+    z_lv = 1.0 / (1.0 / z_up + 1.0 / z_m)
+    v_phase = 0.48 / math.sqrt(3)
+    assert table.loc["LV", "bolted_ka"] == pytest.approx(v_phase / abs(z_lv), rel=1e-9)
+    assert table.loc["END", "bolted_ka"] == pytest.approx(v_phase / abs(z_lv + complex(0.063, 0.051) * 0.2), rel=1e-9)
+    # The motor's share at LV is about 4.5x its rated current (1/X''): a doubled reactance or a dropped motor
+    # moves this by several percent.
+    without = arcflash.bolted_faults(arcflash.load_site(write_site(tmp_path / "n", chain())))
+    motor_ka = v_phase / abs(z_m)
+    assert motor_ka == pytest.approx(400 / (math.sqrt(3) * 0.46) / 1000 / 0.167 * (0.48 / 0.46), rel=0.01)
+    assert table.loc["LV", "bolted_ka"] - without.loc["LV", "bolted_ka"] > 0.9 * motor_ka
