@@ -267,12 +267,13 @@ class ClearingResult:
     steps: pd.DataFrame
 
 
-def _one_stage(paths, time):
-    """Duration and governing device index per bus from the source paths (-1: none)."""
+def _one_stage(paths, time, live=None):
+    """Duration and governing device index per bus from the source paths (-1: none); ``live`` (per
+    path row) replaces the paths' own choice of rows that carry current."""
     n_bus = len(paths.bus_ids)
     duration = np.full(n_bus, np.nan)
     governing = np.full(n_bus, -1, dtype=np.intp)
-    live = paths.live
+    live = paths.live if live is None else live
     if live.any():
         p, t, d, b = paths.path[live], time[live], paths.device[live], paths.bus[live]
         fastest = _first_of_groups(p, t)  # the fastest device of each path
@@ -281,6 +282,34 @@ def _one_stage(paths, time):
         duration[b[chosen]] = t[chosen]
         governing[b[chosen]] = d[chosen]
     return duration, governing
+
+
+def _name_capped(paths, states, buses, ratio, governing):
+    """The device named for arcs capped before any opening, at ``buses`` fed over several paths, from
+    every device's current (none pruned): the fastest device of the slowest path at the inception currents.
+
+    The fault table keeps a back-feed row only where the device could clear within the cap, so a
+    path whose devices are all slower than the cap may have no rows there; the device that would end
+    such an arc after the cap is then found from the full currents of those buses.
+    """
+    from ..models.network_stages import StateKey
+
+    rows = np.flatnonzero(np.isin(paths.bus, buses))
+    if not rows.size:
+        return governing
+    solved = states.solve(StateKey(), buses)
+    where = np.searchsorted(buses, paths.bus[rows])
+    device_ka = solved.device_current_ka[where, paths.device[rows]]
+    share = np.zeros(len(paths.bus_ids) * (paths.path.max() // len(paths.bus_ids) + 1))
+    np.maximum.at(share, paths.path[rows], device_ka / paths.bolted_ka[paths.bus[rows]])
+    live = np.zeros(paths.path.size, dtype=bool)
+    live[rows] = share[paths.path[rows]] >= NEGLIGIBLE_PATH_SHARE
+    time = np.full(paths.path.size, np.inf)
+    time[rows] = paths.bank.clearing_time_s(paths.device[rows], device_ka * ratio[paths.bus[rows]] * 1000.0)
+    _, named = _one_stage(paths, time, live)
+    governing = governing.copy()
+    governing[buses] = named[buses]
+    return governing
 
 
 def _needs_stages(faults, paths, ratio, arcing_pu, duration, governing, threshold_pu, motor_end_s):
@@ -367,6 +396,7 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
     result["no_device"] = paths.no_device
     cases = (("full", "", arcing_ka), ("reduced", "reduced_", reduced_arcing_ka))
     one = {}  # per case: inception arcing current, one-stage duration and device, buses followed
+    states = None
     for case, _, arc in cases:
         arc_ka = arc.reindex(paths.bus_ids).to_numpy(float)
         ratio = np.where(paths.bolted_ka > 0, arc_ka / np.where(paths.bolted_ka > 0, paths.bolted_ka, 1.0), 0.0)
@@ -374,11 +404,17 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
         duration, governing = _one_stage(paths, time)
         staged = _needs_stages(faults, paths, ratio, np.nan_to_num(arc_ka) / bus_base_ka, duration, governing,
                                threshold_pu, motor_end_s)
+        if cap is not None:  # capped before any opening, fed over several paths: name from the full currents
+            several = np.flatnonzero(~staged & paths.energized & ~paths.no_device & (paths.sources_reaching > 1)
+                                     & (duration > cap))
+            if several.size:
+                states = states or network_states(site, net)
+                governing = _name_capped(paths, states, several, ratio, governing)
         one[case] = (arc_ka, duration, governing, staged)
     followed = {case: [] for case, _, _ in cases}
     if any(one[case][3].any() for case, _, _ in cases):
         context = StagingContext(
-            states=network_states(site, net), bank=paths.bank, device_branch=net.device_branch,
+            states=states or network_states(site, net), bank=paths.bank, device_branch=net.device_branch,
             arcing=stage_arcing(net, equipment), excluded=paths.excluded, line_side=paths.line_side,
             operating_a=paths.bank.threshold_a(np.inf), hot_a=cap_level_a, cap_s=cap, motor_end_s=motor_end_s)
         # Both cases of a bus side by side: they share the bus's fault columns.

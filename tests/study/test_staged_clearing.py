@@ -478,3 +478,44 @@ def test_an_arc_with_too_many_openings_runs_to_the_cap_at_its_largest_current(tm
     stopped = _study_row(site, "SWGR")
     assert stopped["no_trip"] and stopped["clearing_time_s"] == 2.0
     assert stopped["incident_energy_cal_cm2"] > followed["incident_energy_cal_cm2"]
+
+
+@pytest.mark.parametrize("generator_breaker_a", [800, 1600])
+def test_capped_arc_fed_over_two_paths_names_the_slower_path(tmp_path, generator_breaker_a):
+    # Utility and generator both feed SWGR; neither path's device clears within the 2 s cap (long-time elements
+    # only). The arc burns until the cap at its inception current; the device named is the one that would end it:
+    # the slower path's (the arc lasts until every source is cut off, common practice) — the generator breaker's
+    # path or the main's, by its rating, even though the fault table keeps no row for a device that cannot
+    # clear within the cap.
+    from arcflash.study.arcing import arcing_currents
+    from arcflash.study.clearing import clearing_paths
+    from arcflash.study.faults import solve_scenario
+
+    doc = {
+        "facility": {"name": "Two slow paths (invented)"},
+        "buses": [{"id": "MV", "nominal_kv": 13.8, "equipment_class": "switchgear-15kv"},
+                  {"id": "SWGR", "nominal_kv": 0.48, "equipment_class": "switchgear-lv"},
+                  {"id": "GEN", "nominal_kv": 0.48, "equipment_class": "switchgear-lv"}],
+        "utilities": [UTILITY],
+        "generators": [{"id": "G", "bus": "GEN", "kva": 1000, "kv": 0.48, "subtransient_reactance_percent": 15,
+                        "x_over_r": 18, "running": True}],
+        "transformers": [{"id": "T", "primary_bus": "MV", "secondary_bus": "SWGR", "kva": 1500,
+                          "primary_kv": 13.8, "secondary_kv": 0.48, "z_percent": 5.75, "x_over_r": 6,
+                          "z_tolerance_percent": 0}],
+        "switches": [{"id": "GB", "from_bus": "GEN", "to_bus": "SWGR", "kind": "breaker"}],
+        "devices": [{"id": "MAIN", "branch": "T", "at_bus": "SWGR", "trip_unit": {"rating_a": 5000}},
+                    {"id": "GEN-CB", "branch": "GB", "at_bus": "GEN", "trip_unit": {"rating_a": generator_breaker_a}}],
+    }
+    site = _load(tmp_path, doc)
+    row = _study_row(site, "SWGR")
+    assert row["duration_capped"] and row["clearing_time_s"] == 2.0 and not row["staged"]
+    scenario = site.scenario(None)
+    faults = solve_scenario(site, scenario.name)  # every device current kept (none pruned)
+    arcs = arcing_currents(site, faults.buses)
+    paths = clearing_paths(site, scenario, faults)
+    at = paths.bus == paths.bus_ids.index("SWGR")
+    ratio = arcs.loc["SWGR", "arcing_current_ka"] / faults.buses.loc["SWGR", "bolted_ka"]
+    times = dict(zip(paths.device_ids[paths.device[at]],
+                     paths.bank.clearing_time_s(paths.device[at], paths.device_ka[at] * ratio * 1000.0)))
+    assert 2.0 < min(times.values()) < max(times.values()) < np.inf
+    assert row["governing_device"] == max(times, key=times.get)
