@@ -179,3 +179,46 @@ def test_content_hash_stable_for_unchanged_input(study, energy, distance):
     row["working_distance_mm"] = distance
     first = label_content(site, "SWG-A", row).content_hash
     assert all(label_content(site, "SWG-A", row.copy()).content_hash == first for _ in range(3))
+
+
+def _ft_in_m(mm):
+    # Independent rounding (common practice: never below the computed boundary): up to the whole inch, up to 0.1 m.
+    import math
+
+    inches = math.ceil(mm / 25.4 - 1e-9)
+    return f"{inches // 12} ft {inches % 12} in ({math.ceil(mm / 100.0 - 1e-9) / 10.0:.1f} m)"
+
+
+@pytest.mark.parametrize("shows", ["energy", "category"])
+def test_printed_label_values_read_back_from_the_pdf(study, tmp_path, shows):
+    # The values a worker reads, taken back from the PDF text of the printed labels for buses that cover the
+    # cases: below 1.2 cal/cm2 (JB-C4), category 1 (MCC-C2), category 3 (SWG-C), DANGER at 13.8 kV (MV-MAIN) and
+    # at 480 V (TC-SEC). Expected text is built here from the study row with the rules of NFPA 70E 130.5(H) and
+    # Table 130.7(C)(15)(c) (category by the energy, never both; DANGER above 40 cal/cm2; values rounded up).
+    import math
+
+    site, governing = study
+    for bus in ("JB-C4", "MCC-C2", "SWG-C", "MV-MAIN", "TC-SEC"):
+        row = governing.loc[bus]
+        path = tmp_path / f"{bus}-{shows}.pdf"
+        write_labels_pdf([label_content(site, bus, row, shows=shows)], load_layout("label-4x6"), path)
+        text = _text(path)
+        energy = float(row["incident_energy_governing_cal_cm2"])
+        danger = energy > 40.0
+        assert ("DANGER" in text) == danger and ("WARNING" in text) == (not danger), bus
+        volts = f"{row['nominal_kv'] * 1000:.0f} V" if row["nominal_kv"] < 1 else f"{row['nominal_kv']:g} kV"
+        assert volts in text, bus
+        assert _ft_in_m(float(row["arc_flash_boundary_governing_mm"])) in text, bus
+        if danger:
+            assert "No PPE category applies" in text and "PPE category 4" not in text
+        elif shows == "energy":
+            printed = f"{math.ceil(energy * 10.0 - 1e-9) / 10.0:.1f} cal/cm2 at {_ft_in_m(float(row['working_distance_mm']))}"
+            assert printed in text, bus
+            assert "PPE category" not in text, bus
+        else:
+            category = 0 if energy < 1.2 else next(c for c, limit in ((1, 4), (2, 8), (3, 25), (4, 40)) if energy <= limit)
+            shown = "below 1.2 cal/cm2" if category == 0 else f"PPE category {category}"
+            assert shown in text, bus
+            assert "Incident energy" not in text and "cal/cm2 at" not in text, bus
+            # Never both: the category field holds the category alone, no energy beside it.
+            assert label_content(site, bus, row, shows=shows).energy_or_category == shown, bus
