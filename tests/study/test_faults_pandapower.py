@@ -1,9 +1,11 @@
 """Bolted fault currents against pandapower (test-only reference).
 
 Both sides use the same impedances and the same assumptions: voltage factor 1,
-no IEC 60909 correction factors (see ``pandapower_reference.py``). Agreement
-is required within 0.1 %; the remaining difference (about 1e-7) comes from our
-closed switches, which have 1e-6 pu impedance where pandapower's are ideal.
+no IEC 60909 correction factors (see ``pandapower_reference.py``). The
+agreement seen is about 1e-7 (from our closed switches, which have 1e-6 pu
+impedance where pandapower's are ideal); the checks ask for 1e-6, which is
+what the switches explain, and far inside the issue's 0.1 %. Modelling of the
+elements themselves is checked in ``test_faults_pandapower_elements.py``.
 Buses fed by motors only are de-energised for us (motors do not energise a
 bus) but not for pandapower, so only energised buses are compared.
 """
@@ -29,7 +31,7 @@ def _compare(site, scenario):
     theirs = pandapower_bolted_ka(net, s_base_mva=site.facility.s_base_mva)
     live = ours["energized"].to_numpy()
     assert live.sum() > 0
-    np.testing.assert_allclose(ours["bolted_ka"].to_numpy()[live], theirs[live], rtol=1e-3)
+    np.testing.assert_allclose(ours["bolted_ka"].to_numpy()[live], theirs[live], rtol=1e-6)
 
 
 @pytest.mark.parametrize("scenario", ["normal", "utility-min", "tie-closed", "on-generator", "motors-off"])
@@ -45,7 +47,8 @@ def test_synthetic_networks(tmp_path, ties, scenario):
 
 def test_every_stage_of_staged_clearing(tmp_path):
     # Issue 10: each stage's bolted current at the faulted bus, with the branches of the devices opened so
-    # far removed, against pandapower on the same network with those branches left out (within 0.1 %).
+    # far removed, against pandapower on the same network with those branches left out (within 1e-6; the
+    # issue asks 0.1 %).
     from types import SimpleNamespace
 
     from arcflash.study.arcing import arcing_currents
@@ -76,6 +79,6 @@ def test_every_stage_of_staged_clearing(tmp_path):
                                       branch_to=net.branch_to[keep], branch_z_pu=net.branch_z_pu[keep],
                                       shunt_bus=net.shunt_bus, shunt_z_pu=net.shunt_z_pu)
             theirs = pandapower_bolted_ka(reduced, s_base_mva=site.facility.s_base_mva)[bus_index[bus]]
-            assert step.bolted_after_ka == pytest.approx(theirs, rel=1e-3), (bus, step.device)
+            assert step.bolted_after_ka == pytest.approx(theirs, rel=1e-6), (bus, step.device)
             checked += 1
     assert checked >= 3
