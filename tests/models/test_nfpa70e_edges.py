@@ -71,13 +71,21 @@ def test_shock_boundaries_at_both_ends_of_every_row(volts, number, row):
 def test_shock_boundaries_outside_the_table():
     # Source: NFPA 70E Table 130.4(E)(a): below 50 V not specified; the table ends at 46 kV.
     for volts in (49.0, 46100.0):
-        assert set(nfpa70e.shock_boundary_text(volts / 1000.0).values()) == {"not specified"}
+        text = nfpa70e.shock_boundary_text(volts / 1000.0)
+        assert text == {"limited_movable": "not specified", "limited_fixed": "not specified",
+                        "restricted": "not specified"}
         assert int(nfpa70e.shock_boundaries(volts / 1000.0)["row"]) == -1
 
 
 def test_printed_shock_boundaries_are_never_below_the_table():
     # The millimetre values behind the printed text match the table's feet and inches (25.4 mm/in, exact).
     b = nfpa70e.shock_boundaries(np.array([0.12, 0.48, 4.16, 13.8, 34.5, 46.0]))
-    inches = {"limited_fixed_mm": [42, 42, 60, 60, 72, 96], "restricted_mm": [np.nan, 12, 26, 26, 31, 33]}
+    inches = {"limited_movable_mm": [120] * 6, "limited_fixed_mm": [42, 42, 60, 60, 72, 96],
+              "restricted_mm": [np.nan, 12, 26, 26, 31, 33]}
     for column, expected in inches.items():
         np.testing.assert_allclose(b[column], np.array(expected) * 25.4, rtol=1e-12)
+
+
+def test_categories_are_integers():
+    # The category is a table row number, printed as such ("PPE category 2", never "2.0"): integer type.
+    assert nfpa70e.ppe_category([0.5, 5.0, 50.0]).dtype.kind == "i"
