@@ -76,3 +76,16 @@ def test_the_larger_case_governs(reduced_time_s):
     assert bool(r.reduced_governs) == (case == "reduced")
     assert float(r.governing_incident_energy_j_cm2) == pytest.approx(hand[case][1], rel=1e-9)
     assert float(r.governing_arc_flash_boundary_mm) == pytest.approx(hand[case][2], rel=1e-9)
+
+
+def test_interpolation_helper_equals_the_written_out_form():
+    # IEEE 1584-2018 Eqs. (16)-(19): the package's public interpolation helper (weights form) against the
+    # written-out form, at band edges and inside both bands, element-wise on arrays.
+    import numpy as np
+
+    voltages = np.array([0.6, 0.9, 1.5, 2.7, 2.71, 4.16, 13.8, 15.0])
+    values = (np.array([11.0, 3.0, 7.5, 1.0, 2.0, 9.0, 5.0, 6.0]), np.array([12.0, 4.5, 8.0, 2.5, 2.1, 9.5, 5.5, 7.0]),
+              np.array([14.0, 5.0, 9.5, 4.0, 2.2, 9.9, 7.5, 7.7]))
+    got = ieee1584.interpolate_by_voltage(voltages, *values)
+    expected = [interpolate(v, a, b, c) for v, a, b, c in zip(voltages, *values)]
+    np.testing.assert_allclose(got, expected, rtol=1e-12)
