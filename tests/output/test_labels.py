@@ -209,6 +209,8 @@ def test_printed_label_values_read_back_from_the_pdf(study, tmp_path, shows):
         volts = f"{row['nominal_kv'] * 1000:.0f} V" if row["nominal_kv"] < 1 else f"{row['nominal_kv']:g} kV"
         assert volts in text, bus
         assert _ft_in_m(float(row["arc_flash_boundary_governing_mm"])) in text, bus
+        device = label_content(site, bus, row, shows=shows).governing_device
+        assert device == (row["device_governing"] or "none") and device in text, bus  # the device ending the arc
         if danger:
             assert "No PPE category applies" in text and "PPE category 4" not in text
         elif shows == "energy":
