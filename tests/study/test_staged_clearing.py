@@ -90,7 +90,7 @@ def _trip_unit(rating, st_pickup, st_delay, **more):
 # --- A generator in parallel with the utility -------------------------------------------------------
 
 
-def _generator_in_parallel(tmp_path):
+def _generator_in_parallel(tmp_path, devices=None):
     return _load(tmp_path, {
         "facility": {"name": "Generator in parallel (invented)"},
         "buses": [{"id": "MV", "nominal_kv": 13.8, "equipment_class": "switchgear-15kv"},
@@ -102,7 +102,7 @@ def _generator_in_parallel(tmp_path):
         "transformers": [{"id": "T", "primary_bus": "MV", "secondary_bus": "SWGR", "kva": 1500, "primary_kv": 13.8,
                           "secondary_kv": 0.48, "z_percent": 5.75, "x_over_r": 6, "z_tolerance_percent": 0}],
         "switches": [{"id": "GB", "from_bus": "GEN", "to_bus": "SWGR", "kind": "breaker"}],
-        "devices": [
+        "devices": devices or [
             {"id": "MAIN", "branch": "T", "at_bus": "SWGR", "trip_unit": _trip_unit(2000, 3.0, 0.5)},
             {"id": "GEN-CB", "branch": "GB", "at_bus": "GEN", "trip_unit": _trip_unit(1600, 2.0, 0.2)},
         ],
@@ -491,22 +491,9 @@ def test_capped_arc_fed_over_two_paths_names_the_slower_path(tmp_path, generator
     from arcflash.study.clearing import clearing_paths
     from arcflash.study.faults import solve_scenario
 
-    doc = {
-        "facility": {"name": "Two slow paths (invented)"},
-        "buses": [{"id": "MV", "nominal_kv": 13.8, "equipment_class": "switchgear-15kv"},
-                  {"id": "SWGR", "nominal_kv": 0.48, "equipment_class": "switchgear-lv"},
-                  {"id": "GEN", "nominal_kv": 0.48, "equipment_class": "switchgear-lv"}],
-        "utilities": [UTILITY],
-        "generators": [{"id": "G", "bus": "GEN", "kva": 1000, "kv": 0.48, "subtransient_reactance_percent": 15,
-                        "x_over_r": 18, "running": True}],
-        "transformers": [{"id": "T", "primary_bus": "MV", "secondary_bus": "SWGR", "kva": 1500,
-                          "primary_kv": 13.8, "secondary_kv": 0.48, "z_percent": 5.75, "x_over_r": 6,
-                          "z_tolerance_percent": 0}],
-        "switches": [{"id": "GB", "from_bus": "GEN", "to_bus": "SWGR", "kind": "breaker"}],
-        "devices": [{"id": "MAIN", "branch": "T", "at_bus": "SWGR", "trip_unit": {"rating_a": 5000}},
-                    {"id": "GEN-CB", "branch": "GB", "at_bus": "GEN", "trip_unit": {"rating_a": generator_breaker_a}}],
-    }
-    site = _load(tmp_path, doc)
+    site = _generator_in_parallel(tmp_path, devices=[
+        {"id": "MAIN", "branch": "T", "at_bus": "SWGR", "trip_unit": {"rating_a": 5000}},
+        {"id": "GEN-CB", "branch": "GB", "at_bus": "GEN", "trip_unit": {"rating_a": generator_breaker_a}}])
     row = _study_row(site, "SWGR")
     assert row["duration_capped"] and row["clearing_time_s"] == 2.0 and not row["staged"]
     scenario = site.scenario(None)
