@@ -89,3 +89,46 @@ def test_interpolation_helper_equals_the_written_out_form():
     got = ieee1584.interpolate_by_voltage(voltages, *values)
     expected = [interpolate(v, a, b, c) for v, a, b, c in zip(voltages, *values)]
     np.testing.assert_allclose(got, expected, rtol=1e-12)
+
+
+@pytest.mark.parametrize("config", ["VCB", "VCBB", "HCB", "VOA", "HOA"])
+@pytest.mark.parametrize("voc, ibf, gap, distance, box", CASES)
+def test_single_case_helpers_equal_the_hand_calculation(config, voc, ibf, gap, distance, box):
+    # The package's public one-quantity helpers (IEEE 1584-2018 Eqs. 1, 2, 13-15, 25), which the batch model does
+    # not call, against the written-out forms; arrays of two cases, the second at 1.3 x the bolted current.
+    import numpy as np
+
+    from arcflash.models import ieee1584_equations as eq
+
+    height, width, depth = box
+    currents = np.array([ibf, 1.3 * ibf])
+    for level in LEVELS:
+        got = eq.intermediate_arcing_current_ka(currents, gap, config.lower(), level)
+        expected = [arcing_current_at_level(config, level, i, gap) for i in currents]
+        np.testing.assert_allclose(got, expected, rtol=1e-12)
+    from tests.ieee1584_by_hand import variation_factor
+
+    np.testing.assert_allclose(eq.variation_correction_factor(np.array([voc, voc]), config),
+                               [variation_factor(config, voc)] * 2, rtol=1e-12)
+    np.testing.assert_allclose(eq.enclosure_correction_factor(voc, height, width, depth, config),
+                               correction_factor(config, voc, height, width, depth), rtol=1e-12)
+    if voc <= 0.6:
+        i600 = np.array([arcing_current_at_level(config, 600, i, gap) for i in currents])
+        np.testing.assert_allclose(eq.low_voltage_arcing_current_ka(voc, currents, i600),
+                                   [low_voltage_current(voc, i, j) for i, j in zip(currents, i600)], rtol=1e-12)
+
+
+def test_polynomial_helper_and_configuration_names():
+    # Horner's rule against the plain sum (common practice), with zero coefficients anywhere; configuration names
+    # are case-insensitive and an unknown one is refused (IEEE 1584-2018 clause 4.3 lists five).
+    import numpy as np
+
+    from arcflash.models import ieee1584_equations as eq
+
+    x = np.array([0.5, 2.0, 7.0])
+    for coefficients in ((0.0, 0.0, 2.0, -1.0, 3.0), (1.5, 0.0, -2.0, 0.0), (0.0, 4.0), (2.5,), (0.0, 1.0, 0.0, 0.0)):
+        expected = sum(c * x ** (len(coefficients) - 1 - i) for i, c in enumerate(coefficients))
+        np.testing.assert_allclose(eq.polynomial(coefficients, x), expected, rtol=1e-14)
+    assert eq.config_name(" vcbb ") == "VCBB"
+    with pytest.raises(ValueError, match="unknown electrode configuration"):
+        eq.config_name("VCX")
