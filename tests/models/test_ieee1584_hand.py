@@ -132,3 +132,13 @@ def test_polynomial_helper_and_configuration_names():
     assert eq.config_name(" vcbb ") == "VCBB"
     with pytest.raises(ValueError, match="unknown electrode configuration"):
         eq.config_name("VCX")
+
+
+def test_unknown_depth_counts_as_typical_in_the_helper():
+    # docs/method.md reading: an unknown enclosure depth (None or NaN) is a typical enclosure (the larger energy).
+    from arcflash.models import ieee1584_equations as eq
+
+    typical = correction_factor("VCB", 0.48, 305.0, 305.0, 1000.0)
+    for depth in (None, float("nan")):
+        assert float(eq.enclosure_correction_factor(0.48, 305.0, 305.0, depth, "VCB")) == pytest.approx(typical,
+                                                                                                        rel=1e-12)
