@@ -149,7 +149,7 @@ class NetworkStates:
     def _forest(self):
         """Spanning forest of all branches (cached), for the parts of a state without a split."""
         if "forest" not in self._states:
-            self._states["forest"] = _Forest(self.n, self.branch_from, self.branch_to)
+            self._states["forest"] = SpanningForest(self.n, self.branch_from, self.branch_to)
         return self._states["forest"]
 
     def _prepared(self, key):
@@ -372,10 +372,16 @@ class NetworkStates:
         return bool(energized[self.n if key.split is not None else bus])
 
 
-class _Forest:
-    """A spanning forest of a network's branches, for the connected parts of a state quickly.
+class SpanningForest:
+    """A breadth-first spanning forest of a network's branches.
 
-    Opening forest branches cuts subtrees off (nested intervals of a preorder
+    Attributes: ``parent`` (-1 at a root), ``depth``, ``parent_branch`` (the
+    forest branch from each node to its parent, -1 at a root), ``child_of``
+    (per branch, the child node it joins to its parent, -1 outside the
+    forest), ``others`` (branches outside the forest: each closes a loop).
+
+    :meth:`components` finds the connected parts of a state quickly: opening
+    forest branches cuts subtrees off (nested intervals of a preorder
     numbering); the branches outside the forest that are still closed then
     join some of those pieces again (a small graph of pieces).
     """
@@ -413,7 +419,10 @@ class _Forest:
             if child >= 0 and not taken[child]:
                 taken[child] = True
                 self.child_of[b] = child
-        self.depth = depth
+        self.depth, self.parent = depth, parent
+        self.parent_branch = np.full(n, -1, dtype=np.intp)
+        in_forest = self.child_of >= 0
+        self.parent_branch[self.child_of[in_forest]] = np.flatnonzero(in_forest)
         self.base = base.astype(np.int32)
         self.parts = int(parts)
         self.branch_from, self.branch_to = branch_from, branch_to

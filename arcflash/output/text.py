@@ -5,6 +5,7 @@ from __future__ import annotations
 import math
 import textwrap
 
+from ..models.nfpa70e import minimum_arc_rating_cal_cm2
 from ..models.units import mm_to_feet_inches
 from .cautions import CAUTION
 
@@ -26,7 +27,7 @@ def energy_text(incident_energy_cal_cm2):
     >>> energy_text(3.94), energy_text(4.0), energy_text(39.96)
     ('4.0', '4.0', '40.0')
     """
-    return f"{math.ceil(incident_energy_cal_cm2 * 10.0 - 1e-9) / 10.0:.1f}"
+    return f"{float(minimum_arc_rating_cal_cm2(incident_energy_cal_cm2)):.1f}"  # the same round-up
 
 
 def feet_inches(length_mm):

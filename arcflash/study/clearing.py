@@ -208,39 +208,21 @@ def clearing_paths(site, scenario, faults):
 def non_bridge_branches(net):
     """Branches whose opening alone cannot split the network (they lie on a loop) [-].
 
-    A spanning forest is grown breadth-first; every branch outside it closes a
-    loop, which makes it and the forest's branches between its two buses
+    In a breadth-first spanning forest every branch outside it closes a loop,
+    which makes it and the forest's branches between its two buses
     non-bridges (parallel branches between two buses included).
     """
-    n, m = len(net.bus_ids), net.branch_from.size
-    graph = sp.coo_matrix((np.arange(1, m + 1), (net.branch_from, net.branch_to)), shape=(n, n)).tocsr()
-    graph = (graph + graph.T).tocsr()
-    parent = np.full(n, -9999, dtype=np.intp)
-    depth = np.zeros(n, dtype=np.intp)
-    tree_branch = np.full(n, -1, dtype=np.intp)
-    seen = np.zeros(n, dtype=bool)
-    for root in range(n):
-        if seen[root]:
-            continue
-        order, pred = breadth_first_order(graph, root, directed=False, return_predecessors=True)
-        seen[order] = True
-        parent[order] = pred[order]
-        for node in order[1:]:
-            depth[node] = depth[pred[node]] + 1
-    in_tree = np.zeros(m, dtype=bool)
-    for b, (f, t) in enumerate(zip(net.branch_from, net.branch_to)):
-        child = t if parent[t] == f else (f if parent[f] == t else -1)
-        if child >= 0 and tree_branch[child] < 0:
-            tree_branch[child] = b
-            in_tree[b] = True
-    loop = ~in_tree
-    for b in np.flatnonzero(~in_tree):
+    from ..models.network_stages import SpanningForest
+
+    forest = SpanningForest(len(net.bus_ids), net.branch_from, net.branch_to)
+    loop = forest.child_of < 0
+    for b in forest.others:
         u, v = net.branch_from[b], net.branch_to[b]
         while u != v:
-            if depth[u] < depth[v]:
+            if forest.depth[u] < forest.depth[v]:
                 u, v = v, u
-            loop[tree_branch[u]] = True
-            u = parent[u]
+            loop[forest.parent_branch[u]] = True
+            u = forest.parent[u]
     return loop
 
 

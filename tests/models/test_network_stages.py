@@ -94,12 +94,12 @@ def test_parts_of_a_state_from_the_forest_equal_a_graph_search(tmp_path, scenari
     import scipy.sparse as sp
     from scipy.sparse.csgraph import connected_components
 
-    from arcflash.models.network_stages import _Forest
+    from arcflash.models.network_stages import SpanningForest
 
     site = arcflash.load_site(synthetic_site(tmp_path / "s", 400, ties=6, substation_size=80))
     net = build_network(site, site.scenario(scenario))
     n, m = len(net.bus_ids), net.branch_from.size
-    forest = _Forest(n, net.branch_from, net.branch_to)
+    forest = SpanningForest(n, net.branch_from, net.branch_to)
     rng = np.random.default_rng(5)
     for count in (0, 1, 3, 8, 30, 120):
         closed = np.ones(m, dtype=bool)
