@@ -72,6 +72,13 @@ def _length(mm):
     return f"{int(feet)} ft {int(inches)} in ({np.ceil(mm / 100.0 - 1e-9) / 10.0:.1f} m)"
 
 
+def _text_or(value, default):
+    """A text cell of a study row; empty, None and NaN (a missing cell read back from a CSV) give the default."""
+    if value is None or (isinstance(value, float) and not np.isfinite(value)) or str(value) == "":
+        return default
+    return str(value)
+
+
 def _voltage(kv):
     return f"{kv * 1000:g} V" if kv < 1 else f"{kv:g} kV"
 
@@ -138,11 +145,11 @@ def label_content(site, bus, row, shows=None):
         site_ppe=getattr(f, "site_ppe", "") or "",
         limited_approach=f"{shock['limited_fixed']} fixed parts; {shock['limited_movable']} movable conductors",
         restricted_approach=shock["restricted"],
-        governing_device=str(row["device_governing"] or "none"),
+        governing_device=_text_or(row["device_governing"], "none"),
         study_revision=f.study_revision,
         study_date=f.study_date or "",
         review_by=_review_by(f.study_date),
-        flags=str(row["flags"] or ""),
+        flags=_text_or(row["flags"], ""),
     )
 
 

@@ -1,0 +1,219 @@
+"""Every field of a label, worked by hand from a hand-built study row (no network, no curves).
+
+The hazard values (energy, boundary, category, minimum arc rating, shock boundaries) are checked against
+NFPA 70E and the rounding rules; the wording of the hazard sentences is our own and is pinned here as a
+regression check of the text (it is not validated by anything outside).
+Also: label lengths and layouts, the review date, file names, reading an earlier study's governing.csv,
+and which labels a batch prints.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import math
+import shutil
+from pathlib import Path
+from types import SimpleNamespace
+
+import pandas as pd
+import pytest
+
+import arcflash
+from arcflash.output import ledger
+from arcflash.output.labels import (
+    LabelContent, _points, _review_by, issue_labels, label_content, layout_names, load_layout, read_governing,
+    safe_file_name,
+)
+
+DEMO = Path(__file__).resolve().parents[2] / "site_data" / "fenwick_ridge"
+#: Our own wording of the three hazard sentences (regression of the text, not validation).
+ENERGIZED = "Arc-flash and shock hazard. Qualified persons only, with the PPE below."
+NOT_PERMITTED = "ENERGIZED WORK NOT PERMITTED. De-energize and verify absence of voltage before any work."
+NOT_COMPUTED = "Arc-flash hazard not computed for this equipment: treat as energized and dangerous."
+# NFPA 70E Table 130.4(E)(a), 151 V - 750 V row: limited approach 10 ft 0 in (movable), 3 ft 6 in (fixed),
+# restricted 1 ft 0 in; 751 V - 15 kV row: 10 ft 0 in, 5 ft 0 in, 2 ft 2 in.
+LIMITED_480 = "3 ft 6 in (1.0 m) fixed parts; 10 ft 0 in (3.0 m) movable conductors"
+LIMITED_13_8 = "5 ft 0 in (1.5 m) fixed parts; 10 ft 0 in (3.0 m) movable conductors"
+
+
+def _site(label_shows="energy", site_ppe="", study_date="2026-06-01", revision="R3"):
+    facility = SimpleNamespace(label_shows=label_shows, site_ppe=site_ppe, study_date=study_date,
+                               study_revision=revision)
+    buses = {"PNL-7": SimpleNamespace(description="Panel seven"), "SWG-9": SimpleNamespace(description="MV gear")}
+    return SimpleNamespace(facility=facility, buses=buses)
+
+
+def _row(energy=5.23, kv=0.48, boundary_mm=1000.0, distance_mm=457.2, category=2, rating=5.3, device="CB-1",
+         flags=""):
+    return pd.Series({"incident_energy_governing_cal_cm2": energy, "nominal_kv": kv, "working_distance_mm": distance_mm,
+                      "arc_flash_boundary_governing_mm": boundary_mm, "ppe_category": category,
+                      "minimum_arc_rating_cal_cm2": rating, "device_governing": device, "flags": flags})
+
+
+def _expected(**changes):
+    base = dict(equipment_id="PNL-7", description="Panel seven", signal_word="WARNING", hazard=ENERGIZED,
+                nominal_voltage="480 V",
+                # 1000 mm = 39.37 in, rounded up to 40 in = 3 ft 4 in; 1.0 m rounded up to 0.1 m.
+                arc_flash_boundary="3 ft 4 in (1.0 m)", shows="energy",
+                # 5.23 rounded up to 0.1 cal/cm2; 457.2 mm = 18 in exactly = 1 ft 6 in; 0.4572 m up to 0.5 m.
+                energy_or_category="5.3 cal/cm2 at 1 ft 6 in (0.5 m)", minimum_arc_rating="5.3 cal/cm2",
+                site_ppe="", limited_approach=LIMITED_480, restricted_approach="1 ft 0 in (0.3 m)",
+                governing_device="CB-1", study_revision="R3", study_date="2026-06-01",
+                # NFPA 70E 130.5: the data are reviewed at intervals not over 5 years.
+                review_by="2031-06-01", flags="")
+    base.update(changes)
+    return LabelContent(**base)
+
+
+def test_energy_label_every_field():
+    assert label_content(_site(), "PNL-7", _row()) == _expected()
+
+
+def test_category_label_every_field():
+    # NFPA 70E Table 130.7(C)(15)(c): 5.23 cal/cm2 is above 4 and up to 8 -> category 2 (the row's category).
+    got = label_content(_site(label_shows="category"), "PNL-7", _row())
+    assert got == _expected(shows="category", energy_or_category="PPE category 2")
+
+
+def test_the_argument_overrides_the_facility_choice():
+    assert label_content(_site(label_shows="category"), "PNL-7", _row(), shows="energy") == _expected()
+
+
+def test_below_1_2_cal_in_both_modes():
+    # IEEE 1584-2018 3.1 / NFPA 70E: 1.2 cal/cm2 is the onset of a second-degree burn (the boundary energy).
+    row = _row(energy=0.81, category=0, rating=0.9, boundary_mm=300.0)
+    energy = label_content(_site(), "PNL-7", row)
+    assert energy == _expected(energy_or_category="0.9 cal/cm2 at 1 ft 6 in (0.5 m) (below 1.2 cal/cm2)",
+                               minimum_arc_rating="0.9 cal/cm2", arc_flash_boundary="1 ft 0 in (0.3 m)")
+    category = label_content(_site(), "PNL-7", row, shows="category")
+    assert category == _expected(shows="category", energy_or_category="below 1.2 cal/cm2",
+                                 minimum_arc_rating="0.9 cal/cm2", arc_flash_boundary="1 ft 0 in (0.3 m)")
+
+
+@pytest.mark.parametrize("shows", ["energy", "category"])
+def test_danger_label_every_field(shows):
+    # NFPA 70E Table 130.7(C)(15)(c): no category above 40 cal/cm2 -> DANGER, no arc rating printed.
+    row = _row(energy=52.0, kv=13.8, boundary_mm=12000.0, distance_mm=914.4, category=-1, rating=52.0,
+               device="R-52", flags="capped at 2 s")
+    got = label_content(_site(), "SWG-9", row, shows=shows)
+    assert got == _expected(equipment_id="SWG-9", description="MV gear", signal_word="DANGER", hazard=NOT_PERMITTED,
+                            nominal_voltage="13.8 kV", arc_flash_boundary="39 ft 5 in (12.0 m)", shows=shows,
+                            energy_or_category="No PPE category applies (above 40 cal/cm2)",
+                            minimum_arc_rating="not applicable", limited_approach=LIMITED_13_8,
+                            restricted_approach="2 ft 2 in (0.7 m)", governing_device="R-52", flags="capped at 2 s")
+
+
+def test_energy_not_computed_is_danger():
+    row = _row(energy=math.nan, boundary_mm=math.nan, device=None, flags=None)
+    got = label_content(_site(site_ppe="Face shield at all panels"), "PNL-7", row)
+    assert got == _expected(signal_word="DANGER", hazard=NOT_COMPUTED, arc_flash_boundary="not computed",
+                            energy_or_category="not computed", minimum_arc_rating="not applicable",
+                            site_ppe="Face shield at all panels", governing_device="none")
+
+
+def test_unknown_display_mode_is_refused():
+    with pytest.raises(ValueError, match="expected 'energy' or 'category', got 'both'"):
+        label_content(_site(), "PNL-7", _row(), shows="both")
+
+
+@pytest.mark.parametrize("kv, text", [(0.208, "208 V"), (0.6, "600 V"), (1.0, "1 kV"), (4.16, "4.16 kV")])
+def test_nominal_voltage_text(kv, text):
+    assert label_content(_site(), "PNL-7", _row(kv=kv)).nominal_voltage == text
+
+
+def test_review_date_five_years_on():
+    assert _review_by("2028-02-29") == "2033-02-28"  # no 29 February in 2033: the day before
+    assert _review_by("2026-12-02") == "2031-12-02"
+    today = dt.date.today()
+    for missing in (None, "", "not a date"):
+        assert dt.date.fromisoformat(_review_by(missing)) > today.replace(year=today.year + 4, day=1)
+        assert _review_by(missing)[:4] == str(today.year + 5)
+
+
+@pytest.mark.parametrize("text, points", [("4 in", 288.0), (" 0.5in ", 36.0), ("100 mm", 100 * 72 / 25.4),
+                                          ("6 in", 432.0)])
+def test_layout_lengths(text, points):
+    assert _points(text) == pytest.approx(points, rel=1e-12)  # 72 points to the inch (PDF), 25.4 mm to the inch
+
+
+@pytest.mark.parametrize("text", ["4 cm", "4", "in", "-4 in", "four in"])
+def test_layout_length_without_a_known_unit_is_refused(text):
+    with pytest.raises(ValueError, match="expected a length with a unit"):
+        _points(text)
+
+
+def test_layout_read_from_its_file(tmp_path):
+    layout = load_layout("label-4x6")
+    assert (layout.name, layout.page_width, layout.page_height, layout.across, layout.down) == (
+        "label-4x6", 288.0, 432.0, 1, 1)
+    assert layout.margin == pytest.approx(0.12 * 72) and layout.gutter == pytest.approx(0.15 * 72)
+    assert [b["kind"] for b in layout.blocks] == ["signal", "hazard", "data", "identity", "study", "qr"]
+    own = tmp_path / "own.yaml"
+    own.write_text("name: own\npage: {width: 100 mm, height: 50 mm}\nmargin: 2 mm\nlabels_across: 2\n"
+                   "labels_down: 3\nblocks: []\n", encoding="utf-8")
+    by_path = load_layout(own)
+    assert (by_path.name, by_path.across, by_path.down, by_path.gutter, by_path.blocks) == ("own", 2, 3, 0.0, ())
+    assert by_path.page_width == pytest.approx(100 * 72 / 25.4) and by_path.margin == pytest.approx(2 * 72 / 25.4)
+    assert {"label-4x6", "label-4x4", "sheet-letter-2x2"} <= set(layout_names())
+
+
+@pytest.mark.parametrize("equipment, stem", [
+    ("SWG-A", "SWG-A"), ("bus with spaces & <tags>", "bus_with_spaces_tags"), ("..", "equipment"),
+    ("../../etc/passwd", "etc_passwd"), ("Ωhm-1", "hm-1"), ("A" * 100, "A" * 80)])
+def test_label_file_names(equipment, stem):
+    assert safe_file_name(equipment, "0123456789abcdef") == f"{stem}-01234567.pdf"
+
+
+@pytest.fixture()
+def site_copy(tmp_path):
+    shutil.copytree(DEMO, tmp_path / "site")
+    shutil.copytree(DEMO.parent / "libraries", tmp_path / "libraries")
+    return arcflash.load_site(tmp_path / "site")
+
+
+def _governing_csv(folder, site, drop=None):
+    rows = []
+    for bus in site.buses:
+        if bus != drop:
+            rows.append(dict(bus=bus, incident_energy_governing_cal_cm2=3.0, nominal_kv=0.48,
+                             working_distance_mm=457.2, arc_flash_boundary_governing_mm=900.0, ppe_category=1,
+                             minimum_arc_rating_cal_cm2=3.0, device_governing="" if bus == drop else "CB-X",
+                             flags=""))
+    folder.mkdir(parents=True, exist_ok=True)
+    pd.DataFrame(rows).to_csv(folder / "governing.csv", index=False)
+
+
+def test_reading_an_earlier_study(site_copy, tmp_path):
+    with pytest.raises(ValueError, match="no governing.csv in"):
+        read_governing(tmp_path / "nothing", site_copy)
+    first = next(iter(site_copy.buses))
+    _governing_csv(tmp_path / "other", site_copy, drop=first)
+    with pytest.raises(ValueError, match=f"lacks bus '{first}' of the site"):
+        read_governing(tmp_path / "other", site_copy)
+    _governing_csv(tmp_path / "study", site_copy)
+    frame = pd.read_csv(tmp_path / "study" / "governing.csv")
+    frame.loc[0, "device_governing"] = None  # an arc no device clears: empty cell
+    frame.to_csv(tmp_path / "study" / "governing.csv", index=False)
+    table = read_governing(tmp_path / "study", site_copy)
+    assert table.loc[first, "device_governing"] is None and table.loc[first, "flags"] == ""
+    assert label_content(site_copy, first, table.loc[first]).governing_device == "none"
+    assert set(site_copy.buses) <= set(table.index)
+
+
+def test_a_batch_prints_the_chosen_labels_only(site_copy, tmp_path):
+    _governing_csv(tmp_path / "study", site_copy)
+    governing = read_governing(tmp_path / "study", site_copy)
+    chosen = list(site_copy.buses)[:2]
+    printed = issue_labels(site_copy, governing, tmp_path / "out", buses=chosen, issued_by="tester")
+    assert [c.equipment_id for c in printed] == chosen
+    files = sorted(p.name for p in (tmp_path / "out" / "labels").iterdir())
+    assert files == sorted(safe_file_name(c.equipment_id, c.content_hash) for c in printed)
+    assert (tmp_path / "out" / "labels-sheet.pdf").stat().st_size > 0
+    book = ledger.ledger_path(site_copy.path)
+    assert set(ledger.latest(book)) == set(chosen)
+    again = issue_labels(site_copy, governing, tmp_path / "again", changed_only=True)
+    assert sorted(c.equipment_id for c in again) == sorted(set(site_copy.buses) - set(chosen))
+    nothing = issue_labels(site_copy, governing, tmp_path / "none", changed_only=True)
+    assert nothing == [] and not (tmp_path / "none" / "labels-sheet.pdf").exists()
+    with pytest.raises(KeyError, match="unknown bus 'NOPE'"):
+        issue_labels(site_copy, governing, tmp_path / "bad", buses=["NOPE"])
