@@ -12,7 +12,7 @@ from .models.errors import ModelRangeError
 from .output.cautions import CAUTION
 from .models.ieee1584_tables import CONFIGURATIONS, EQUIPMENT_CLASSES
 from .output.files import write_atomic
-from .output.text import equipment_report, fault_table
+from .output.text import energy_text, equipment_report, fault_table
 from .site.loader import load_site
 from .site.schema import site_json_schema
 from .study.equipment import assess_equipment
@@ -167,7 +167,7 @@ def study(site_dir, out_dir, tcc_buses, no_report, quiet):
     worst = governing["incident_energy_governing_cal_cm2"].idxmax()
     flagged = int((governing["flags"] != "").sum())
     click.echo(f"Study of {site.facility.name}: {len(governing)} buses, {len(site.scenarios)} scenarios.")
-    click.echo(f"Highest incident energy: {governing.loc[worst, 'incident_energy_governing_cal_cm2']:.1f} cal/cm2 "
+    click.echo(f"Highest incident energy: {energy_text(governing.loc[worst, 'incident_energy_governing_cal_cm2'])} cal/cm2 "
                f"at {worst} ({governing.loc[worst, 'scenario']}); {flagged} buses flagged.")
     files = ["results.csv", "governing.csv", "steps.csv", "results.xlsx"] + ([] if no_report else ["report.pdf"])
     click.echo(f"Results in {out_dir}: " + ", ".join(files))

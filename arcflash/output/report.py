@@ -20,6 +20,7 @@ from reportlab.platypus import Image, PageBreak, Paragraph, SimpleDocTemplate, S
 
 from ..models.units import mm_to_feet_inches
 from .cautions import CAUTION
+from .text import energy_text
 
 _STYLES = getSampleStyleSheet()
 _SMALL = _STYLES["BodyText"].clone("small", fontSize=7, leading=8.5)
@@ -105,7 +106,7 @@ def _results_rows(governing):
         rows.append([bus, f"{r['nominal_kv']:g}", f"{r['scenario']} / {r['governing_case'] or '-'}",
                      r["device_governing"] or "-",
                      "-" if not np.isfinite(r["clearing_time_governing_s"]) else f"{r['clearing_time_governing_s']:.3f}",
-                     "-" if not np.isfinite(energy) else f"{energy:.2f}",
+                     "-" if not np.isfinite(energy) else energy_text(energy, 2),
                      _ft_in(r["arc_flash_boundary_governing_mm"]), _ppe(r["ppe_category"])])
     return rows
 

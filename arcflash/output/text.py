@@ -10,24 +10,33 @@ from ..models.units import mm_to_feet_inches
 from .cautions import CAUTION
 
 
-def energy_text(incident_energy_cal_cm2):
-    """An incident energy to one decimal, rounded up: the printed value is never below the computed one.
+def energy_text(incident_energy_cal_cm2, decimals=1):
+    """An incident energy rounded **up** to the given decimals: the printed value is never below the computed one.
 
     Parameters
     ----------
-    incident_energy_cal_cm2 : float
-        Incident energy [cal/cm²]
+    incident_energy_cal_cm2 : float or None
+        Incident energy (any energy unit; the rounding is the same) [cal/cm²]
+    decimals : int
+        Decimals printed [-]
 
     Returns
     -------
     str
+        'not computed' for None or NaN.
 
     Examples
     --------
-    >>> energy_text(3.94), energy_text(4.0), energy_text(39.96)
-    ('4.0', '4.0', '40.0')
+    >>> energy_text(3.94), energy_text(4.0), energy_text(39.96), energy_text(0.1234, 2)
+    ('4.0', '4.0', '40.0', '0.13')
     """
-    return f"{float(minimum_arc_rating_cal_cm2(incident_energy_cal_cm2)):.1f}"  # the same round-up
+    if incident_energy_cal_cm2 is None or not math.isfinite(incident_energy_cal_cm2):
+        return "not computed"
+    if decimals == 1:  # the same round-up as the minimum arc rating (NFPA 70E)
+        return f"{float(minimum_arc_rating_cal_cm2(incident_energy_cal_cm2)):.1f}"
+    scale = 10.0 ** decimals
+    # round(., 9) first: a value already at the printed step (1.23 stored as 1.2300000000000002) stays.
+    return f"{math.ceil(round(float(incident_energy_cal_cm2) * scale, 9)) / scale:.{decimals}f}"
 
 
 def feet_inches(length_mm):
@@ -99,17 +108,17 @@ def equipment_report(record):
         _row("Results", "full arcing current", "reduced current"),
         _row("arcing current (kA)", _fmt(full["arcing_current_ka"], ".3f"), _fmt(red["arcing_current_ka"], ".3f")),
         _row("clearing time (s)", _fmt(full["clearing_time_s"], ".3f"), _fmt(red["clearing_time_s"], ".3f")),
-        _row("incident energy (cal/cm2)", _fmt(full["incident_energy_cal_cm2"], ".2f"),
-             _fmt(red["incident_energy_cal_cm2"], ".2f")),
-        _row("incident energy (J/cm2)", _fmt(full["incident_energy_j_cm2"], ".2f"),
-             _fmt(red["incident_energy_j_cm2"], ".2f")),
+        _row("incident energy (cal/cm2)", energy_text(full["incident_energy_cal_cm2"], 2),
+             energy_text(red["incident_energy_cal_cm2"], 2)),
+        _row("incident energy (J/cm2)", energy_text(full["incident_energy_j_cm2"], 2),
+             energy_text(red["incident_energy_j_cm2"], 2)),
         _row("arc-flash boundary", feet_inches(full["arc_flash_boundary_mm"]),
              feet_inches(red["arc_flash_boundary_mm"])),
         _row("enclosure correction factor", f"{record['enclosure_correction']:.3f}"),
         "",
         f"Governing case: {gov['case']} arcing current",
-        f"  incident energy {_fmt(gov['incident_energy_cal_cm2'], '.2f')} cal/cm2 "
-        f"({_fmt(gov['incident_energy_j_cm2'], '.2f')} J/cm2) at {i['working_distance_mm']:g} mm",
+        f"  incident energy {energy_text(gov['incident_energy_cal_cm2'], 2)} cal/cm2 "
+        f"({energy_text(gov['incident_energy_j_cm2'], 2)} J/cm2) at {i['working_distance_mm']:g} mm",
         f"  arc-flash boundary {feet_inches(gov['arc_flash_boundary_mm'])}",
         "",
     ]
@@ -203,7 +212,7 @@ def quick_report(row, notes):
         _row("reduced arcing current", _fmt(row["reduced_arcing_current_ka"], ".2f") + " kA"),
         _row("clearing time (governing)", _fmt(row["clearing_time_governing_s"], ".3f") + " s"),
         _row("upstream device", str(row["device_governing"])),
-        _row("incident energy", _fmt(row["incident_energy_governing_cal_cm2"], ".2f")
+        _row("incident energy", energy_text(row["incident_energy_governing_cal_cm2"], 2)
              + f" cal/cm2 at {row['working_distance_mm']:g} mm"),
         _row("arc-flash boundary", feet_inches(row["arc_flash_boundary_governing_mm"])),
         _row("minimum arc rating", _fmt(row["minimum_arc_rating_cal_cm2"], ".1f") + " cal/cm2"),
