@@ -5,6 +5,12 @@ from __future__ import annotations
 from pathlib import Path
 
 import pandas as pd
+from hypothesis import settings
+
+# No per-example deadline: on a loaded machine (CI, mutation runs) a slow example is not a failure.
+# Loaded here, before any test module is imported, so that every @given test sees it.
+settings.register_profile("arcflash", max_examples=60, deadline=None)
+settings.load_profile("arcflash")
 
 REFERENCE_DIR = Path(__file__).parent / "reference"
 

@@ -129,6 +129,12 @@ def test_polynomial_helper_and_configuration_names():
     for coefficients in ((0.0, 0.0, 2.0, -1.0, 3.0), (1.5, 0.0, -2.0, 0.0), (0.0, 4.0), (2.5,), (0.0, 1.0, 0.0, 0.0)):
         expected = sum(c * x ** (len(coefficients) - 1 - i) for i, c in enumerate(coefficients))
         np.testing.assert_allclose(eq.polynomial(coefficients, x), expected, rtol=1e-14)
+    np.testing.assert_array_equal(eq.polynomial((0.0, 0.0, 0.0), x), np.zeros(3))  # all zero: zero, shaped as x
+    # One coefficient per case (arrays), zeros inside arrays are not skipped, ones are added.
+    per_case = (np.array([0.0, 1.0, 2.0]), np.array([1.0, 0.0, -1.0]), 1.0, np.array([0.0, 0.0, 3.0]))
+    expected = sum(c * x ** (3 - i) for i, c in enumerate(per_case))
+    np.testing.assert_allclose(eq.polynomial(per_case, x), expected, rtol=1e-14)
+    np.testing.assert_allclose(eq.polynomial((1.0, 1.0, 1.0), x), x * x + x + 1.0, rtol=1e-14)
     assert eq.config_name(" vcbb ") == "VCBB"
     with pytest.raises(ValueError, match="unknown electrode configuration"):
         eq.config_name("VCX")

@@ -13,8 +13,6 @@ from arcflash.models.ieee1584_tables import CONFIGURATIONS
 
 BOUNDARY_ENERGY_J_CM2 = BOUNDARY_TERM * ENERGY_CONSTANT  # 5.0208 J/cm2 = 1.2 cal/cm2
 
-settings.register_profile("arcflash", max_examples=60, deadline=None)
-settings.load_profile("arcflash")
 
 
 @st.composite
