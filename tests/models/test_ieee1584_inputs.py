@@ -118,3 +118,29 @@ def test_size_above_cap_uses_cap():
     at_cap = call(voltage_kv=4.16, gap_mm=104.0, height_mm=1244.6, width_mm=1244.6)
     assert float(capped.enclosure_correction) == float(at_cap.enclosure_correction)
     assert bool(capped.out_of_range) and not bool(at_cap.out_of_range)
+
+
+def test_strict_message_names_every_broken_rule_of_the_first_five_cases():
+    # IEEE 1584-2018 clause 4.2 ranges (from memory for the wording): 0.5-106 kA at 208-600 V, working
+    # distance at least 305 mm, enclosure width more than 4 x gap. The message is read by the user: every
+    # broken rule of the first five flagged cases, then how many more.
+    lv = "bolted_ka = 120, expected 0.5–106 kA at 208–600 V"
+    near = "working_distance_mm = 300, expected at least 305 mm"
+    with pytest.raises(ModelRangeError) as raised:
+        evaluate(0.48, [20.0] + [120.0] * 7, 32.0, 300.0, 0.1, 0.1, "VCB", 508, 508, strict=True)
+    named = [f"case 0: {near}"] + [f"case {k}: {text}" for k in range(1, 5) for text in (lv, near)]
+    assert str(raised.value) == ("outside the range of IEEE 1584-2018 (clause 4.2): " + "; ".join(named)
+                                 + " (and 3 more cases)")
+    with pytest.raises(ModelRangeError) as one:  # a single case is not numbered
+        evaluate(0.48, 120.0, 32.0, 300.0, 0.1, 0.1, "VCB", 508, 508, strict=True)
+    assert str(one.value) == f"outside the range of IEEE 1584-2018 (clause 4.2): {lv}; {near}"
+    with pytest.raises(ModelRangeError) as narrow:
+        evaluate(0.48, 20.0, 32.0, 609.6, 0.1, 0.1, "VCB", 508, 60, strict=True)
+    assert str(narrow.value) == ("outside the range of IEEE 1584-2018 (clause 4.2): "
+                                 "width_mm = 60 with gap_mm = 32, expected more than 4 × gap")
+    with pytest.raises(ModelRangeError) as five:  # exactly five flagged cases: no "more"
+        evaluate(0.48, [120.0] * 5, 32.0, 609.6, 0.1, 0.1, "VCB", 508, 508, strict=True)
+    assert str(five.value).endswith(f"case 4: {lv}")
+    flagged = evaluate(0.48, 120.0, 32.0, 300.0, 0.1, 0.1, "VCB", 508, 508)
+    assert str(flagged.out_of_range_reason) == ("bolted_ka outside 0.5–106 kA at 208–600 V; "
+                                                "working_distance_mm outside at least 305 mm")

@@ -21,8 +21,9 @@ DEMO = Path(__file__).resolve().parents[2] / "site_data" / "fenwick_ridge"
 
 def _solve(net, meshed, monkeypatch):
     with monkeypatch.context() as patch:
-        if meshed:
+        if meshed:  # the sparse LU solve (not the tree-plus-loops solve, which reuses the radial one)
             patch.setattr(network, "_is_radial", lambda sub, merged: False)
+            patch.setattr(network, "MAX_LOOPS_FOR_UPDATE", -1)
         else:
             def refuse(*args):
                 raise AssertionError("the general solver was used on a radial network")
