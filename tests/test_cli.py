@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import math
 
 import pytest
 from click.testing import CliRunner
@@ -104,3 +105,22 @@ def test_memory_setting_takes_effect_on_glibc_only():
     from arcflash.output.memory import release_large_blocks_promptly
 
     assert release_large_blocks_promptly() is (platform.libc_ver()[0] == "glibc")
+
+
+def test_the_larger_case_governs_in_the_single_equipment_command():
+    # IEEE 1584-2018 clause 4: both arcing cases are computed and the larger energy governs. Annex D.2's inputs
+    # with its clearing times (61.3 ms full, 319 ms reduced): the reduced case governs. Expected values from the
+    # independent hand calculation (tests/ieee1584_by_hand.py), 1 cal = 4.184 J.
+    from tests.ieee1584_by_hand import by_hand
+
+    hand = by_hand(0.48, 45.0, 32.0, 609.6, 0.0613, 0.319, "VCB", 508.0, 508.0, 508.0)
+    assert hand["reduced"][1] > hand["full"][1]
+    record = json.loads(run(D2 + ["--json"]).output)
+    governing = record["governing"]
+    assert governing["case"] == "reduced"
+    assert governing["incident_energy_j_cm2"] == pytest.approx(hand["reduced"][1], rel=1e-9)
+    assert governing["incident_energy_cal_cm2"] == pytest.approx(hand["reduced"][1] / 4.184, rel=1e-9)
+    assert governing["arc_flash_boundary_mm"] == pytest.approx(hand["reduced"][2], rel=1e-9)
+    text = " ".join(run(D2).output.split())
+    energy_up = math.ceil(hand["reduced"][1] / 4.184 * 100) / 100  # printed rounded up to 0.01
+    assert f"Governing case: reduced arcing current incident energy {energy_up:.2f} cal/cm2" in text
