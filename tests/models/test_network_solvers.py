@@ -40,6 +40,12 @@ def _sorted(solution):
     return key[order], solution.device_current_ka[order]
 
 
+def _sorted_rows(solution, net):
+    key = solution.device_fault_bus.astype(np.int64) * 1_000_000 + solution.device
+    order = np.argsort(key)
+    return solution.device_fault_bus[order], np.asarray(net.device_branch)[solution.device[order]]
+
+
 def _sorted_share(solution):
     key = solution.device_fault_bus.astype(np.int64) * 1_000_000 + solution.device
     return solution.device_share[np.argsort(key)]
@@ -65,9 +71,13 @@ def test_radial_equals_general(source, tmp_path, monkeypatch):
         np.testing.assert_array_equal(key_r, key_g)
         np.testing.assert_allclose(current_r, current_g, rtol=1e-6)
         # Directions: the tree's (toward the fault) and the LU solve's (active power, Re(V conj I)) agree
-        # wherever the device carries at least half the fault; where motors feed a smaller share they may differ
-        # (seen: 22 of 24,560 rows of the synthetic site, shares up to 0.35; the direction is reported only).
-        big = _sorted_share(general) >= 0.5
+        # wherever the device carries at least half the fault, except on a branch ending at the faulted bus,
+        # where the active power is near zero and its sign is noise (seen on the demo without motors); where
+        # motors feed a smaller share they may differ (seen: 22 of 24,560 rows of the synthetic site, shares up
+        # to 0.35). The direction is reported only (fault tables); clearing does not use it.
+        fault_bus, branch = _sorted_rows(general, net)
+        at_fault = (net.branch_from[branch] == fault_bus) | (net.branch_to[branch] == fault_bus)
+        big = (_sorted_share(general) >= 0.5) & ~at_fault
         np.testing.assert_array_equal(_directions(radial)[big], _directions(general)[big])
 
 
@@ -120,6 +130,8 @@ def test_tree_plus_loops_equals_sparse_lu(source, tmp_path, monkeypatch):
     direction_g = general.device_direction[np.argsort(general.device_fault_bus.astype(np.int64) * 1_000_000
                                                       + general.device)][at_g]
     big = current_g[at_g] > 1e-2 * current_g.max()
+    fault_bus, branch = _sorted_rows(general, net)
+    big &= ~((net.branch_from[branch] == fault_bus) | (net.branch_to[branch] == fault_bus))[at_g]  # see above
     assert np.mean(direction_u[big] == direction_g[big]) > 0.99
 
 
