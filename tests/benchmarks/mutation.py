@@ -12,7 +12,13 @@ return value. A mutant is *killed* when a test fails, *survived* when the
 whole selected suite passes. Survivors are listed for review: each must be
 killed by a new test or explained as equivalent (docs/validation.md).
 
+A full run of every safety-critical module is several hours on 2 cores; ``--sample F`` runs a random
+fraction F of each module's mutants (seeded; at least 60 per module) and reports the score of that sample with a 95 % interval
+(Wilson), so that a run fits in a session. ``--functions PATTERN ...`` restricts the run to mutants of the
+matching functions (fnmatch on mutmut's names, e.g. ``'*labels.x_label_content*'``).
+
 Run:  python tests/benchmarks/mutation.py [--modules arcflash/models/nfpa70e.py ...] [--work DIR] [--jobs 2]
+      [--sample 0.2 --seed 1] [--functions PATTERN ...]
 Prints the score per module and the surviving mutants' names; ``mutmut show NAME``
 in the work folder shows a mutant's diff.
 """
@@ -21,6 +27,10 @@ from __future__ import annotations
 
 import argparse
 import collections
+import fnmatch
+import json
+import math
+import random
 import shutil
 import subprocess
 import sys
@@ -41,6 +51,9 @@ def main():
     parser.add_argument("--modules", nargs="+", default=list(SAFETY_CRITICAL))
     parser.add_argument("--work", type=Path, default=Path("/tmp/arcflash-mutation"))
     parser.add_argument("--jobs", type=int, default=2)
+    parser.add_argument("--sample", type=float, default=1.0, help="fraction of each module's mutants to run")
+    parser.add_argument("--seed", type=int, default=1)
+    parser.add_argument("--functions", nargs="+", default=None, help="fnmatch patterns of mutant names")
     args = parser.parse_args()
     if shutil.which("mutmut", path=str(Path(sys.executable).parent)) is None:
         sys.exit("mutmut is not installed in this environment: pip install mutmut")
@@ -60,25 +73,42 @@ def main():
         + listed("pytest_add_cli_args_test_selection", ["tests/", "--ignore=tests/benchmarks"]),
         encoding="utf-8")
     mutmut = str(Path(sys.executable).parent / "mutmut")
+    chosen = None
     with open(args.work / "mutmut-run.log", "w", encoding="utf-8") as log:  # its progress display, kept apart
-        subprocess.run([mutmut, "run", "--max-children", str(args.jobs)], cwd=args.work, check=False, stdout=log,
-                       stderr=subprocess.STDOUT)
-    listing = subprocess.run([mutmut, "results", "--all", "true"], cwd=args.work, capture_output=True,
-                             text=True).stdout
-    status = {}
-    for line in listing.splitlines():
-        name, _, state = line.strip().rpartition(": ")
-        if name:
-            status[name] = state
+        def run(names):
+            subprocess.run([mutmut, "run", "--max-children", str(args.jobs), *names], cwd=args.work, check=False,
+                           stdout=log, stderr=subprocess.STDOUT)
+
+        if args.sample >= 1.0 and not args.functions:
+            run([])
+        else:
+            # Generate the mutants and the test statistics with one small run, then pick the names.
+            first = args.modules[0].removesuffix(".py").replace("/", ".")
+            run([f"{first}.*__mutmut_1"])
+            names = _all_names(args.work)
+            if args.functions:
+                names = [n for n in names if any(fnmatch.fnmatch(n, pattern) for pattern in args.functions)]
+            chosen = set()
+            rng = random.Random(args.seed)
+            by_module = collections.defaultdict(list)
+            for name in names:
+                by_module[_module(name)].append(name)
+            for module_names in by_module.values():
+                # At least 60 per module (or all): a small module's score is otherwise too loose to read.
+                k = len(module_names) if args.sample >= 1.0 else min(len(module_names),
+                                                                      max(60, round(args.sample * len(module_names))))
+                chosen.update(rng.sample(sorted(module_names), k))
+            run(sorted(chosen))
     per_module = collections.defaultdict(collections.Counter)
     for name, state in status.items():
-        per_module[name.split(".x")[0].split("__mutmut")[0]][state] += 1
-    print(f"{'module':<45} {'killed':>7} {'survived':>9} {'other':>6} {'score':>6}")
+        per_module[_module(name)][state] += 1
+    print(f"{'module':<45} {'killed':>7} {'survived':>9} {'other':>6} {'score':>6}  95 % interval")
     for module, counts in sorted(per_module.items()):
         killed, survived = counts["killed"], counts["survived"]
         other = sum(counts.values()) - killed - survived
         score = killed / max(killed + survived, 1)
-        print(f"{module:<45} {killed:>7} {survived:>9} {other:>6} {score:>6.1%}")
+        low, high = _wilson(killed, killed + survived)
+        print(f"{module:<45} {killed:>7} {survived:>9} {other:>6} {score:>6.1%}  {low:.1%}-{high:.1%}")
     total_killed = sum(c["killed"] for c in per_module.values())
     total_survived = sum(c["survived"] for c in per_module.values())
     print(f"all: {total_killed} killed, {total_survived} survived, "
@@ -87,6 +117,27 @@ def main():
     for name, state in sorted(status.items()):
         if state == "survived":
             print("  " + name)
+
+
+def _module(name):
+    return name.split(".x")[0].split("__mutmut")[0]
+
+
+def _all_names(work):
+    names = []
+    for meta in (work / "mutants").rglob("*.meta"):
+        names += list(json.loads(meta.read_text(encoding="utf-8")).get("exit_code_by_key", {}))
+    return sorted(names)
+
+
+def _wilson(killed, total, z=1.96):
+    """95 % Wilson score interval of a proportion (common practice for a sampled rate)."""
+    if total == 0:
+        return 0.0, 1.0
+    p = killed / total
+    centre = (p + z * z / (2 * total)) / (1 + z * z / total)
+    half = z * math.sqrt(p * (1 - p) / total + z * z / (4 * total * total)) / (1 + z * z / total)
+    return centre - half, centre + half
 
 
 if __name__ == "__main__":
