@@ -116,6 +116,16 @@ def test_unknown_display_mode_is_refused():
         label_content(_site(), "PNL-7", _row(), shows="both")
 
 
+def test_exactly_1_2_cal_is_not_below_1_2():
+    # IEEE 1584-2018 3.1: the boundary is where the energy is 1.2 cal/cm2; exactly 1.2 is at it, not below it.
+    got = label_content(_site(), "PNL-7", _row(energy=1.2, category=1, rating=1.2))
+    assert got.energy_or_category == "1.2 cal/cm2 at 1 ft 6 in (0.5 m)"
+
+
+def test_an_empty_device_cell_prints_none():
+    assert label_content(_site(), "PNL-7", _row(device="")).governing_device == "none"
+
+
 @pytest.mark.parametrize("kv, text", [(0.208, "208 V"), (0.6, "600 V"), (1.0, "1 kV"), (4.16, "4.16 kV")])
 def test_nominal_voltage_text(kv, text):
     assert label_content(_site(), "PNL-7", _row(kv=kv)).nominal_voltage == text
@@ -159,7 +169,7 @@ def test_layout_read_from_its_file(tmp_path):
 
 @pytest.mark.parametrize("equipment, stem", [
     ("SWG-A", "SWG-A"), ("bus with spaces & <tags>", "bus_with_spaces_tags"), ("..", "equipment"),
-    ("../../etc/passwd", "etc_passwd"), ("Ωhm-1", "hm-1"), ("A" * 100, "A" * 80)])
+    ("../../etc/passwd", "etc_passwd"), ("Ωhm-1", "hm-1"), ("A" * 100, "A" * 80), ("XFMR-X", "XFMR-X")])
 def test_label_file_names(equipment, stem):
     assert safe_file_name(equipment, "0123456789abcdef") == f"{stem}-01234567.pdf"
 
@@ -193,11 +203,13 @@ def test_reading_an_earlier_study(site_copy, tmp_path):
     _governing_csv(tmp_path / "study", site_copy)
     frame = pd.read_csv(tmp_path / "study" / "governing.csv")
     frame.loc[0, "device_governing"] = None  # an arc no device clears: empty cell
+    frame.loc[1, "device_governing"] = "NA"  # a device may be called NA: read as text, not as missing
     frame.to_csv(tmp_path / "study" / "governing.csv", index=False)
     table = read_governing(tmp_path / "study", site_copy)
     assert table.loc[first, "device_governing"] is None and table.loc[first, "flags"] == ""
     assert label_content(site_copy, first, table.loc[first]).governing_device == "none"
     assert set(site_copy.buses) <= set(table.index)
+    assert table.iloc[1]["device_governing"] == "NA"
 
 
 def test_a_batch_prints_the_chosen_labels_only(site_copy, tmp_path):
