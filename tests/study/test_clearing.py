@@ -205,3 +205,13 @@ def test_each_arcing_case_is_timed_at_its_own_current(normal, demo):
         assert 500.0 < fuse_a < 1000.0
         assert row[column] == pytest.approx(4.0 * (fuse_a / 500.0) ** (np.log(0.5 / 4.0) / np.log(2.0)), rel=1e-9)
     assert row["reduced_clearing_time_s"] > 1.4 * row["clearing_time_s"]
+
+
+def test_one_stage_opening_sequence_names_the_device_time_and_current(normal):
+    # The sequence of a bus cleared in one stage: its governing device, the hand-worked time above
+    # (0.3 x 1.15 + 3/60 s for LVM-A's short-time band) and the arcing current of each case, to 3 digits.
+    row = normal.loc["SWG-A"]
+    assert not row["staged"]
+    for prefix in ("", "reduced_"):
+        assert row[f"{prefix}clearing_sequence"] == (
+            f"LVM-A opens at {0.3 * 1.15 + 3 / 60:.3f} s (arc {row[f'{prefix}arcing_current_ka']:.3g} -> 0 kA)")
