@@ -215,3 +215,13 @@ def test_one_stage_opening_sequence_names_the_device_time_and_current(normal):
     for prefix in ("", "reduced_"):
         assert row[f"{prefix}clearing_sequence"] == (
             f"LVM-A opens at {0.3 * 1.15 + 3 / 60:.3f} s (arc {row[f'{prefix}arcing_current_ka']:.3g} -> 0 kA)")
+
+
+def test_a_site_without_any_protective_device_runs_every_arc_to_the_cap(tmp_path):
+    # No device at all: nothing clears, every energised bus is flagged and its arc runs to the site's cap
+    # (IEEE 1584-2018 2 s guidance, the default cap); the study still runs.
+    site = arcflash.load_site(write_site(tmp_path / "bare", {k: v for k, v in CHAIN.items() if k != "devices"}))
+    table = clearing_table(site, "normal")
+    assert table["no_device"].all() and table["duration_capped"].all()
+    np.testing.assert_allclose(table["clearing_time_s"], 2.0)
+    np.testing.assert_allclose(table["reduced_clearing_time_s"], 2.0)
