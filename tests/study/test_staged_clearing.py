@@ -377,6 +377,8 @@ def test_motor_contributions_end_when_the_site_says(tmp_path):
     mine = stages[(stages["bus"] == "LV") & (stages["case"] == "full")]
     assert mine["end_s"].iloc[0] == pytest.approx(5 / 60, rel=1e-12)
     assert mine["bolted_ka"].iloc[1] < mine["bolted_ka"].iloc[0]
+    assert mine["stage"].tolist() == list(range(len(mine)))  # stages numbered from 0 in time order
+    assert (mine["start_s"].iloc[1:].to_numpy() == mine["end_s"].iloc[:-1].to_numpy()).all()
 
 
 def _double_ended(folder, first, second, with_first=True, with_second=True):
