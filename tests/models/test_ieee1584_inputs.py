@@ -144,3 +144,23 @@ def test_strict_message_names_every_broken_rule_of_the_first_five_cases():
     flagged = evaluate(0.48, 120.0, 32.0, 300.0, 0.1, 0.1, "VCB", 508, 508)
     assert str(flagged.out_of_range_reason) == ("bolted_ka outside 0.5–106 kA at 208–600 V; "
                                                 "working_distance_mm outside at least 305 mm")
+
+
+@pytest.mark.parametrize("edge", [
+    dict(voltage_kv=0.208), dict(gap_mm=6.35, width_mm=508.0), dict(gap_mm=76.2), dict(working_distance_mm=305.0),
+    dict(bolted_ka=0.5), dict(bolted_ka=106.0), dict(height_mm=1244.6), dict(width_mm=1244.6),
+    dict(voltage_kv=15.0, gap_mm=104.0), dict(voltage_kv=4.16, gap_mm=19.05), dict(voltage_kv=4.16, gap_mm=254.0, width_mm=1244.6),
+    dict(voltage_kv=4.16, gap_mm=104.0, bolted_ka=65.0), dict(voltage_kv=4.16, gap_mm=104.0, bolted_ka=0.2),
+])
+def test_the_ends_of_the_model_range_are_inside(edge):
+    # IEEE 1584-2018 clause 4.2 (from memory): the range is closed, its ends are inside. Each edge case is
+    # evaluated beside a case far outside (working distance 100 mm), so that the per-case checks run.
+    r = evaluate(**{**GOOD, **edge, "working_distance_mm": [edge.get("working_distance_mm", 609.6), 100.0]})
+    assert r.out_of_range.tolist() == [False, True], str(r.out_of_range_reason[0])
+
+
+def test_a_low_voltage_gap_is_checked_against_the_low_voltage_range():
+    # IEEE 1584-2018 clause 4.2 (from memory): 6.35-76.2 mm at 208-600 V, 19.05-254 mm above 600 V.
+    r = evaluate(**{**GOOD, "gap_mm": [80.0, 32.0], "width_mm": 508.0})
+    assert str(r.out_of_range_reason[0]) == "gap_mm outside 6.35–76.2 mm at 208–600 V"
+    assert not bool(r.out_of_range[1])
