@@ -92,6 +92,23 @@ def test_batch_equals_cases_one_by_one(batch):
             assert getattr(together, name)[i] == pytest.approx(float(getattr(alone, name)), rel=1e-12), name
 
 
+@given(st.lists(cases(), min_size=8, max_size=25))
+def test_a_batch_in_small_blocks_equals_one_block(batch):
+    # Structural property: large inputs are evaluated in blocks of BLOCK_CASES; blocks of 3 cases (the last one
+    # partial) give exactly the one-block answer.
+    columns = {key: [case[key] for case in batch] for key in batch[0]}
+    whole = ieee1584.evaluate(**columns)
+    original = ieee1584.BLOCK_CASES
+    ieee1584.BLOCK_CASES = 3
+    try:
+        blocks = ieee1584.evaluate(**columns)
+    finally:
+        ieee1584.BLOCK_CASES = original
+    for name in ("arcing_current_ka", "reduced_arcing_current_ka", "incident_energy_j_cm2", "arc_flash_boundary_mm",
+                 "reduced_incident_energy_j_cm2", "reduced_arc_flash_boundary_mm", "out_of_range"):
+        np.testing.assert_array_equal(getattr(blocks, name), getattr(whole, name), err_msg=name)
+
+
 @given(cases(voltage=0.6))
 def test_low_voltage_and_interpolated_forms_agree_at_600_v(case):
     # Source: IEEE 1584-2018 Eqs. (16)-(25): at 600 V the interpolation returns the 600 V values
