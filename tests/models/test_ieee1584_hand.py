@@ -27,6 +27,7 @@ CASES = [
     # voltage [kV], bolted [kA], gap [mm], working distance [mm], enclosure H x W x D [mm]
     (0.48, 30.0, 32.0, 455.0, (508.0, 508.0, 508.0)),  # typical, EES just under 20 in
     (0.48, 30.0, 25.0, 455.0, (305.0, 305.0, 150.0)),  # shallow enclosure
+    (0.48, 30.0, 25.0, 455.0, (305.0, 305.0, 203.2)),  # shallow at its depth limit, 8 in (clause 4.8, from memory)
     (0.48, 30.0, 25.0, 455.0, (356.0, 305.0, 254.0)),  # small but deep: typical, 20 in
     (4.16, 20.0, 104.0, 910.0, (1143.0, 762.0, 762.0)),  # adjusted sizes (clause 4.8)
     (13.8, 20.0, 152.0, 910.0, (1143.0, 914.0, 914.0)),
