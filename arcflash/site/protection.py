@@ -20,7 +20,7 @@ Fraction = Annotated[float, Field(ge=0, lt=1)]
 
 
 class _Settings(BaseModel):
-    model_config = ConfigDict(extra="forbid", str_strip_whitespace=True)
+    model_config = ConfigDict(extra="forbid", str_strip_whitespace=True, allow_inf_nan=False)
 
 
 class DefiniteTimeIn(_Settings):

@@ -9,6 +9,8 @@ Unknown fields are errors. :func:`site_json_schema` publishes the schema.
 
 from __future__ import annotations
 
+import datetime as dt
+import math
 import re
 from typing import Annotated, Literal
 
@@ -46,6 +48,8 @@ def parse_quantity(text, kind):
     if not match:
         raise ValueError(f"a number and a unit ({names}), e.g. '{_EXAMPLES[kind]}'")
     value, unit = float(match.group(1)), match.group(2).lower()
+    if not math.isfinite(value):
+        raise ValueError("a finite number")
     if unit not in accepted:
         raise ValueError(f"a unit among {names} (got {match.group(2)!r})")
     if value <= 0:
@@ -73,7 +77,8 @@ MotorSize = _quantity_of("motor")
 
 
 class _Element(BaseModel):
-    model_config = ConfigDict(extra="forbid", str_strip_whitespace=True)
+    # allow_inf_nan=False: inf, .inf, nan (YAML or CSV) are refused where a number is read.
+    model_config = ConfigDict(extra="forbid", str_strip_whitespace=True, allow_inf_nan=False)
 
 
 class Facility(_Element):
@@ -98,6 +103,16 @@ class Facility(_Element):
     motor_contribution_cycles: Positive | None = Field(
         None, description="Motor fault contributions end after this many cycles while an arc is cleared; "
                           "null (default): they last the whole arc (conservative).")
+
+    @field_validator("study_date")
+    @classmethod
+    def _a_day_that_exists(cls, value):
+        if value is None:
+            return value
+        try:
+            return dt.date.fromisoformat(value).isoformat()
+        except ValueError:
+            raise ValueError("a date written YYYY-MM-DD that exists") from None
 
     @property
     def motor_contribution_end_s(self):
