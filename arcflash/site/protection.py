@@ -11,16 +11,17 @@ from __future__ import annotations
 
 from typing import Annotated, Literal
 
-from pydantic import BaseModel, ConfigDict, Field, model_validator
+from pydantic import Field, model_validator
 
+from .base import SiteModel
 from ..models.curves import BREAKER_OPENING_CYCLES, IEC_60255_151, IEEE_C37_112, PointCurve
 
 Positive = Annotated[float, Field(gt=0)]
 Fraction = Annotated[float, Field(ge=0, lt=1)]
 
 
-class _Settings(BaseModel):
-    model_config = ConfigDict(extra="forbid", str_strip_whitespace=True, allow_inf_nan=False)
+class _Settings(SiteModel):
+    pass
 
 
 class DefiniteTimeIn(_Settings):

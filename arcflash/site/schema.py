@@ -14,10 +14,11 @@ import math
 import re
 from typing import Annotated, Literal
 
-from pydantic import AfterValidator, BaseModel, ConfigDict, Field, field_validator, model_validator
+from pydantic import AfterValidator, Field, field_validator, model_validator
 
 from ..models.conductors import CONDUITS, MATERIALS, SIZES, normalize_size
 from ..models.ieee1584_tables import CONFIGURATIONS, EQUIPMENT_CLASSES
+from .base import SiteModel
 from .protection import CurveIn, RelayIn, TripUnitIn, check_device_settings
 
 Positive = Annotated[float, Field(gt=0)]
@@ -76,9 +77,8 @@ LengthQuantity = _quantity_of("length")
 MotorSize = _quantity_of("motor")
 
 
-class _Element(BaseModel):
-    # allow_inf_nan=False: inf, .inf, nan (YAML or CSV) are refused where a number is read.
-    model_config = ConfigDict(extra="forbid", str_strip_whitespace=True, allow_inf_nan=False)
+class _Element(SiteModel):
+    pass
 
 
 class Facility(_Element):
