@@ -89,14 +89,29 @@ def read_yaml(path, problems):
 
 
 def read_csv(path, problems):
-    """Rows of a CSV file as :class:`LineMap` (empty cells left out), or None."""
+    """Rows of a CSV file as :class:`LineMap` (empty cells left out), or None.
+
+    A UTF-8 byte-order mark and Windows line endings are accepted (spreadsheets write them). A header
+    naming a column twice, and a row with more cells than the header, are problems at their line (the
+    second value or the extra cell would otherwise be lost without a word).
+    """
     path = Path(path)
     try:
-        with open(path, encoding="utf-8", newline="") as handle:
+        with open(path, encoding="utf-8-sig", newline="") as handle:
             reader = csv.DictReader(handle)
+            header = [name.strip() for name in (reader.fieldnames or [])]
+            seen = set()
+            for name in header:
+                if name and name in seen:
+                    problems.append(Problem(path.name, 1, "header", name, "each column named once"))
+                seen.add(name)
             rows = LineList()
             rows.line = 1
-            for number, row in enumerate(reader, start=2):
+            for row in reader:
+                number = reader.line_num  # the row's last line (a quoted cell may span lines)
+                if None in row:
+                    problems.append(Problem(path.name, number, "row", row[None],
+                                            f"at most {len(header)} cells, as the header has"))
                 item = LineMap({k.strip(): v.strip() for k, v in row.items() if k and v is not None and v.strip()})
                 item.line = number
                 item.key_lines = {k: number for k in item}

@@ -27,3 +27,17 @@ def test_unquoted_on_and_off_mean_the_words_in_an_on_off_field(tmp_path):
     assert "motors: off\n" in text and "motors: on\n" in text
     site = arcflash.load_site(folder)
     assert (site.scenario("quiet").motors, site.scenario("busy").motors) == ("off", "on")
+
+
+def test_a_csv_with_a_byte_order_mark_and_windows_line_endings_is_read(tmp_path):
+    # Spreadsheets save CSV as UTF-8 with a byte-order mark and CRLF line ends; before, the mark made the first
+    # column's name unknown and every row an error.
+    folder = tmp_path / "site"
+    folder.mkdir()
+    document = chain()
+    del document["cables"]
+    write_site(folder, document)
+    (folder / "cables.csv").write_bytes(
+        "\ufeffid,from_bus,to_bus,length,size,material,conduit\r\nC,LV,END,200 ft,4/0,copper,steel\r\n".encode("utf-8"))
+    site = arcflash.load_site(folder)
+    assert site.cables["C"].length == "200 ft" and site.cables["C"].to_bus == "END"
