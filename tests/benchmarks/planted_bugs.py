@@ -90,6 +90,23 @@ def _copy(work):
         shutil.copy2(ROOT / name, target)
 
 
+def first_failure(work, tests=("tests", "arcflash")):
+    """Run the suite in the copy without the snapshot file, stopping at the first failure.
+
+    Returns
+    -------
+    str or None
+        The first failing test (or pytest's last line when none is named); None when the suite passes.
+    """
+    run = subprocess.run([sys.executable, "-m", "pytest", "-x", "-q", "-p", "no:cacheprovider", "--ignore", SNAPSHOT,
+                          *tests], cwd=work, capture_output=True, text=True,
+                         env={**os.environ, "PYTHONPATH": str(work)})
+    if run.returncode == 0:
+        return None
+    failed = re.findall(r"^FAILED (\S+)", run.stdout, flags=re.MULTILINE)
+    return failed[0] if failed else run.stdout.strip().splitlines()[-1]
+
+
 def main():
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--work", type=Path, default=Path("/tmp/arcflash-planted"))
@@ -110,18 +127,14 @@ def main():
             sys.exit(f"{name}: the text to replace occurs {original.count(old)} times in {file} (update this script)")
         path.write_text(original.replace(old, new), encoding="utf-8")
         try:
-            run = subprocess.run([sys.executable, "-m", "pytest", "-x", "-q", "-p", "no:cacheprovider",
-                                  "--deselect", SNAPSHOT, "--ignore", SNAPSHOT, "tests", "arcflash"],
-                                 cwd=args.work, capture_output=True, text=True,
-                                 env={**os.environ, "PYTHONPATH": str(args.work)})
+            failure = first_failure(args.work)
         finally:
             path.write_text(original, encoding="utf-8")
-        failed = re.findall(r"^FAILED (\S+)", run.stdout, flags=re.MULTILINE)
-        if run.returncode == 0:
+        if failure is None:
             missed.append(name)
             print(f"MISSED  {name}")
         else:
-            print(f"caught  {name:<40} by {failed[0] if failed else run.stdout.strip().splitlines()[-1]}")
+            print(f"caught  {name:<40} by {failure}")
     print(f"{len(missed)} missed")
     sys.exit(1 if missed else 0)
 

@@ -13,14 +13,13 @@ Run:  python tests/benchmarks/recheck_mutants.py --from /tmp/arcflash-mutation N
 from __future__ import annotations
 
 import argparse
-import os
 import re
 import subprocess
 import sys
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
-from planted_bugs import ROOT, SNAPSHOT, _copy  # noqa: E402  (the same scratch copy and suite run)
+from planted_bugs import _copy, first_failure  # noqa: E402  (the same scratch copy and suite run)
 
 
 def _diff(mutmut_dir, name):
@@ -40,7 +39,6 @@ def main():
     parser.add_argument("--tests", nargs="+", default=["tests", "arcflash"])
     args = parser.parse_args()
     _copy(args.work)
-    env = {**os.environ, "PYTHONPATH": str(args.work)}
     survived = []
     for name in args.names:
         diff = _diff(args.mutmut_dir, name)
@@ -52,17 +50,14 @@ def main():
             print(f"skipped {name}: the diff no longer applies ({applied.stdout.strip() or applied.stderr.strip()})")
             continue
         try:
-            run = subprocess.run([sys.executable, "-m", "pytest", "-x", "-q", "-p", "no:cacheprovider",
-                                  "--ignore", SNAPSHOT, *args.tests], cwd=args.work, capture_output=True,
-                                 text=True, env=env)
+            failure = first_failure(args.work, args.tests)
         finally:
             target.write_text(original, encoding="utf-8")
-        failed = re.findall(r"^FAILED (\S+)", run.stdout, flags=re.MULTILINE)
-        if run.returncode == 0:
+        if failure is None:
             survived.append(name)
             print(f"survived {name}")
         else:
-            print(f"killed   {name} by {failed[0] if failed else run.stdout.strip().splitlines()[-1]}")
+            print(f"killed   {name} by {failure}")
     print(f"{len(survived)} of {len(args.names)} survived")
 
 

@@ -34,26 +34,28 @@ def _solve(net, meshed, monkeypatch, voltage_factor=1.0):
                                     voltage_factor=voltage_factor)
 
 
-def _sorted(solution):
+def _key(solution):
+    """One key per device row (fault bus, device) and the order that sorts the rows by it."""
     key = solution.device_fault_bus.astype(np.int64) * 1_000_000 + solution.device
-    order = np.argsort(key)
+    return key, np.argsort(key)
+
+
+def _sorted(solution):
+    key, order = _key(solution)
     return key[order], solution.device_current_ka[order]
 
 
 def _sorted_rows(solution, net):
-    key = solution.device_fault_bus.astype(np.int64) * 1_000_000 + solution.device
-    order = np.argsort(key)
+    order = _key(solution)[1]
     return solution.device_fault_bus[order], np.asarray(net.device_branch)[solution.device[order]]
 
 
 def _sorted_share(solution):
-    key = solution.device_fault_bus.astype(np.int64) * 1_000_000 + solution.device
-    return solution.device_share[np.argsort(key)]
+    return solution.device_share[_key(solution)[1]]
 
 
 def _directions(solution):
-    key = solution.device_fault_bus.astype(np.int64) * 1_000_000 + solution.device
-    return solution.device_direction[np.argsort(key)]
+    return solution.device_direction[_key(solution)[1]]
 
 
 @pytest.mark.parametrize("source", ["demo", "synthetic"])
@@ -121,14 +123,11 @@ def test_tree_plus_loops_equals_sparse_lu(source, tmp_path, monkeypatch):
     common, at_u, at_g = np.intersect1d(key_u, key_g, return_indices=True)
     assert common.size > 0.99 * key_g.size
     np.testing.assert_allclose(current_u[at_u], current_g[at_g], rtol=1e-3)
-    share_g = general.device_share[np.argsort(general.device_fault_bus.astype(np.int64) * 1_000_000
-                                              + general.device)]
+    share_g = _sorted_share(general)
     only_g = np.setdiff1d(np.arange(key_g.size), at_g)
     assert np.all(share_g[only_g] < 1e-3 + 1e-5)
-    direction_u = update.device_direction[np.argsort(update.device_fault_bus.astype(np.int64) * 1_000_000
-                                                     + update.device)][at_u]
-    direction_g = general.device_direction[np.argsort(general.device_fault_bus.astype(np.int64) * 1_000_000
-                                                      + general.device)][at_g]
+    direction_u = _directions(update)[at_u]
+    direction_g = _directions(general)[at_g]
     big = current_g[at_g] > 1e-2 * current_g.max()
     fault_bus, branch = _sorted_rows(general, net)
     big &= ~((net.branch_from[branch] == fault_bus) | (net.branch_to[branch] == fault_bus))[at_g]  # see above
