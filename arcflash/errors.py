@@ -6,6 +6,7 @@ exit status 2 without a traceback.
 
 from __future__ import annotations
 
+import reprlib
 from dataclasses import dataclass
 
 from .models.errors import ModelRangeError
@@ -25,8 +26,22 @@ class Problem:
 
     def __str__(self):
         where = f"{self.file}:{self.line}" if self.line else self.file
-        value = "" if self.value is _MISSING else f" = {self.value!r}"
+        value = "" if self.value is _MISSING else f" = {_short(self.value)}"
         return f"{where}: {self.field}{value}: expected {self.expected}"
+
+
+#: Longest value text printed in a problem [characters]; longer ones are cut with an ellipsis.
+VALUE_TEXT_LIMIT = 120
+
+
+_REPR = reprlib.Repr()
+_REPR.maxstring = _REPR.maxother = VALUE_TEXT_LIMIT
+_REPR.maxlevel, _REPR.maxlist, _REPR.maxdict = 3, 8, 8
+
+
+def _short(value):
+    text = _REPR.repr(value)
+    return text if len(text) <= VALUE_TEXT_LIMIT else text[: VALUE_TEXT_LIMIT - 3] + "..."
 
 
 class _Missing:

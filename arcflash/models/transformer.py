@@ -12,6 +12,15 @@ import numpy as np
 
 _SQRT3 = float(np.sqrt(3.0))
 
+#: Range of %Z a power or distribution transformer has, lowest to highest [%] (common practice: small dry-type
+#: units sit near 1-3 %, large power transformers up to about 20 %). A value outside it is a typing slip
+#: (0.0575 for 5.75) or a misread test, and is refused wherever a %Z is read.
+PLAUSIBLE_Z_PERCENT = (0.5, 25.0)
+
+#: Largest test current of a short-circuit test, as a multiple of rated current [-] (common practice: the
+#: impedance-voltage test of IEEE C57.12.90 circulates rated current; field tests use less).
+MAX_TEST_CURRENT_MULTIPLE = 1.2
+
 
 def rated_current_a(kva, kv, phases=3):
     """Rated (full-load) current.

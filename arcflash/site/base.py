@@ -4,6 +4,8 @@ from __future__ import annotations
 
 from pydantic import BaseModel, ConfigDict, ValidationInfo, field_validator
 
+from .slips import unit_slip
+
 
 class SiteModel(BaseModel):
     """Base of the site-data models.
@@ -12,7 +14,9 @@ class SiteModel(BaseModel):
     - ``inf`` and ``nan`` are refused where a number is read;
     - a YAML boolean (``yes``, ``no``, ``true``, ``on``, ``off`` unquoted) is refused where a number is read
       (it would be read as 1 or 0); in a field whose choices are 'on' and 'off' it is read as the word the
-      user wrote (YAML 1.1 turns unquoted ``on``/``off`` into booleans).
+      user wrote (YAML 1.1 turns unquoted ``on``/``off`` into booleans);
+    - a value plainly in the wrong unit (volts in a ``_kv`` field, inches in a ``_mm`` field) is refused with
+      the value likely meant (:mod:`.slips`).
     """
 
     model_config = ConfigDict(extra="forbid", str_strip_whitespace=True, allow_inf_nan=False)
@@ -30,3 +34,26 @@ class SiteModel(BaseModel):
         if "float" in annotation or "int" in annotation:
             raise ValueError("a number, not yes/no, true/false or on/off")
         return value
+
+    @field_validator("*", mode="after")
+    @classmethod
+    def _unit_slips(cls, value, info: ValidationInfo):
+        if isinstance(value, float):
+            name = "voltage_kv" if info.field_name == "kv" else info.field_name
+            why = unit_slip(name, value)
+            if why is not None:
+                raise ValueError(why)
+        return value
+
+
+def field_error(field, expected):
+    """A ValueError from a model check that the loader reports at ``field`` (a dotted path in the item).
+
+    Checks that involve several fields run on the whole model, so pydantic reports them at the model; this
+    names the field the user should mend, with its line and value.
+    """
+    return ValueError(f"{FIELD_MARK}{field}{FIELD_MARK} {expected}")
+
+
+#: Marks the field named at the start of a model check's message (see :func:`field_error`).
+FIELD_MARK = "\u00a7"

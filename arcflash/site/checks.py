@@ -15,6 +15,10 @@ from ..errors import Problem
 #: Relative mismatch allowed between a rated voltage and its bus's nominal kV.
 VOLTAGE_MATCH = 0.05
 
+#: Relative difference allowed between the voltage ratios of transformers that can run in parallel
+#: (IEEE C57.12.00's ratio tolerance of 0.5 %, from memory; the fault model has no circulating current).
+PARALLEL_RATIO_MATCH = 0.005
+
 _BUS_REFERENCES = {
     "utilities": ("bus",), "generators": ("bus",), "motors": ("bus",),
     "transformers": ("primary_bus", "secondary_bus"),
@@ -57,6 +61,7 @@ def cross_check(facility, elements, origin, invalid=frozenset()):
                 if bus not in buses and bus not in invalid:
                     problems.append(_at(origin, section, ident, name, bus, "the id of a bus in 'buses'"))
     problems += _voltage_checks(elements, origin)
+    problems += _parallel_transformer_checks(elements, origin)
     problems += _device_checks(elements, origin, invalid)
     problems += _protection_checks(elements, origin, invalid)
     problems += _scenario_checks(facility, elements, origin, invalid)
@@ -67,25 +72,59 @@ def cross_check(facility, elements, origin, invalid=frozenset()):
 
 def _island_checks(elements, origin):
     """Buses that no source can reach with every switch closed."""
-    parent = {bus: bus for bus in elements["buses"]}
-
-    def find(bus):
-        while parent[bus] != bus:
-            parent[bus] = parent[parent[bus]]
-            bus = parent[bus]
-        return bus
-
+    groups = _Groups()
     for section in _BRANCHES:
         for element in elements[section].values():
             a, b = ((element.primary_bus, element.secondary_bus) if section == "transformers"
                     else (element.from_bus, element.to_bus))
-            parent[find(a)] = find(b)
+            groups.join(a, b)
+    find = groups.find
     fed = {find(e.bus) for section in ("utilities", "generators") for e in elements[section].values()}
     return [
         _at(origin, "buses", bus, "id", bus,
             "a bus connected to a utility or generator: no source can reach it, even with every switch closed")
         for bus in elements["buses"] if find(bus) not in fed
     ]
+
+
+class _Groups:
+    """Union-find over bus ids."""
+
+    def __init__(self):
+        self.parent = {}
+
+    def find(self, bus):
+        self.parent.setdefault(bus, bus)
+        while self.parent[bus] != bus:
+            self.parent[bus] = self.parent[self.parent[bus]]
+            bus = self.parent[bus]
+        return bus
+
+    def join(self, a, b):
+        self.parent[self.find(a)] = self.find(b)
+
+
+def _parallel_transformer_checks(elements, origin):
+    """Transformers whose primaries and secondaries can be joined (any switch closed) share one ratio."""
+    groups = _Groups()
+    for section in ("cables", "impedances", "switches"):
+        for element in elements[section].values():
+            groups.join(element.from_bus, element.to_bus)
+    first = {}
+    problems = []
+    for ident, t in elements["transformers"].items():
+        key = (groups.find(t.primary_bus), groups.find(t.secondary_bus))
+        ratio = t.primary_kv / t.secondary_kv
+        if key not in first:
+            first[key] = (ident, t, ratio)
+            continue
+        other, o, other_ratio = first[key]
+        if abs(ratio - other_ratio) > PARALLEL_RATIO_MATCH * other_ratio:
+            problems.append(_at(origin, "transformers", ident, "secondary_kv", t.secondary_kv,
+                                f"the voltage ratio of {other} ({o.primary_kv:g}/{o.secondary_kv:g} kV), with which "
+                                f"it can run in parallel, within 0.5 % (this one is "
+                                f"{t.primary_kv:g}/{t.secondary_kv:g} kV)"))
+    return problems
 
 
 def _voltage_checks(elements, origin):
@@ -177,6 +216,7 @@ def _scenario_checks(facility, elements, origin, invalid):
         if both:
             problems.append(_at(origin, "scenarios", name, "open", sorted(both), "switches not also in 'close'"))
     if facility.default_scenario and facility.default_scenario not in elements["scenarios"]:
-        problems.append(Problem("(site)", None, "facility.default_scenario", facility.default_scenario,
+        file, line = origin.get(("facility", "default_scenario"), ("(site)", None))
+        problems.append(Problem(file, line, "facility.default_scenario", facility.default_scenario,
                                 f"one of the scenarios: {', '.join(elements['scenarios'])}"))
     return problems

@@ -16,6 +16,7 @@ from pydantic import ValidationError
 
 from ..errors import MISSING, Problem, SiteDataError
 from . import checks
+from .base import FIELD_MARK
 from .reading import LineMap, read_csv, read_yaml
 from .schema import SECTIONS, Facility, Scenario
 
@@ -73,15 +74,34 @@ def _expected(error, model):
     return message[:1].lower() + message[1:]
 
 
+def _at_path(item, path):
+    """(line, value) of ``path`` (keys) inside ``item``: the deepest line known, MISSING if absent."""
+    line = item.line if isinstance(item, LineMap) else None
+    value = item
+    for key in path:
+        if not isinstance(value, dict) or key not in value:
+            return line, MISSING
+        if isinstance(value, LineMap):
+            line = value.key_lines.get(key, line)
+        value = value[key]
+    return line, value
+
+
 def _validation_problems(exc, file, item, label, model):
     problems = []
     for error in exc.errors():
-        loc = error["loc"]
-        key = loc[0] if loc else None
-        line = item.key_lines.get(key, item.line) if isinstance(item, LineMap) else None
+        loc = tuple(error["loc"])
+        expected, value = _expected(error, model), error.get("input", MISSING)
+        if expected.startswith(FIELD_MARK):  # a model check naming its field: report it there
+            named, expected = expected[1:].split(FIELD_MARK, 1)
+            loc += tuple(named.split("."))
+            expected = expected.strip()
+            value = _at_path(item, loc)[1]
+        line = _at_path(item, [part for part in loc if isinstance(part, str)])[0]
+        if error["type"] == "missing" or not loc:
+            value = MISSING
         name = ".".join(str(part) for part in loc) if loc else "(item)"
-        value = MISSING if error["type"] == "missing" or not loc else error.get("input", MISSING)
-        problems.append(Problem(file, line, f"{label}.{name}", value, _expected(error, model)))
+        problems.append(Problem(file, line, f"{label}.{name}", value, expected))
     return problems
 
 
@@ -110,20 +130,26 @@ def _read_documents(files, problems):
             rows = read_csv(path, problems)
             items += [(path.name, section, row) for row in rows or []]
             continue
+        before = len(problems)
         document = read_yaml(path, problems)
         if document is None:
+            if len(problems) == before:
+                problems.append(Problem(path.name, 1, "file", MISSING, "site data (the file holds only comments)"))
             continue
         if not isinstance(document, dict):
-            problems.append(Problem(path.name, getattr(document, "line", 1), "document", type(document).__name__,
+            kind = "a list" if isinstance(document, list) else type(document).__name__
+            problems.append(Problem(path.name, getattr(document, "line", 1), "document", kind,
                                     "a mapping of sections (facility, buses, cables, ...)"))
             continue
         for section, content in document.items():
             line = document.key_lines.get(section)
             if section == "facility":
                 facilities.append((path.name, content))
+            elif section == TEMPLATES:
+                continue  # a place for YAML anchors (&name) that items merge in with <<: *name
             elif section not in SECTIONS:
                 problems.append(Problem(path.name, line, "section", section,
-                                        f"one of facility, {', '.join(SECTIONS)}"))
+                                        f"one of facility, {', '.join(SECTIONS)}, {TEMPLATES}"))
             elif not isinstance(content, list):
                 problems.append(Problem(path.name, line, section, content, "a list of items"))
             else:
@@ -131,13 +157,26 @@ def _read_documents(files, problems):
     return items, facilities
 
 
-def _read_libraries(folder, names, problems):
+def _facility_lines(facilities):
+    """(file, line) of each key of the facility section, and of each device-library entry."""
+    if not facilities:
+        return {}
+    file, content = facilities[0]
+    lines = {key: (file, line) for key, line in getattr(content, "key_lines", {}).items()}
+    libraries = content.get("device_library") if isinstance(content, dict) else None
+    for k, line in enumerate(getattr(libraries, "item_lines", [])):
+        lines[("device_library", k)] = (file, line)
+    return lines
+
+
+def _read_libraries(folder, names, problems, where):
     """Items of device-library files: only 'curves:' sections."""
     items = []
-    for name in names:
+    for k, name in enumerate(names):
         library = (folder / name).resolve()
         if not library.is_file():
-            problems.append(Problem("(site)", None, "facility.device_library", name,
+            file, line = where.get(("device_library", k), where.get("device_library", ("(site)", None)))
+            problems.append(Problem(file, line, "facility.device_library", name,
                                     f"an existing device-library file (looked for {library})"))
             continue
         found, facilities = _read_documents([library], problems)
@@ -170,6 +209,41 @@ def _validate_facility(facilities, problems, unreadable):
     return None
 
 
+class _Invalid(set):
+    """Ids of invalid items; once an invalid item has no usable id, any id may be it (``unnamed``)."""
+
+    unnamed = False
+
+    def __contains__(self, ident):
+        return self.unnamed or super().__contains__(ident)
+
+    def __bool__(self):
+        return self.unnamed or super().__len__() > 0
+
+
+#: Top-level YAML section that is not read: it holds anchors (``&lv-motor``) for merge keys (``<<: *lv-motor``).
+TEMPLATES = "templates"
+
+#: Fields of the problems that concern a whole file (listed first; the cross-checks wait for them).
+FILE_FIELDS = ("file", "YAML", "site", "sections")
+
+
+def _missing_sections(given, path):
+    """A site needs buses and a source; without them every reference would fail on its own line.
+
+    ``given`` holds the sections with at least one item (valid or not).
+    """
+    folder = path if path.is_dir() else path.parent
+    problems = []
+    if "buses" not in given:
+        problems.append(Problem(f"{folder.name or folder}/", None, "sections", "buses",
+                                "a 'buses:' section in a YAML file, or a buses.csv, with at least one bus"))
+    if "utilities" not in given and "generators" not in given:
+        problems.append(Problem(f"{folder.name or folder}/", None, "sections", "utilities",
+                                "a 'utilities:' (or 'generators:') section with at least one source"))
+    return problems
+
+
 def load_site(path):
     """Read, validate and cross-check a facility folder.
 
@@ -192,15 +266,17 @@ def load_site(path):
     problems = []
     items, facilities = _read_documents(files, problems)
     facility = _validate_facility(facilities, problems, unreadable=bool(problems))
+    where = _facility_lines(facilities)
     if facility is not None and facility.device_library:
         items += _read_libraries(Path(path) if Path(path).is_dir() else Path(path).parent,
-                                 facility.device_library, problems)
+                                 facility.device_library, problems, where)
     elements = {section: {} for section in SECTIONS}
-    origin = {}
-    invalid = set()  # ids of items already reported invalid: references to them are not reported again
+    origin = {("facility", key): at for key, at in where.items() if isinstance(key, str)}
+    invalid = _Invalid()  # ids of items already reported invalid: references to them are not reported again
     for file, section, item in items:
         key = "name" if section == "scenarios" else "id"
         ident = item.get(key, "?") if isinstance(item, dict) else "?"
+        ident = ident if isinstance(ident, (str, int, float)) else "?"
         label = f"{section}[{ident}]"
         if not isinstance(item, dict):
             problems.append(Problem(file, None, label, item, "a mapping of fields"))
@@ -210,6 +286,7 @@ def load_site(path):
         except ValidationError as exc:
             problems += _validation_problems(exc, file, item, label, SECTIONS[section])
             invalid.add(ident)
+            invalid.unnamed |= ident in ("?", "") or not isinstance(item.get(key), str)
             continue
         ident = getattr(element, key)
         where = (file, item.line if isinstance(item, LineMap) else None)
@@ -223,8 +300,15 @@ def load_site(path):
     if not elements["scenarios"]:
         elements["scenarios"] = {NORMAL.name: NORMAL}
         origin[("scenarios", NORMAL.name)] = ("(built in)", None)
-    if facility is not None:
+    unreadable = any(p.field in FILE_FIELDS for p in problems)
+    if not unreadable:
+        missing = _missing_sections({section for _, section, _ in items}, Path(path))
+        problems += missing
+        unreadable = bool(missing)
+    if facility is not None and not unreadable:
+        # With a file unreadable or a required section missing, references into it would all be reported
+        # again: the cross-checks wait until the files are mended.
         problems += checks.cross_check(facility, elements, origin, invalid)
     if problems:
-        raise SiteDataError(problems)
+        raise SiteDataError(sorted(problems, key=lambda p: p.field not in FILE_FIELDS))
     return Site(path=Path(path), facility=facility, origin=origin, **elements)

@@ -11,9 +11,9 @@ from __future__ import annotations
 
 from typing import Annotated, Literal
 
-from pydantic import Field, model_validator
+from pydantic import Field, ValidationError, model_validator
 
-from .base import SiteModel
+from .base import FIELD_MARK, SiteModel, field_error
 from ..models.curves import BREAKER_OPENING_CYCLES, IEC_60255_151, IEEE_C37_112, PointCurve
 
 Positive = Annotated[float, Field(gt=0)]
@@ -49,6 +49,8 @@ class RelayIn(_Settings):
         table = IEEE_C37_112 if self.standard == "IEEE C37.112" else IEC_60255_151
         if self.curve not in table:
             raise ValueError(f"a curve of {self.standard}: {', '.join(table)} (got {self.curve!r})")
+        if self.instantaneous_a is not None and self.instantaneous_a <= self.pickup_a:
+            raise field_error("instantaneous_a", f"a setting above the inverse-time pickup_a = {self.pickup_a:g} A")
         return self
 
 
@@ -67,6 +69,16 @@ class TripUnitIn(_Settings):
     time_tolerance: Fraction = 0.15
     breaker_cycles: Positive = BREAKER_OPENING_CYCLES["low-voltage power"]
 
+    @model_validator(mode="after")
+    def _pickups_in_order(self):
+        if self.short_time_pickup is not None and self.short_time_pickup < 1.0:
+            raise field_error("short_time_pickup", "at least 1 (a multiple of the long-time pickup, "
+                                                   "which the short-time pickup cannot be below)")
+        if self.instantaneous_pickup is not None and self.instantaneous_pickup < self.long_time_pickup:
+            raise field_error("instantaneous_pickup", f"at least the long_time_pickup = {self.long_time_pickup:g} "
+                                                      "(both are multiples of rating_a)")
+        return self
+
 
 class CurveIn(_Settings):
     """A digitised time-current band of a thermal-magnetic breaker or fuse (device library)."""
@@ -84,7 +96,10 @@ class CurveIn(_Settings):
 
     @model_validator(mode="after")
     def _valid_curve(self):
-        self.to_model()
+        try:
+            self.to_model()
+        except ValueError as exc:
+            raise ValueError(str(exc).split(": expected ", 1)[-1]) from None
         return self
 
     def to_model(self):
@@ -121,5 +136,14 @@ def check_device_settings(device):
         if needed == "curve":
             raise ValueError("maintenance settings only on relays and trip units (a fuse or fixed curve has none)")
         base = getattr(device, needed)
-        type(base).model_validate({**base.model_dump(), **device.maintenance})
+        try:
+            type(base).model_validate({**base.model_dump(), **device.maintenance})
+        except ValidationError as exc:
+            error = exc.errors()[0]
+            text = error["msg"].removeprefix("Value error, ")
+            if text.startswith(FIELD_MARK):
+                name, text = text[1:].split(FIELD_MARK, 1)
+            else:
+                name = ".".join(str(part) for part in error["loc"])
+            raise field_error(f"maintenance.{name}", text.strip()[:1].lower() + text.strip()[1:]) from None
     return device

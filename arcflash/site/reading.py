@@ -9,11 +9,20 @@ sequences as :class:`LineList`.
 from __future__ import annotations
 
 import csv
+import io
 from pathlib import Path
 
 import yaml
 
 from ..errors import MISSING, Problem
+
+#: Largest site-data file read [bytes]. A 10,000-bus site needs a few MB; a larger file is almost surely
+#: not site data, and reading it would take minutes.
+MAX_FILE_BYTES = 20 * 1024 * 1024
+
+#: Most values that YAML aliases (``*name``) may add to a document beyond those written out. Aliases share
+#: one object, so a few lines can stand for billions of values (an 'alias bomb'); legitimate use adds few.
+MAX_ALIAS_VALUES = 100_000
 
 
 class LineMap(dict):
@@ -44,15 +53,28 @@ class _LineLoader(_SAFE_BASE):
     """Safe YAML loader that records lines and rejects duplicate keys."""
 
 
+_MERGE_TAG = "tag:yaml.org,2002:merge"
+
+
 def _mapping(loader, node):
+    """A LineMap; merge keys (``<<: *defaults``) give defaults that the mapping's own keys override."""
+    own = [(k, v) for k, v in node.value if k.tag != _MERGE_TAG]
+    loader.flatten_mapping(node)
+    merged = node.value[: len(node.value) - len(own)]
     result = LineMap()
     result.line = node.start_mark.line + 1
-    for key_node, value_node in node.value:
+    for key_node, value_node in merged:
         key = loader.construct_object(key_node, deep=True)
-        if key in result:
+        result[key] = loader.construct_object(value_node, deep=True)
+        result.key_lines[key] = key_node.start_mark.line + 1
+    seen = set()
+    for key_node, value_node in own:
+        key = loader.construct_object(key_node, deep=True)
+        if key in seen:
             raise yaml.constructor.ConstructorError(
                 None, None, f"duplicate key {key!r}", key_node.start_mark
             )
+        seen.add(key)
         result[key] = loader.construct_object(value_node, deep=True)
         result.key_lines[key] = key_node.start_mark.line + 1
     return result
@@ -72,20 +94,95 @@ _LineLoader.add_constructor(yaml.resolver.BaseResolver.DEFAULT_SEQUENCE_TAG, _se
 _LineLoader.add_constructor("tag:yaml.org,2002:timestamp", lambda loader, node: loader.construct_scalar(node))
 
 
+def read_text(path, problems, encoding="utf-8"):
+    """The text of a site-data file, or None with a problem noted.
+
+    Refused, each with the file and (where there is one) the line: a file larger than
+    :data:`MAX_FILE_BYTES`; an empty file; bytes that are not UTF-8 (the line of the first one).
+    """
+    path = Path(path)
+    try:
+        size = path.stat().st_size
+        if size > MAX_FILE_BYTES:
+            problems.append(Problem(path.name, None, "file", f"{size / 1e6:.1f} MB",
+                                    f"a site-data file of at most {MAX_FILE_BYTES // (1024 * 1024)} MB"))
+            return None
+        data = path.read_bytes()
+    except OSError as exc:
+        problems.append(Problem(path.name, None, "file", MISSING, f"a readable file ({exc.strerror or exc})"))
+        return None
+    try:
+        text = data.decode(encoding)
+    except UnicodeDecodeError as exc:
+        line = data.count(b"\n", 0, exc.start) + 1
+        problems.append(Problem(path.name, line, "file", MISSING,
+                                f"UTF-8 text (byte 0x{data[exc.start]:02x} on this line is not UTF-8: "
+                                "save the file as UTF-8)"))
+        return None
+    if not text.strip().lstrip("\ufeff").strip():
+        problems.append(Problem(path.name, 1, "file", MISSING, "site data (the file is empty)"))
+        return None
+    return text
+
+
+def _values_with_aliases_expanded(document, limit):
+    """Number of values in ``document`` counting each alias as a copy; stops once above ``limit``."""
+    sizes = {}
+
+    def size(value):
+        if not isinstance(value, (dict, list)):
+            return 1
+        key = id(value)
+        if key not in sizes:
+            sizes[key] = 0  # a recursive alias counts as one value
+            children = value.values() if isinstance(value, dict) else value
+            total = 1
+            for child in children:
+                total += size(child)
+                if total > limit:
+                    break
+            sizes[key] = total
+        return sizes[key]
+
+    return size(document)
+
+
+def _written_values(document):
+    """Number of distinct values (each shared object once)."""
+    seen, stack, count = set(), [document], 0
+    while stack:
+        value = stack.pop()
+        count += 1
+        if isinstance(value, (dict, list)) and id(value) not in seen:
+            seen.add(id(value))
+            stack.extend(value.values() if isinstance(value, dict) else value)
+    return count
+
+
 def read_yaml(path, problems):
     """The document of a YAML file, or None (with a problem noted) if unreadable."""
     path = Path(path)
+    text = read_text(path, problems)
+    if text is None:
+        return None
     try:
-        with open(path, encoding="utf-8") as handle:
-            return yaml.load(handle, Loader=_LineLoader)  # noqa: S506 - _LineLoader is a SafeLoader
+        document = yaml.load(text, Loader=_LineLoader)  # noqa: S506 - _LineLoader is a SafeLoader
     except yaml.YAMLError as exc:
         mark = getattr(exc, "problem_mark", None)
         line = mark.line + 1 if mark is not None else None
         reason = getattr(exc, "problem", None) or str(exc)
         problems.append(Problem(path.name, line, "YAML", MISSING, f"valid YAML ({reason})"))
-    except (OSError, UnicodeDecodeError) as exc:
-        problems.append(Problem(path.name, None, "file", MISSING, f"a readable UTF-8 file ({exc})"))
-    return None
+        return None
+    except RecursionError:
+        problems.append(Problem(path.name, None, "YAML", MISSING, "YAML nested less deeply"))
+        return None
+    written = _written_values(document)
+    if _values_with_aliases_expanded(document, written + MAX_ALIAS_VALUES) > written + MAX_ALIAS_VALUES:
+        problems.append(Problem(path.name, None, "YAML", MISSING,
+                                f"aliases (*name) that add at most {MAX_ALIAS_VALUES:,} values to the document "
+                                "(these expand to more: an alias bomb?)"))
+        return None
+    return document
 
 
 def read_csv(path, problems):
@@ -96,29 +193,30 @@ def read_csv(path, problems):
     second value or the extra cell would otherwise be lost without a word).
     """
     path = Path(path)
+    text = read_text(path, problems, encoding="utf-8-sig")
+    if text is None:
+        return None
+    reader = csv.DictReader(io.StringIO(text, newline=""))
     try:
-        with open(path, encoding="utf-8-sig", newline="") as handle:
-            reader = csv.DictReader(handle)
-            header = [name.strip() for name in (reader.fieldnames or [])]
-            seen = set()
-            for name in header:
-                if name and name in seen:
-                    problems.append(Problem(path.name, 1, "header", name, "each column named once"))
-                seen.add(name)
-            rows = LineList()
-            rows.line = 1
-            for row in reader:
-                number = reader.line_num  # the row's last line (a quoted cell may span lines)
-                if None in row:
-                    problems.append(Problem(path.name, number, "row", row[None],
-                                            f"at most {len(header)} cells, as the header has"))
-                item = LineMap({k.strip(): v.strip() for k, v in row.items() if k and v is not None and v.strip()})
-                item.line = number
-                item.key_lines = {k: number for k in item}
-                rows.append(item)
-                rows.item_lines.append(number)
-            return rows
-    except (OSError, UnicodeDecodeError, csv.Error) as exc:
-        problems.append(Problem(path.name, None, "file", MISSING, f"a readable CSV file ({exc})"))
-    return None
-
+        header = [name.strip() for name in (reader.fieldnames or [])]
+        seen = set()
+        for name in header:
+            if name and name in seen:
+                problems.append(Problem(path.name, 1, "header", name, "each column named once"))
+            seen.add(name)
+        rows = LineList()
+        rows.line = 1
+        for row in reader:
+            number = reader.line_num  # the row's last line (a quoted cell may span lines)
+            if None in row:
+                problems.append(Problem(path.name, number, "row", row[None],
+                                        f"at most {len(header)} cells, as the header has"))
+            item = LineMap({k.strip(): v.strip() for k, v in row.items() if k and v is not None and v.strip()})
+            item.line = number
+            item.key_lines = {k: number for k in item}
+            rows.append(item)
+            rows.item_lines.append(number)
+    except csv.Error as exc:
+        problems.append(Problem(path.name, reader.line_num, "file", MISSING, f"a readable CSV file ({exc})"))
+        return None
+    return rows

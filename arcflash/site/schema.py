@@ -18,7 +18,10 @@ from pydantic import AfterValidator, Field, field_validator, model_validator
 
 from ..models.conductors import CONDUITS, MATERIALS, SIZES, normalize_size
 from ..models.ieee1584_tables import CONFIGURATIONS, EQUIPMENT_CLASSES
-from .base import SiteModel
+from ..models.transformer import MAX_TEST_CURRENT_MULTIPLE, PLAUSIBLE_Z_PERCENT, percent_impedance_from_test
+from ..models.transformer import rated_current_a
+from .base import SiteModel, field_error
+from .slips import unit_slip
 from .protection import CurveIn, RelayIn, TripUnitIn, check_device_settings
 
 Positive = Annotated[float, Field(gt=0)]
@@ -56,18 +59,28 @@ def parse_quantity(text, kind):
     if value <= 0:
         raise ValueError("a positive value")
     canonical, factor = accepted[unit]
+    if canonical == "kA" and (why := unit_slip("fault_ka", value * factor)) is not None:
+        raise ValueError(why)
     return value * factor, canonical
 
 
 _EXAMPLES = {"length": "150 ft", "fault": "25 kA", "motor": "200 hp"}
 
 
-def _quantity_of(kind):
-    """A string field that must parse as a quantity of ``kind``."""
+class Quantity(str):
+    """A quantity as written ('650 ft'), parsed once: ``value`` in the canonical ``unit`` of its kind."""
 
-    def check(value):
-        parse_quantity(value, kind)
-        return value
+    value: float
+    unit: str
+
+
+def _quantity_of(kind):
+    """A string field that must parse as a quantity of ``kind``; it becomes a :class:`Quantity`."""
+
+    def check(text):
+        quantity = Quantity(text)
+        quantity.value, quantity.unit = parse_quantity(text, kind)
+        return quantity
 
     return Annotated[str, AfterValidator(check)]
 
@@ -79,6 +92,17 @@ MotorSize = _quantity_of("motor")
 
 class _Element(SiteModel):
     pass
+
+
+class _Branch(_Element):
+    """A series element between two buses."""
+
+    @model_validator(mode="after")
+    def _two_buses(self):
+        ends = ("primary_bus", "secondary_bus") if hasattr(self, "primary_bus") else ("from_bus", "to_bus")
+        if getattr(self, ends[0]) == getattr(self, ends[1]):
+            raise field_error(ends[1], f"a bus other than {ends[0]} ({getattr(self, ends[0])}): a branch joins two buses")
+        return self
 
 
 class Facility(_Element):
@@ -127,7 +151,7 @@ class Bus(_Element):
 
     id: Identifier
     description: str = ""
-    nominal_kv: Annotated[float, Field(gt=0, le=50)]
+    nominal_kv: Positive = Field(description="Nominal line-to-line voltage [kV], at most 50 kV.")
     equipment_class: str | None = Field(None, description="Typical values: " + ", ".join(EQUIPMENT_CLASSES))
     config: Literal[CONFIGURATIONS] | None = None  # type: ignore[valid-type]
     gap_mm: Positive | None = None
@@ -157,6 +181,10 @@ class SourceLevel(_Element):
     fault: FaultQuantity = Field(description="Available fault current or power, e.g. '25 kA' or '500 MVA'.")
     x_over_r: Positive
 
+    def fault_mva(self, kv):
+        """Three-phase fault power at ``kv`` [MVA] (S = √3 kV I for a current)."""
+        return self.fault.value if self.fault.unit == "MVA" else math.sqrt(3.0) * kv * self.fault.value
+
 
 class Utility(_Element):
     """Utility source, maximum and minimum available fault current."""
@@ -167,6 +195,17 @@ class Utility(_Element):
     max: SourceLevel
     min: SourceLevel
     in_service: bool = True
+
+    @model_validator(mode="after")
+    def _minimum_below_maximum(self):
+        if self.min.fault_mva(self.kv) > self.max.fault_mva(self.kv) * (1.0 + 1e-9):
+            raise field_error("min.fault", f"at most the maximum level, max.fault = {self.max.fault} "
+                                           "(are the two swapped?)")
+        return self
+
+    def fault_mva(self, level):
+        """Fault power at the stated voltage, at level 'max' or 'min' [MVA]."""
+        return getattr(self, level).fault_mva(self.kv)
 
 
 class Generator(_Element):
@@ -192,6 +231,11 @@ class Motor(_Element):
     x_over_r: Positive = 10.0
     contributes: bool = True
 
+    @property
+    def kva(self):
+        """Rating [kVA] (1 hp taken as 1 kVA, common practice)."""
+        return self.size.value
+
 
 class ImpedanceTest(_Element):
     """Short-circuit (impedance-voltage) test readings of a transformer."""
@@ -200,7 +244,7 @@ class ImpedanceTest(_Element):
     measured_a: Positive | None = Field(None, description="Test current, if not rated current [A].")
 
 
-class Transformer(_Element):
+class Transformer(_Branch):
     """Two-winding transformer."""
 
     id: Identifier
@@ -209,7 +253,9 @@ class Transformer(_Element):
     kva: Positive
     primary_kv: Positive
     secondary_kv: Positive
-    z_percent: Annotated[float, Field(gt=0, le=50)] | None = None
+    z_percent: float | None = Field(
+        None, description=f"Nameplate %Z; {PLAUSIBLE_Z_PERCENT[0]:g}-{PLAUSIBLE_Z_PERCENT[1]:g} % (a typing slip "
+                          "such as 0.0575 for 5.75 is refused).")
     test: ImpedanceTest | None = None
     x_over_r: Positive
     z_tolerance_percent: Annotated[float, Field(ge=0, lt=50)] = 7.5
@@ -219,10 +265,49 @@ class Transformer(_Element):
     def _one_impedance(self):
         if (self.z_percent is None) == (self.test is None):
             raise ValueError("either z_percent or test readings (not both)")
+        if self.test is not None:
+            self._plausible_test()
         return self
 
+    @field_validator("z_percent")
+    @classmethod
+    def _plausible_z(cls, value):
+        low, high = PLAUSIBLE_Z_PERCENT
+        if value is not None and not low <= value <= high:
+            hint = f" ({value:g} looks like a fraction: {value * 100:g} %?)" if low <= value * 100 <= high else ""
+            raise ValueError(f"a %Z of {low:g}-{high:g} %, as transformers have{hint}")
+        return value
 
-class Cable(_Element):
+    @property
+    def rated_primary_a(self):
+        """Rated primary current [A]."""
+        return float(rated_current_a(self.kva, self.primary_kv))
+
+    @property
+    def z_percent_used(self):
+        """Nameplate %Z, or %Z derived from the test readings [%]."""
+        if self.z_percent is not None:
+            return self.z_percent
+        measured = self.test.measured_a if self.test.measured_a is not None else self.rated_primary_a
+        return float(percent_impedance_from_test(self.test.applied_v, self.primary_kv * 1000.0, measured,
+                                                 self.rated_primary_a))
+
+    def _plausible_test(self):
+        rated_v, rated_a = self.primary_kv * 1000.0, self.rated_primary_a
+        if self.test.applied_v >= rated_v:
+            raise field_error("test.applied_v", f"a test voltage below the rated primary voltage, {rated_v:g} V")
+        measured = self.test.measured_a
+        if measured is not None and measured > MAX_TEST_CURRENT_MULTIPLE * rated_a:
+            raise field_error("test.measured_a", f"a test current of at most {MAX_TEST_CURRENT_MULTIPLE:g} x the "
+                                                 f"rated primary current, {rated_a:.1f} A")
+        low, high = PLAUSIBLE_Z_PERCENT
+        derived = self.z_percent_used
+        if not low <= derived <= high:
+            raise field_error("test", f"readings that give a %Z of {low:g}-{high:g} % (they give {derived:.3g} %: "
+                                      "check applied_v, measured_a and kva)")
+
+
+class Cable(_Branch):
     """Cable run: NEC Chapter 9 Table 9 conductor or explicit impedance per length."""
 
     id: Identifier
@@ -235,6 +320,11 @@ class Cable(_Element):
     conduit: Literal[CONDUITS] | None = None  # type: ignore[valid-type]
     r_ohm_per_kft: NonNegative | None = None
     x_ohm_per_kft: NonNegative | None = None
+
+    @property
+    def length_ft(self):
+        """Route length [ft]."""
+        return self.length.value
 
     @field_validator("size")
     @classmethod
@@ -265,7 +355,7 @@ class Cable(_Element):
         raise ValueError("size, material and conduit (NEC Chapter 9 Table 9), or r_ohm_per_kft and x_ohm_per_kft")
 
 
-class Impedance(_Element):
+class Impedance(_Branch):
     """Busway or other series branch with explicit impedance per phase."""
 
     id: Identifier
@@ -282,7 +372,7 @@ class Impedance(_Element):
         return self
 
 
-class Switch(_Element):
+class Switch(_Branch):
     """Switch, breaker or tie between two buses of the same voltage."""
 
     id: Identifier

@@ -12,6 +12,7 @@ from ..models import ieee1584
 from ..models.ieee1584_tables import ENCLOSED_CONFIGURATIONS, EQUIPMENT_CLASSES
 from ..models.units import j_cm2_to_cal_cm2
 from ..output.cautions import CAUTION
+from ..site.slips import check_unit_slips
 
 METHOD = "IEEE 1584-2018"
 
@@ -100,6 +101,9 @@ def assess_equipment(voltage_kv, bolted_ka, clearing_time_s, reduced_clearing_ti
         JSON-ready record: method, inputs, full_case, reduced_case, governing,
         enclosure_correction, flags, notes, caution.
     """
+    check_unit_slips(voltage_kv=voltage_kv, bolted_ka=bolted_ka, gap_mm=gap_mm,
+                     working_distance_mm=working_distance_mm, height_mm=height_mm, width_mm=width_mm,
+                     depth_mm=depth_mm)
     eq = resolve_equipment(equipment_class, config, gap_mm, working_distance_mm, height_mm, width_mm, depth_mm)
     notes = []
     if reduced_clearing_time_s is None:

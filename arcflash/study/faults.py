@@ -28,12 +28,10 @@ import pandas as pd
 
 from ..models.conductors import cable_impedance_ohm
 from ..models.network import solve_faults
-from ..models.transformer import apply_tolerance, percent_impedance_from_test, rated_current_a
-from ..site.schema import parse_quantity
+from ..models.transformer import apply_tolerance
 
 #: Impedance of a closed switch [pu].
 SWITCH_Z_PU = 1e-6j
-_SQRT3 = float(np.sqrt(3.0))
 
 
 @dataclass(frozen=True)
@@ -69,16 +67,6 @@ def _from_z(z_pu, x_over_r):
     return complex(r, r * x_over_r)
 
 
-def transformer_z_percent(transformer):
-    """Nameplate %Z, or %Z from the short-circuit test readings [%]."""
-    if transformer.z_percent is not None:
-        return transformer.z_percent
-    test = transformer.test
-    rated_a = float(rated_current_a(transformer.kva, transformer.primary_kv))
-    measured = test.measured_a if test.measured_a is not None else rated_a
-    return float(percent_impedance_from_test(test.applied_v, transformer.primary_kv * 1000.0, measured, rated_a))
-
-
 def build_network(site, scenario):
     """The per-unit arrays of ``site`` in ``scenario`` (a Scenario object)."""
     s_base = site.facility.s_base_mva
@@ -92,12 +80,12 @@ def build_network(site, scenario):
     branches = []  # (id, from, to, z_pu)
     side = scenario.transformer_z or ("low" if scenario.utility == "max" else "high")
     for ident, t in site.transformers.items():
-        z_percent = float(apply_tolerance(transformer_z_percent(t), t.z_tolerance_percent, side))
+        z_percent = float(apply_tolerance(t.z_percent_used, t.z_tolerance_percent, side))
         ratio = t.secondary_kv / site.buses[t.secondary_bus].nominal_kv
         z = z_percent / 100.0 * s_base / (t.kva / 1000.0) * ratio**2
         branches.append((ident, t.primary_bus, t.secondary_bus, _from_z(z, t.x_over_r)))
     for ident, c in site.cables.items():
-        length_ft, _ = parse_quantity(c.length, "length")
+        length_ft = c.length_ft
         if c.size is not None:
             z_ohm = cable_impedance_ohm(c.size, c.material, c.conduit, length_ft, c.sets)
         else:
@@ -114,9 +102,8 @@ def build_network(site, scenario):
     for ident, u in site.utilities.items():
         if not u.in_service or ident in scenario.utilities_off:
             continue
-        level = u.max if scenario.utility == "max" else u.min
-        value, unit = parse_quantity(level.fault, "fault")
-        s_sc = value if unit == "MVA" else _SQRT3 * u.kv * value
+        level = getattr(u, scenario.utility)
+        s_sc = u.fault_mva(scenario.utility)
         z = s_base / s_sc * (u.kv / site.buses[u.bus].nominal_kv) ** 2
         shunts.append((ident, u.bus, _from_z(z, level.x_over_r)))
         sources.append((ident, u.bus))
@@ -130,8 +117,7 @@ def build_network(site, scenario):
     if scenario.motors == "on":
         for ident, m in site.motors.items():
             if m.contributes and ident not in scenario.motors_off:
-                kva, _ = parse_quantity(m.size, "motor")  # hp taken as kVA
-                x = m.subtransient_reactance_percent / 100.0 * s_base / (kva / 1000.0)
+                x = m.subtransient_reactance_percent / 100.0 * s_base / (m.kva / 1000.0)  # hp taken as kVA
                 x *= (m.kv / site.buses[m.bus].nominal_kv) ** 2
                 shunts.append((ident, m.bus, _from_x(x, m.x_over_r)))
 

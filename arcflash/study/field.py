@@ -15,9 +15,18 @@ from pathlib import Path
 
 import yaml
 
-from ..models.transformer import infinite_bus_fault_ka, percent_impedance_from_test, rated_current_a
+from ..models.transformer import PLAUSIBLE_Z_PERCENT, infinite_bus_fault_ka, percent_impedance_from_test
+from ..models.transformer import rated_current_a
 from ..models.transformer import resistance_at_temperature
 from ..site.loader import load_site
+from ..site.slips import check_unit_slips
+
+_Z_RANGE = f"{PLAUSIBLE_Z_PERCENT[0]:g}-{PLAUSIBLE_Z_PERCENT[1]:g} %"
+
+
+def _plausible(z_percent):
+    return PLAUSIBLE_Z_PERCENT[0] <= z_percent <= PLAUSIBLE_Z_PERCENT[1]
+
 
 #: Stand-in for an infinite utility: a fault level so large that its impedance is negligible [MVA].
 INFINITE_SOURCE_MVA = 1.0e7
@@ -74,8 +83,8 @@ def transformer_from_test(kva, primary_kv, secondary_kv, applied_v, measured_a=N
             raise ValueError("r_percent: expected the resistive part, below %Z, with measured_temp_c given")
         r_ref = float(resistance_at_temperature(r_percent, measured_temp_c, reference_temp_c, conductor))
         z = math.sqrt(z_measured**2 - r_percent**2 + r_ref**2)
-    if not 0.5 <= z <= 25.0:
-        raise ValueError(f"%Z from the test readings is {z:.2f} %: expected 0.5-25 % (check the readings)")
+    if not _plausible(z):
+        raise ValueError(f"%Z from the test readings is {z:.2f} %: expected {_Z_RANGE} (check the readings)")
     return {
         "z_percent": z,
         "z_percent_measured": z_measured,
@@ -101,8 +110,10 @@ def quick_site(folder, kva, primary_kv, secondary_kv, z_percent, x_over_r, z_tol
     tuple
         (site, notes): the loaded site and the conservative choices made.
     """
-    if not 0.5 <= z_percent <= 25.0:
-        raise ValueError(f"z_percent: expected 0.5-25 %, got {z_percent!r}")
+    if not _plausible(z_percent):
+        raise ValueError(f"z_percent: expected {_Z_RANGE}, got {z_percent!r}")
+    check_unit_slips(primary_kv=primary_kv, secondary_kv=secondary_kv, utility_ka=utility_ka,
+                     **{k: v for k, v in (equipment or {}).items() if k.endswith("_mm")})
     notes = []
     folder = Path(folder)
     folder.mkdir(parents=True, exist_ok=True)
@@ -135,7 +146,7 @@ def quick_site(folder, kva, primary_kv, secondary_kv, z_percent, x_over_r, z_tol
     doc["buses"] = buses
     if curve is not None:
         if library is None:
-            raise ValueError("curve: give the device-library file that holds it (library)")
+            raise ValueError(f"library: the device-library file that holds curve {curve!r}")
         kinds = {c.get("id"): c.get("kind") for c in (yaml.safe_load(Path(library).read_text()) or {}).get("curves", [])}
         if curve not in kinds:
             raise ValueError(f"curve: {curve!r} is not in {library}; it has {', '.join(map(str, kinds)) or 'none'}")
