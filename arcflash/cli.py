@@ -7,6 +7,8 @@ import sys
 
 import click
 
+from .cli_options import NON_NEGATIVE, POSITIVE, QUICK_FIELDS, SIGNED, in_option_words, quick_problem_words
+from .cli_options import refuse_alone, refuse_conflicts
 from .errors import SiteDataError
 from .models.errors import ModelRangeError
 from .output.cautions import CAUTION
@@ -33,21 +35,21 @@ def main():
 
 
 @main.command("equipment")
-@click.option("--voltage-kv", type=float, required=True, help="Nominal system voltage, line to line [kV].")
-@click.option("--bolted-ka", type=float, required=True, help="Bolted three-phase fault current [kA].")
-@click.option("--clearing-time-s", type=float, required=True,
+@click.option("--voltage-kv", type=POSITIVE, required=True, help="Nominal system voltage, line to line [kV].")
+@click.option("--bolted-ka", type=POSITIVE, required=True, help="Bolted three-phase fault current [kA].")
+@click.option("--clearing-time-s", type=POSITIVE, required=True,
               help="Arc duration at the full arcing current, from the protective device [s].")
-@click.option("--reduced-clearing-time-s", type=float, default=None,
+@click.option("--reduced-clearing-time-s", type=POSITIVE, default=None,
               help="Arc duration at the reduced arcing current [s]; default: the full-current time.")
 @click.option("--class", "equipment_class", type=click.Choice(sorted(EQUIPMENT_CLASSES)), default=None,
               help="Equipment class supplying typical gap, distance, enclosure and configuration.")
 @click.option("--config", type=click.Choice(CONFIGURATIONS, case_sensitive=False), default=None,
               help="Electrode configuration (overrides the class).")
-@click.option("--gap-mm", type=float, default=None, help="Gap between conductors [mm].")
-@click.option("--working-distance-mm", type=float, default=None, help="Working distance [mm].")
-@click.option("--height-mm", type=float, default=None, help="Enclosure height [mm].")
-@click.option("--width-mm", type=float, default=None, help="Enclosure width [mm].")
-@click.option("--depth-mm", type=float, default=None, help="Enclosure depth [mm].")
+@click.option("--gap-mm", type=POSITIVE, default=None, help="Gap between conductors [mm].")
+@click.option("--working-distance-mm", type=POSITIVE, default=None, help="Working distance [mm].")
+@click.option("--height-mm", type=POSITIVE, default=None, help="Enclosure height [mm].")
+@click.option("--width-mm", type=POSITIVE, default=None, help="Enclosure width [mm].")
+@click.option("--depth-mm", type=POSITIVE, default=None, help="Enclosure depth [mm].")
 @click.option("--strict", is_flag=True, help="Refuse inputs outside the range of the model instead of flagging.")
 @click.option("--json", "as_json", is_flag=True, help="Print the result as JSON.")
 def equipment(voltage_kv, bolted_ka, clearing_time_s, reduced_clearing_time_s, equipment_class, config,
@@ -61,7 +63,7 @@ def equipment(voltage_kv, bolted_ka, clearing_time_s, reduced_clearing_time_s, e
             depth_mm=depth_mm, strict=strict,
         )
     except (ValueError, ModelRangeError) as exc:
-        raise click.UsageError(str(exc)) from None
+        raise click.UsageError(in_option_words(str(exc), click.get_current_context())) from None
     if as_json:
         click.echo(json.dumps(record, indent=2))
     else:
@@ -104,7 +106,7 @@ def faults(site_dir, scenario, csv_path, devices_csv):
 @click.argument("site_dir", type=click.Path(file_okay=True, dir_okay=True))
 @click.argument("bus")
 @click.option("--scenario", default=None, help="Scenario name (default: the site's default scenario).")
-@click.option("--kv", "reference_kv", type=float, default=None, help="Refer currents to this kV (default: the bus's).")
+@click.option("--kv", "reference_kv", type=POSITIVE, default=None, help="Refer currents to this kV (default: the bus's).")
 @click.option("--out", type=click.Path(dir_okay=False), required=True, help="Output file: .png, .svg or .pdf.")
 def tcc(site_dir, bus, scenario, reference_kv, out):
     """Time-current plot of the devices protecting BUS, with its fault currents marked."""
@@ -234,25 +236,26 @@ def labels_status(site_dir):
 
 
 @main.command("transformer-test")
-@click.option("--kva", type=float, required=True, help="Transformer rating [kVA].")
-@click.option("--primary-kv", type=float, required=True, help="Rated primary voltage [kV].")
-@click.option("--secondary-kv", type=float, required=True, help="Rated secondary voltage [kV].")
-@click.option("--applied-v", type=float, required=True, help="Primary voltage applied in the short-circuit test [V].")
-@click.option("--measured-a", type=float, default=None, help="Primary current reached in the test [A]; default rated.")
-@click.option("--r-percent", type=float, default=None, help="Resistive part of %Z at the test temperature [%].")
-@click.option("--measured-temp-c", type=float, default=None, help="Winding temperature during the test [C].")
-@click.option("--reference-temp-c", type=float, default=85.0, help="Reference temperature [C] (default 85).")
+@click.option("--kva", type=POSITIVE, required=True, help="Transformer rating [kVA].")
+@click.option("--primary-kv", type=POSITIVE, required=True, help="Rated primary voltage [kV].")
+@click.option("--secondary-kv", type=POSITIVE, required=True, help="Rated secondary voltage [kV].")
+@click.option("--applied-v", type=POSITIVE, required=True, help="Primary voltage applied in the short-circuit test [V].")
+@click.option("--measured-a", type=POSITIVE, default=None, help="Primary current reached in the test [A]; default rated.")
+@click.option("--r-percent", type=NON_NEGATIVE, default=None, help="Resistive part of %Z at the test temperature [%].")
+@click.option("--measured-temp-c", type=SIGNED, default=None, help="Winding temperature during the test [C].")
+@click.option("--reference-temp-c", type=SIGNED, default=85.0, help="Reference temperature [C] (default 85).")
 @click.option("--conductor", type=click.Choice(["copper", "aluminum"]), default="copper")
 def transformer_test(kva, primary_kv, secondary_kv, applied_v, measured_a, r_percent, measured_temp_c,
                      reference_temp_c, conductor):
     """%Z of a transformer from its short-circuit test readings, and its fault current."""
     from .study.field import transformer_from_test
 
+    refuse_alone(click.get_current_context(), "measured_temp_c", ["r_percent"])
     try:
         r = transformer_from_test(kva, primary_kv, secondary_kv, applied_v, measured_a, r_percent,
                                   measured_temp_c, reference_temp_c, conductor)
     except ValueError as exc:
-        raise click.UsageError(str(exc)) from None
+        raise click.UsageError(in_option_words(str(exc), click.get_current_context())) from None
     click.echo(f"%Z from the test:            {r['z_percent_measured']:.3f} %")
     if r_percent is not None:
         click.echo(f"%Z at {reference_temp_c:g} C:                {r['z_percent']:.3f} % (resistive part corrected)")
@@ -262,31 +265,31 @@ def transformer_test(kva, primary_kv, secondary_kv, applied_v, measured_a, r_per
 
 
 @main.command("quick")
-@click.option("--kva", type=float, required=True, help="Transformer rating [kVA].")
-@click.option("--primary-kv", type=float, required=True, help="Transformer primary voltage [kV].")
-@click.option("--secondary-kv", type=float, required=True, help="Secondary (equipment) voltage [kV].")
-@click.option("--z-percent", type=float, default=None, help="Nameplate %Z.")
-@click.option("--applied-v", type=float, default=None, help="Or: short-circuit test voltage [V] ...")
-@click.option("--measured-a", type=float, default=None, help="... and the current it circulated [A] (default rated).")
-@click.option("--x-over-r", type=float, required=True, help="Transformer X/R.")
-@click.option("--z-tolerance-percent", type=float, default=7.5, help="%Z tolerance; the low side is used (default 7.5).")
-@click.option("--utility-ka", type=float, default=None, help="Available utility fault current at the primary [kA]; "
+@click.option("--kva", type=POSITIVE, required=True, help="Transformer rating [kVA].")
+@click.option("--primary-kv", type=POSITIVE, required=True, help="Transformer primary voltage [kV].")
+@click.option("--secondary-kv", type=POSITIVE, required=True, help="Secondary (equipment) voltage [kV].")
+@click.option("--z-percent", type=POSITIVE, default=None, help="Nameplate %Z.")
+@click.option("--applied-v", type=POSITIVE, default=None, help="Or: short-circuit test voltage [V] ...")
+@click.option("--measured-a", type=POSITIVE, default=None, help="... and the current it circulated [A] (default rated).")
+@click.option("--x-over-r", type=POSITIVE, required=True, help="Transformer X/R.")
+@click.option("--z-tolerance-percent", type=NON_NEGATIVE, default=7.5, help="%Z tolerance; the low side is used (default 7.5).")
+@click.option("--utility-ka", type=POSITIVE, default=None, help="Available utility fault current at the primary [kA]; "
               "default: infinite (conservative).")
-@click.option("--utility-x-over-r", type=float, default=10.0, help="Utility X/R (default 10).")
+@click.option("--utility-x-over-r", type=POSITIVE, default=10.0, help="Utility X/R (default 10).")
 @click.option("--cable-length", default=None, help="Cable to the equipment, e.g. '150 ft' or '45 m'.")
 @click.option("--cable-size", default=None, help="Conductor size, e.g. '4/0' or '500 kcmil'.")
 @click.option("--cable-material", type=click.Choice(["copper", "aluminum"]), default="copper")
 @click.option("--cable-conduit", type=click.Choice(["pvc", "aluminum", "steel"]), default="steel")
-@click.option("--cable-sets", type=int, default=1)
+@click.option("--cable-sets", type=click.IntRange(1, 50), default=1)
 @click.option("--class", "equipment_class", default=None, help="Equipment class (typical gap, distance, enclosure).")
 @click.option("--config", default=None, help="Electrode configuration (overrides the class).")
-@click.option("--gap-mm", type=float, default=None)
-@click.option("--working-distance-mm", type=float, default=None)
-@click.option("--height-mm", type=float, default=None, help="Enclosure height [mm].")
-@click.option("--width-mm", type=float, default=None, help="Enclosure width [mm].")
-@click.option("--depth-mm", type=float, default=None, help="Enclosure depth [mm].")
-@click.option("--clearing-time-s", type=float, default=None, help="Stated clearing time of the upstream device [s].")
-@click.option("--reduced-clearing-time-s", type=float, default=None, help="Its time at the reduced arcing current [s].")
+@click.option("--gap-mm", type=POSITIVE, default=None)
+@click.option("--working-distance-mm", type=POSITIVE, default=None)
+@click.option("--height-mm", type=POSITIVE, default=None, help="Enclosure height [mm].")
+@click.option("--width-mm", type=POSITIVE, default=None, help="Enclosure width [mm].")
+@click.option("--depth-mm", type=POSITIVE, default=None, help="Enclosure depth [mm].")
+@click.option("--clearing-time-s", type=POSITIVE, default=None, help="Stated clearing time of the upstream device [s].")
+@click.option("--reduced-clearing-time-s", type=POSITIVE, default=None, help="Its time at the reduced arcing current [s].")
 @click.option("--library", type=click.Path(dir_okay=False, exists=True), default=None, help="Device-library YAML file.")
 @click.option("--curve", default=None, help="Upstream device: a curve id of the library.")
 @click.option("--json", "as_json", is_flag=True, help="Print the result as JSON.")
@@ -300,6 +303,14 @@ def quick(kva, primary_kv, secondary_kv, z_percent, applied_v, measured_a, x_ove
     from .output.text import quick_report
     from .study.field import quick_assessment, transformer_from_test
 
+    ctx = click.get_current_context()
+    refuse_conflicts(ctx, ["z_percent"], ["applied_v", "measured_a"])
+    refuse_conflicts(ctx, ["curve"], ["clearing_time_s", "reduced_clearing_time_s"])
+    refuse_alone(ctx, "measured_a", ["applied_v"])
+    refuse_alone(ctx, "cable_size", ["cable_length"])
+    refuse_alone(ctx, "cable_length", ["cable_size"])
+    refuse_alone(ctx, "curve", ["library"])
+    refuse_alone(ctx, "reduced_clearing_time_s", ["clearing_time_s"])
     try:
         if z_percent is None:
             if applied_v is None:
@@ -320,10 +331,9 @@ def quick(kva, primary_kv, secondary_kv, z_percent, applied_v, measured_a, x_ove
                 clearing_time_s=clearing_time_s, reduced_clearing_time_s=reduced_clearing_time_s,
                 curve=curve, library=library)
     except SiteDataError as exc:
-        raise click.UsageError("; ".join(f"{p.field} = {p.value!r}: expected {p.expected}"
-                                         for p in exc.problems)) from None
+        raise click.UsageError(quick_problem_words(exc.problems, click.get_current_context())) from None
     except ValueError as exc:
-        raise click.UsageError(str(exc)) from None
+        raise click.UsageError(in_option_words(str(exc), click.get_current_context(), QUICK_FIELDS)) from None
     if as_json:
         row = {k: (None if isinstance(v, float) and v != v else (v.item() if hasattr(v, "item") else v))
                for k, v in result["row"].items()}

@@ -75,9 +75,9 @@ def test_out_of_range_is_flagged_in_output():
 
 
 @pytest.mark.parametrize("args, message", [
-    (["--bolted-ka", "nan"], "bolted_ka: expected a finite positive number"),
-    (["--bolted-ka", "-5"], "bolted_ka: expected a finite positive number"),
-    (["--bolted-ka", "ten"], "'ten' is not a valid float"),
+    (["--bolted-ka", "nan"], "'--bolted-ka': expected a finite number, got 'nan'"),
+    (["--bolted-ka", "-5"], "'--bolted-ka': expected a positive number, got '-5'"),
+    (["--bolted-ka", "ten"], "'--bolted-ka': expected a number, got 'ten'"),
     (["--config", "VXB"], "'VXB' is not one of"),
     (["--strict", "--bolted-ka", "120"], "outside the range of IEEE 1584-2018"),
 ])
@@ -94,7 +94,7 @@ def test_missing_geometry_without_class():
     result = run(["equipment", "--voltage-kv", "0.48", "--bolted-ka", "45", "--clearing-time-s", "0.05",
                   "--config", "VCB"])
     assert result.exit_code == 2
-    assert "missing gap_mm, working_distance_mm, height_mm, width_mm" in result.output
+    assert "missing --gap-mm, --working-distance-mm, --height-mm, --width-mm" in result.output
 
 
 def test_memory_setting_takes_effect_on_glibc_only():

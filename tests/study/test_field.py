@@ -79,7 +79,7 @@ def test_quick_command_text_and_json():
 @pytest.mark.parametrize("args, message", [
     (["quick", "--primary-kv", "4.16", "--secondary-kv", "0.48", "--z-percent", "5", "--x-over-r", "5"],
      "Missing option '--kva'"),
-    (BASE[:8] + ["30"] + BASE[9:], "z_percent: expected 0.5-25 %"),
+    (BASE[:8] + ["30"] + BASE[9:], "--z-percent: expected 0.5-25 %"),
     (BASE + ["--cable-length", "-40 ft", "--cable-size", "4/0"], "expected a positive value"),
     (["quick", "--kva", "500", "--primary-kv", "4.16", "--secondary-kv", "0.48", "--z-percent", "5",
       "--x-over-r", "5", "--class", "switchgear-lv", "--library", str(LIBRARY), "--curve", "TM-999"],
