@@ -14,6 +14,7 @@ import math
 import re
 from typing import Annotated, Literal
 
+import yaml
 from pydantic import AfterValidator, Field, field_validator, model_validator
 
 from ..models.conductors import CONDUITS, MATERIALS, SIZES, normalize_size
@@ -72,6 +73,10 @@ class Quantity(str):
 
     value: float
     unit: str
+
+
+# Written back to YAML as the text it was (e.g. a site revision written by a tool).
+yaml.SafeDumper.add_representer(Quantity, lambda dumper, quantity: dumper.represent_str(str(quantity)))
 
 
 def _quantity_of(kind):
