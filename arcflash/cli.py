@@ -21,7 +21,18 @@ from .study.equipment import assess_equipment
 from .study.faults import solve_scenario
 
 
-@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+class _Commands(click.Group):
+    """The command group: a file that cannot be read or written is a user error (exit 2), not a traceback."""
+
+    def invoke(self, ctx):
+        try:
+            return super().invoke(ctx)
+        except OSError as exc:
+            where = exc.filename if exc.filename is not None else "a file"
+            raise click.UsageError(f"cannot use {where}: {exc.strerror or exc}") from None
+
+
+@click.group(cls=_Commands, context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(package_name="arcflash")
 def main():
     """arcflash: arc-flash hazard calculations by IEEE 1584-2018.
@@ -93,12 +104,14 @@ def faults(site_dir, scenario, csv_path, devices_csv):
         result = solve_scenario(site, scenario)
     except KeyError as exc:
         raise click.UsageError(str(exc.args[0])) from None
-    click.echo(fault_table(site.facility.name, result.scenario, result.buses))
     if csv_path:
         write_atomic(csv_path, lambda tmp: result.buses.to_csv(tmp, float_format="%.6g"))
-        click.echo(f"Bus fault table written to {csv_path}")
     if devices_csv:
         write_atomic(devices_csv, lambda tmp: result.devices.to_csv(tmp, index=False, float_format="%.6g"))
+    click.echo(fault_table(site.facility.name, result.scenario, result.buses))
+    if csv_path:
+        click.echo(f"Bus fault table written to {csv_path}")
+    if devices_csv:
         click.echo(f"Device currents written to {devices_csv}")
 
 
@@ -359,7 +372,7 @@ def briefing(site_dir, bus, out, study_dir):
     if bus not in site.buses:
         raise click.UsageError(f"unknown bus {bus!r}")
     try:
-        governing = read_governing(study_dir, site) if study_dir else run_study(site).governing
+        governing = read_governing(study_dir, site, briefing=True) if study_dir else run_study(site).governing
     except ValueError as exc:
         raise click.UsageError(str(exc)) from None
     write_atomic(out, lambda tmp: write_briefing(site, bus, governing.loc[bus], tmp))

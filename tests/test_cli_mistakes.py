@@ -8,6 +8,7 @@ options; an option that needs another.
 from __future__ import annotations
 
 import re
+from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
@@ -19,7 +20,9 @@ EQUIPMENT = ["equipment", "--class", "switchgear-lv", "--voltage-kv", "0.48", "-
 QUICK = ["quick", "--kva", "500", "--primary-kv", "4.16", "--secondary-kv", "0.48", "--z-percent", "5",
          "--x-over-r", "5", "--class", "switchgear-lv", "--clearing-time-s", "0.1"]
 TEST = ["transformer-test", "--kva", "1500", "--primary-kv", "13.8", "--secondary-kv", "0.48", "--applied-v", "632"]
-LIBRARY = "site_data/libraries/invented_curves.yaml"
+ROOT = Path(__file__).resolve().parents[1]
+DEMO = str(ROOT / "site_data" / "fenwick_ridge")
+LIBRARY = str(ROOT / "site_data" / "libraries" / "invented_curves.yaml")
 INTERNAL = re.compile(r"buses\[|cables\[|transformers\[|utilities\[|\b[a-z]+_(?:kv|ka|mm|s|a|v|percent)\b")
 
 
@@ -107,3 +110,54 @@ def test_conflicting_options_are_refused_naming_both(args, first, second):
 def test_an_option_without_the_one_it_needs_is_refused(args, option, needs):
     error = refused(args)
     assert f"{option} needs {needs}" in error
+
+
+@pytest.mark.parametrize("content, words", [
+    (b"", "is not a table written by 'arcflash study'"),
+    (b"\xff\xfe\x00junk", "is not a table written by 'arcflash study'"),
+    (b"junk,,\n1,2,3\n", "lacks the column 'bus'"),
+])
+@pytest.mark.parametrize("command", [["labels", "print", DEMO, "--out"],
+                                     ["briefing", DEMO, "SWG-A", "--out"]])
+def test_a_study_folder_that_holds_no_study_is_refused(tmp_path, content, words, command):
+    study = tmp_path / "study"
+    study.mkdir()
+    (study / "governing.csv").write_bytes(content)
+    out = tmp_path / ("labels" if command[0] == "labels" else "brief.pdf")
+    error = refused(command + [str(out), "--study", str(study)])
+    assert "--study" in error and words in error
+    assert not out.exists()
+
+
+def test_a_study_table_with_text_in_a_number_column_is_refused(tmp_path):
+    from arcflash.output.labels import GOVERNING_COLUMNS
+
+    study = tmp_path / "study"
+    study.mkdir()
+    row = {c: "1" for c in GOVERNING_COLUMNS} | {"bus": "SWG-A", "incident_energy_governing_cal_cm2": "high"}
+    (study / "governing.csv").write_text(",".join(row) + "\n" + ",".join(row.values()) + "\n", encoding="utf-8")
+    error = refused(["briefing", DEMO, "SWG-A", "--out", str(tmp_path / "b.pdf"),
+                     "--study", str(study)])
+    assert "text in the number column 'incident_energy_governing_cal_cm2'" in error
+
+
+@pytest.mark.parametrize("command", [["faults", DEMO, "--csv"], ["briefing", DEMO, "SWG-A", "--out"],
+                                     ["study", DEMO, "--no-report", "--quiet", "--out"]])
+def test_an_output_path_that_cannot_be_written_is_named(tmp_path, command):
+    blocker = tmp_path / "a-file"
+    blocker.write_text("not a folder", encoding="utf-8")
+    target = blocker / ("out.pdf" if command[0] == "briefing" else "out.csv" if command[0] == "faults" else "out")
+    result = CliRunner().invoke(main, command + [str(target)])
+    assert result.exit_code == 2 and "Traceback" not in result.output, result.output
+    assert f"cannot use {target}" in result.output and "Bolted" not in result.output
+
+
+@pytest.mark.parametrize("content, words", [
+    (b"[1, 2", "expected valid YAML"), (b"\xff", "expected UTF-8 text"), (b"- 1\n", "is not a device-library file"),
+    (b"curves: 5\n", "is not a device-library file"), (b"curves: [1]\n", "'TM-100' is not in"),
+])
+def test_a_device_library_that_is_not_one_is_refused(tmp_path, content, words):
+    library = tmp_path / "library.yaml"
+    library.write_bytes(content)
+    error = refused(without(QUICK, "--clearing-time-s") + ["--library", str(library), "--curve", "TM-100"])
+    assert words in error and ("--library" in error or "--curve" in error)

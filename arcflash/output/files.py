@@ -21,8 +21,11 @@ def write_atomic(path, write):
         Writes the whole content to the path it is given.
     """
     path = Path(path)
-    path.parent.mkdir(parents=True, exist_ok=True)
-    handle, temporary = tempfile.mkstemp(prefix=f".{path.stem}.", suffix=f".part{path.suffix}", dir=path.parent)
+    try:
+        path.parent.mkdir(parents=True, exist_ok=True)
+        handle, temporary = tempfile.mkstemp(prefix=f".{path.stem}.", suffix=f".part{path.suffix}", dir=path.parent)
+    except OSError as exc:  # name the file the user asked for, not a temporary one
+        raise OSError(exc.errno, exc.strerror, str(path)) from exc
     os.close(handle)
     try:
         write(temporary)
@@ -30,7 +33,9 @@ def write_atomic(path, write):
         os.umask(umask)
         os.chmod(temporary, 0o666 & ~umask)  # mkstemp makes the file private; give it the usual mode
         os.replace(temporary, path)
-    except BaseException:
+    except BaseException as exc:
         if os.path.exists(temporary):
             os.unlink(temporary)
+        if isinstance(exc, OSError) and exc.filename == temporary:
+            raise OSError(exc.errno, exc.strerror, str(path)) from exc
         raise

@@ -195,20 +195,52 @@ def layout_names():
     return sorted(p.stem for p in LAYOUT_DIR.glob("*.yaml"))
 
 
-def read_governing(study_dir, site):
+#: Columns of governing.csv that labels read (text, then numbers); a briefing reads these and BRIEFING_COLUMNS.
+LABEL_TEXT = ("bus", "device_governing", "flags")
+LABEL_NUMBERS = ("nominal_kv", "incident_energy_governing_cal_cm2", "arc_flash_boundary_governing_mm",
+                 "working_distance_mm", "ppe_category", "minimum_arc_rating_cal_cm2")
+BRIEFING_COLUMNS = (("scenario", "governing_case"),
+                    ("clearing_time_governing_s", "limited_approach_fixed_mm", "restricted_approach_mm"))
+GOVERNING_COLUMNS = LABEL_TEXT + LABEL_NUMBERS + BRIEFING_COLUMNS[0] + BRIEFING_COLUMNS[1]
+
+
+def read_governing(study_dir, site, briefing=False):
     """The governing table of an earlier study run (``governing.csv``), checked against the site.
+
+    Parameters
+    ----------
+    study_dir : path
+        Folder of an ``arcflash study`` run [-]
+    site : Site
+        The site it must cover [-]
+    briefing : bool
+        Also require the columns a briefing sheet reads [-]
 
     Raises
     ------
     ValueError
-        No governing.csv there, or it does not hold the site's buses.
+        No governing.csv there; not a readable table; a column missing or text in a number column; or it
+        does not hold the site's buses.
     """
     import pandas as pd
 
     path = Path(study_dir) / "governing.csv"
     if not path.is_file():
         raise ValueError(f"--study: no governing.csv in {study_dir} (run 'arcflash study' first)")
-    table = pd.read_csv(path, index_col="bus", keep_default_na=False, na_values=[""])
+    try:
+        table = pd.read_csv(path, keep_default_na=False, na_values=[""])
+    except (ValueError, UnicodeDecodeError, pd.errors.ParserError) as exc:  # EmptyDataError is a ValueError
+        raise ValueError(f"--study: {path} is not a table written by 'arcflash study' ({exc})") from None
+    text, numbers = LABEL_TEXT + (BRIEFING_COLUMNS[0] if briefing else ()), LABEL_NUMBERS + (
+        BRIEFING_COLUMNS[1] if briefing else ())
+    absent = [c for c in text + numbers if c not in table.columns]
+    if absent:
+        raise ValueError(f"--study: {path} lacks the column {absent[0]!r} (run 'arcflash study' again)")
+    for column in numbers:
+        if not pd.api.types.is_numeric_dtype(table[column]):
+            raise ValueError(f"--study: {path} has text in the number column {column!r} (run 'arcflash study' "
+                             "again)")
+    table = table.set_index("bus")
     missing = [b for b in site.buses if b not in table.index]
     if missing:
         raise ValueError(f"--study: {path} lacks bus {missing[0]!r} of the site (a study of another site?)")

@@ -19,6 +19,7 @@ from ..models.transformer import PLAUSIBLE_Z_PERCENT, infinite_bus_fault_ka, per
 from ..models.transformer import rated_current_a
 from ..models.transformer import resistance_at_temperature
 from ..site.loader import load_site
+from ..site.reading import read_yaml
 from ..site.slips import check_unit_slips
 
 _Z_RANGE = f"{PLAUSIBLE_Z_PERCENT[0]:g}-{PLAUSIBLE_Z_PERCENT[1]:g} %"
@@ -94,6 +95,18 @@ def transformer_from_test(kva, primary_kv, secondary_kv, applied_v, measured_a=N
     }
 
 
+def _library_curve_kinds(library):
+    """Curve id -> kind of a device-library file (ValueError naming the file if it is not one)."""
+    problems = []
+    document = read_yaml(library, problems)
+    if problems:
+        raise ValueError(f"library: {problems[0]}")
+    curves = document.get("curves") if isinstance(document, dict) else None
+    if not isinstance(curves, list):
+        raise ValueError(f"library: {library} is not a device-library file (expected a 'curves:' list)")
+    return {c.get("id"): c.get("kind") for c in curves if isinstance(c, dict)}
+
+
 def quick_site(folder, kva, primary_kv, secondary_kv, z_percent, x_over_r, z_tolerance_percent=7.5,
                utility_ka=None, utility_x_over_r=10.0, cable=None, equipment=None, clearing_time_s=None,
                reduced_clearing_time_s=None, curve=None, library=None, name="Quick assessment"):
@@ -147,7 +160,7 @@ def quick_site(folder, kva, primary_kv, secondary_kv, z_percent, x_over_r, z_tol
     if curve is not None:
         if library is None:
             raise ValueError(f"library: the device-library file that holds curve {curve!r}")
-        kinds = {c.get("id"): c.get("kind") for c in (yaml.safe_load(Path(library).read_text()) or {}).get("curves", [])}
+        kinds = _library_curve_kinds(library)
         if curve not in kinds:
             raise ValueError(f"curve: {curve!r} is not in {library}; it has {', '.join(map(str, kinds)) or 'none'}")
         doc["facility"]["device_library"] = [str(Path(library).resolve())]
