@@ -206,12 +206,14 @@ def labels():
               help="Folder of an earlier 'arcflash study' run (its governing.csv); default: run the study now.")
 def labels_print(site_dir, out_dir, buses, changed_only, layout, sheet, issued_by, study_dir):
     """Print labels from a study of the site and record them in the site's ledger."""
-    from .output.labels import issue_labels, layout_names, read_governing
+    from .output.labels import issue_labels, load_layout, read_governing
     from .study.pipeline import run_study
 
-    for name in (layout, sheet):
-        if name not in layout_names():
-            raise click.UsageError(f"unknown layout {name!r}; expected one of {', '.join(layout_names())}")
+    for option, name in (("--layout", layout), ("--sheet", sheet)):
+        try:
+            load_layout(name)
+        except ValueError as exc:
+            raise click.UsageError(f"{option}: {exc}") from None
     site = _load(site_dir)
     if study_dir:
         try:

@@ -28,7 +28,15 @@ from .text import energy_text
 DANGER_ABOVE_CAL_CM2 = NO_CATEGORY_ABOVE_CAL_CM2
 #: Data behind a label are reviewed at intervals not over 5 years (NFPA 70E 130.5) [years].
 REVIEW_YEARS = 5
-LAYOUT_DIR = Path(__file__).resolve().parents[2] / "label_layouts"
+def _layout_dir():
+    """arcflash/label_layouts in an installed package (the build carries it there), else the source tree's
+    top-level label_layouts/ (a checkout or an editable install)."""
+    installed = Path(__file__).resolve().parents[1] / "label_layouts"
+    return installed if installed.is_dir() else Path(__file__).resolve().parents[2] / "label_layouts"
+
+
+#: Folder of the shipped layouts.
+LAYOUT_DIR = _layout_dir()
 
 
 @dataclass(frozen=True)
@@ -177,17 +185,38 @@ class LabelLayout:
     blocks: tuple
 
 
+def layout_path(name_or_path):
+    """The file of a layout given by name (one of :func:`layout_names`) or as a path to a YAML file.
+
+    Raises
+    ------
+    ValueError
+        Neither a shipped layout's name nor an existing .yaml/.yml file; the message lists the names.
+    """
+    path = Path(name_or_path)
+    if path.suffix.lower() in (".yaml", ".yml") and path.is_file():
+        return path
+    if str(name_or_path) in layout_names():
+        return LAYOUT_DIR / f"{name_or_path}.yaml"
+    raise ValueError(f"unknown layout {str(name_or_path)!r}; expected one of {', '.join(layout_names())} "
+                     "or the path of a layout file (.yaml)")
+
+
 def load_layout(name_or_path):
     """A layout by name (a file in label_layouts/) or path."""
-    path = Path(name_or_path)
-    if not path.suffix:
-        path = LAYOUT_DIR / f"{name_or_path}.yaml"
-    data = yaml.safe_load(path.read_text(encoding="utf-8"))
-    return LabelLayout(
-        name=data["name"], page_width=_points(data["page"]["width"]), page_height=_points(data["page"]["height"]),
-        margin=_points(data["margin"]), across=int(data["labels_across"]), down=int(data["labels_down"]),
-        gutter=_points(data.get("gutter", "0 in")), blocks=tuple(data["blocks"]),
-    )
+    path = layout_path(name_or_path)
+    try:
+        data = yaml.safe_load(path.read_text(encoding="utf-8"))
+        return LabelLayout(
+            name=data["name"], page_width=_points(data["page"]["width"]),
+            page_height=_points(data["page"]["height"]), margin=_points(data["margin"]),
+            across=int(data["labels_across"]), down=int(data["labels_down"]),
+            gutter=_points(data.get("gutter", "0 in")), blocks=tuple(data["blocks"]),
+        )
+    except (KeyError, TypeError, ValueError, AttributeError, yaml.YAMLError, UnicodeDecodeError) as exc:
+        raise ValueError(f"layout file {path}: expected name, page (width, height), margin, labels_across, "
+                         f"labels_down and blocks, as in label_layouts/README.md ({type(exc).__name__}: {exc})"
+                         ) from None
 
 
 def layout_names():
