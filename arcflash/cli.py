@@ -204,9 +204,11 @@ def labels():
 @click.option("--issued-by", default=None, help="Name recorded in the ledger.")
 @click.option("--study", "study_dir", type=click.Path(file_okay=False, exists=True), default=None,
               help="Folder of an earlier 'arcflash study' run (its governing.csv); default: run the study now.")
-def labels_print(site_dir, out_dir, buses, changed_only, layout, sheet, issued_by, study_dir):
+@click.option("--accept-stale-study", "stale_reason", default=None, metavar="REASON",
+              help="Use a --study that no longer matches the site data; the reason is recorded in the ledger.")
+def labels_print(site_dir, out_dir, buses, changed_only, layout, sheet, issued_by, study_dir, stale_reason):
     """Print labels from a study of the site and record them in the site's ledger."""
-    from .output.labels import issue_labels, load_layout, read_governing
+    from .output.labels import issue_labels, load_layout
     from .study.pipeline import run_study
 
     for option, name in (("--layout", layout), ("--sheet", sheet)):
@@ -215,21 +217,43 @@ def labels_print(site_dir, out_dir, buses, changed_only, layout, sheet, issued_b
         except ValueError as exc:
             raise click.UsageError(f"{option}: {exc}") from None
     site = _load(site_dir)
-    if study_dir:
-        try:
-            governing = read_governing(study_dir, site)
-        except ValueError as exc:
-            raise click.UsageError(str(exc)) from None
-    else:
-        governing = run_study(site).governing
+    governing = _earlier_study(study_dir, site, stale_reason) if study_dir else run_study(site).governing
     try:
         printed = issue_labels(site, governing, out_dir, layout, sheet, list(buses), changed_only, issued_by)
     except KeyError as exc:
         raise click.UsageError(str(exc.args[0])) from None
+    except ValueError as exc:  # a label that does not fit its layout
+        raise click.UsageError(str(exc)) from None
+    _record_stale_use(governing, site, "labels print", study_dir, stale_reason,
+                      [c.equipment_id for c in printed], issued_by)
     click.echo(f"{len(printed)} labels printed to {out_dir} and recorded in the ledger.")
     for content in printed:
         click.echo(f"  {content.equipment_id}  {content.signal_word}  {content.energy_or_category}")
     click.echo(CAUTION)
+
+
+def _earlier_study(study_dir, site, stale_reason, briefing=False):
+    """The governing table of an earlier study; refused (exit 2) if stale and no reason was given."""
+    from .output.labels import read_governing
+
+    if stale_reason is not None and not stale_reason.strip():
+        raise click.UsageError("--accept-stale-study: expected a reason in words (it is recorded in the ledger)")
+    try:
+        return read_governing(study_dir, site, briefing=briefing, accept_stale=stale_reason)
+    except ValueError as exc:
+        raise click.UsageError(str(exc)) from None
+
+
+def _record_stale_use(governing, site, command, study_dir, stale_reason, equipment, used_by=None):
+    """Record in the ledger, and say, that a stale study was used (nothing when it was current)."""
+    from .output import ledger
+
+    stale = governing.attrs.get("stale") if study_dir else None
+    if stale:
+        ledger.record_override(ledger.ledger_path(site.path), command, study_dir, stale_reason, stale, equipment,
+                               used_by)
+        click.echo(f"NOTE: study {study_dir} no longer matches the site data ({'; '.join(stale)}); used on your "
+                   f"reason '{stale_reason}', recorded in the ledger.")
 
 
 @labels.command("status")
@@ -364,20 +388,20 @@ def quick(kva, primary_kv, secondary_kv, z_percent, applied_v, measured_a, x_ove
 @click.option("--out", type=click.Path(dir_okay=False), required=True, help="Output PDF file.")
 @click.option("--study", "study_dir", type=click.Path(file_okay=False, exists=True), default=None,
               help="Folder of an earlier 'arcflash study' run (its governing.csv); default: run the study now.")
-def briefing(site_dir, bus, out, study_dir):
+@click.option("--accept-stale-study", "stale_reason", default=None, metavar="REASON",
+              help="Use a --study that no longer matches the site data; the reason is recorded in the ledger.")
+def briefing(site_dir, bus, out, study_dir, stale_reason):
     """Job briefing sheet for one piece of equipment: hazard, boundaries to scale, PPE, permit blanks."""
     from .output.briefing import write_briefing
-    from .output.labels import read_governing
     from .study.pipeline import run_study
 
     site = _load(site_dir)
     if bus not in site.buses:
         raise click.UsageError(f"unknown bus {bus!r}")
-    try:
-        governing = read_governing(study_dir, site, briefing=True) if study_dir else run_study(site).governing
-    except ValueError as exc:
-        raise click.UsageError(str(exc)) from None
+    governing = (_earlier_study(study_dir, site, stale_reason, briefing=True) if study_dir
+                 else run_study(site).governing)
     write_atomic(out, lambda tmp: write_briefing(site, bus, governing.loc[bus], tmp))
+    _record_stale_use(governing, site, "briefing", study_dir, stale_reason, [bus])
     click.echo(f"Job briefing sheet of {bus} written to {out}")
     click.echo(CAUTION)
 

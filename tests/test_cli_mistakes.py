@@ -124,7 +124,8 @@ def test_a_study_folder_that_holds_no_study_is_refused(tmp_path, content, words,
     study.mkdir()
     (study / "governing.csv").write_bytes(content)
     out = tmp_path / ("labels" if command[0] == "labels" else "brief.pdf")
-    error = refused(command + [str(out), "--study", str(study)])
+    # no study.json: the table checks are reached only with the stale-study override (a test's reason)
+    error = refused(command + [str(out), "--study", str(study), "--accept-stale-study", "junk table (test)"])
     assert "--study" in error and words in error
     assert not out.exists()
 
@@ -137,7 +138,7 @@ def test_a_study_table_with_text_in_a_number_column_is_refused(tmp_path):
     row = {c: "1" for c in GOVERNING_COLUMNS} | {"bus": "SWG-A", "incident_energy_governing_cal_cm2": "high"}
     (study / "governing.csv").write_text(",".join(row) + "\n" + ",".join(row.values()) + "\n", encoding="utf-8")
     error = refused(["briefing", DEMO, "SWG-A", "--out", str(tmp_path / "b.pdf"),
-                     "--study", str(study)])
+                     "--study", str(study), "--accept-stale-study", "junk table (test)"])
     assert "text in the number column 'incident_energy_governing_cal_cm2'" in error
 
 

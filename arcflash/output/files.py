@@ -39,3 +39,28 @@ def write_atomic(path, write):
         if isinstance(exc, OSError) and exc.filename == temporary:
             raise OSError(exc.errno, exc.strerror, str(path)) from exc
         raise
+
+
+#: Age after which a temporary file of write_atomic is taken as left over by an interrupted run [s] (a run
+#: still writing it would have touched it since).
+LEFTOVER_AGE_S = 600.0
+
+
+def remove_leftovers(folder, now=None):
+    """Remove the temporary files (``.<name>.<random>.part<suffix>``) that an interrupted run left in
+    ``folder``, if older than :data:`LEFTOVER_AGE_S`; return their names."""
+    import time
+
+    folder = Path(folder)
+    if not folder.is_dir():
+        return []
+    now = time.time() if now is None else now
+    removed = []
+    for path in folder.glob(".*.part*"):
+        try:
+            if path.is_file() and now - path.stat().st_mtime > LEFTOVER_AGE_S:
+                path.unlink()
+                removed.append(path.name)
+        except OSError:
+            continue  # another run removed it, or it is not ours to remove
+    return sorted(removed)

@@ -1,27 +1,189 @@
-"""Drawing labels on PDF pages (reportlab canvas), from :class:`LabelContent` and a layout."""
+"""Drawing labels on PDF pages (reportlab canvas), from :class:`LabelContent` and a layout.
+
+Text is never clipped: each text block is laid out (wrapped to its width) at the layout's sizes; when the
+blocks do not fit the label's height, every size is scaled down together, but never below its minimum
+(:data:`MIN_TEXT_PT`, and the layout's ``key_min`` for the key values). A label that still does not fit is
+refused (:class:`LabelFitError`, naming the equipment and the field), never printed cut off. Space left
+over is shared between the blocks. Every string drawn is recorded (:class:`Placed`) so that tests can
+check it lies inside its block.
+"""
 
 from __future__ import annotations
 
-from reportlab.graphics import renderPDF
-from reportlab.graphics.barcode.qr import QrCodeWidget
-from reportlab.graphics.shapes import Drawing
+import datetime as dt
+import functools
+import io
+import itertools
+from dataclasses import dataclass
+
+from reportlab.graphics.barcode import qrencoder
 from reportlab.lib.colors import HexColor, black, white
 from reportlab.lib.utils import simpleSplit
+from reportlab.pdfbase.pdfmetrics import stringWidth
 from reportlab.pdfgen.canvas import Canvas
 
 #: ANSI Z535.4 signal-word panels: DANGER white on safety red, WARNING black on safety orange
 #: (sRGB approximations of the Z535.1 safety colours, common practice).
 SIGNAL_PANELS = {"DANGER": (HexColor("#C8102E"), white), "WARNING": (HexColor("#FF7900"), black)}
 
+#: Smallest text on a label [pt at print size]: 7 pt is about 2.5 mm capital height, read at arm's length
+#: (common practice for equipment labels; our choice).
+MIN_TEXT_PT = 7.0
 
-def _wrap(canvas, text, x, y, width, size, bold=False, max_lines=6):
-    font = "Helvetica-Bold" if bold else "Helvetica"
-    canvas.setFont(font, size)
-    lines = simpleSplit(text, font, size, width)[:max_lines]
-    for line in lines:
-        y -= size * 1.15
-        canvas.drawString(x, y, line)
-    return y
+#: Smallest size of the key values (voltage, boundary, energy or category) unless a layout says otherwise
+#: [pt]; the 4 x 6 in and 100 x 150 mm layouts ask 10 pt (``key_min``).
+MIN_KEY_PT = 8.0
+
+#: The fixed marker of a label whose study result is flagged (the flags are explained in the study report).
+FLAG_MARKER = "STUDY NOTE: this result is flagged - see the study report for this equipment."
+
+_LEADING = 1.18
+_BLOCK_GAP = 2.0
+_PAD = 4.0
+_REGULAR, _BOLD = "Helvetica", "Helvetica-Bold"
+
+
+class LabelFitError(ValueError):
+    """A label's text does not fit its layout at the smallest legible size."""
+
+
+@dataclass(frozen=True)
+class Placed:
+    """One string drawn: its block, the field it shows, text, font, size, baseline start and the block's box
+    (x0, y0, x1, y1)."""
+
+    block: str
+    field: str
+    text: str
+    font: str
+    size: float
+    x: float
+    y: float
+    box: tuple
+
+
+@dataclass(frozen=True)
+class _Piece:
+    """A text to wrap in a column: field name (for errors), text, font, size, column start and width (shares)."""
+
+    field: str
+    text: str
+    bold: bool
+    size: float
+    minimum: float
+    column: float = 0.0
+    width: float = 1.0
+    row: int = 0
+
+
+def _issued_text(issued_on):
+    return (issued_on or dt.date.today()).isoformat()
+
+
+def _pieces(kind, content, block, key_min, issued_on):
+    """The text pieces of a block at the layout's sizes (before any scaling)."""
+    size = float(block["size"])
+    if kind == "hazard":
+        return [_Piece("hazard", content.hazard, True, size, MIN_TEXT_PT)]
+    if kind == "data":
+        key = float(block.get("key_size", size))
+        energy = content.shows == "energy" or content.signal_word == "DANGER"
+        rows = [("nominal_voltage", "Nominal voltage", content.nominal_voltage, True),
+                ("arc_flash_boundary", "Arc-flash boundary", content.arc_flash_boundary, True),
+                ("energy_or_category", "Incident energy at working distance" if energy else "PPE category",
+                 content.energy_or_category, True),
+                ("minimum_arc_rating", "Minimum arc rating of clothing", content.minimum_arc_rating, False)]
+        if content.site_ppe:
+            rows.append(("site_ppe", "Site PPE", content.site_ppe, False))
+        rows += [("limited_approach", "Limited approach (shock)", content.limited_approach, False),
+                 ("restricted_approach", "Restricted approach (shock)", content.restricted_approach, False)]
+        pieces = []
+        for number, (field, label, value, is_key) in enumerate(rows):
+            pieces.append(_Piece(field, label, False, size, MIN_TEXT_PT, 0.0, 0.36, number))
+            pieces.append(_Piece(field, value, True, key if is_key else size, key_min if is_key else MIN_TEXT_PT,
+                                 0.38, 0.62, number))
+        return pieces
+    if kind == "identity":
+        pieces = [_Piece("equipment_id", f"Equipment {content.equipment_id}: {content.description}".rstrip(": "),
+                         True, size, MIN_TEXT_PT, row=0),
+                  _Piece("governing_device", f"Arc cleared: {content.governing_device}", False, size, MIN_TEXT_PT,
+                         row=1)]
+        if content.flags:
+            pieces.append(_Piece("flags", FLAG_MARKER, True, size, MIN_TEXT_PT, row=2))
+        return pieces
+    if kind == "study":
+        text = (f"Study rev {content.study_revision} of {content.study_date or 'undated'}; label issued "
+                f"{_issued_text(issued_on)}; review by {content.review_by}. Results for qualified persons; local "
+                "codes and licensed engineering practice govern.")
+        return [_Piece("study", text, False, size, MIN_TEXT_PT)]
+    if kind == "qr":
+        return [_Piece("qr", f"Label {content.content_hash}", False, size, min(size, MIN_TEXT_PT))]
+    raise ValueError(f"layout block kind: unknown {kind!r}")
+
+
+def _lines(piece, scale, width):
+    """(size, lines) of a piece at ``scale``; None when the size would fall below its minimum."""
+    size = piece.size * scale
+    if size < piece.minimum - 1e-9:
+        return None
+    font = _BOLD if piece.bold else _REGULAR
+    return size, simpleSplit(piece.text, font, size, width * piece.width - (2.0 if piece.column else 0.0))
+
+
+def _block_height(pieces, scale, width):
+    """Height of a block's pieces laid out at ``scale`` (rows side by side, columns stacked), or None."""
+    rows = {}
+    for piece in pieces:
+        laid = _lines(piece, scale, width)
+        if laid is None:
+            return None
+        size, lines = laid
+        rows.setdefault(piece.row, []).append(len(lines) * size * _LEADING)
+    return sum(max(heights) for heights in rows.values()) + _BLOCK_GAP * max(0, len(rows) - 1)
+
+
+def _fit_scale(blocks, width, available):
+    """The largest scale (1, 0.98, ...) at which the text blocks fit ``available`` points, or None."""
+    scale = 1.0
+    while scale > 0.2:
+        heights = [_block_height(pieces, scale, width) for _, pieces, _ in blocks]
+        if None in heights:
+            return None, None
+        if sum(heights) + _BLOCK_GAP * len(blocks) <= available:
+            return scale, heights
+        scale -= 0.02
+    return None, None
+
+
+def _too_long(content, blocks, width):
+    """(field, block) that takes the most lines at the smallest sizes: what to name when a label does not fit."""
+    worst = None
+    for kind, pieces, _ in blocks:
+        for piece in pieces:
+            font = _BOLD if piece.bold else _REGULAR
+            lines = len(simpleSplit(piece.text, font, piece.minimum, width * piece.width))
+            if worst is None or lines > worst[0]:
+                worst = (lines, piece.field, kind)
+    return worst[1], worst[2]
+
+
+def _draw_pieces(canvas, pieces, scale, x, top, width, placed, kind, box):
+    y_row = top
+    rows = sorted({p.row for p in pieces})
+    for row in rows:
+        lowest = y_row
+        for piece in (p for p in pieces if p.row == row):
+            size, lines = _lines(piece, scale, width)
+            font = _BOLD if piece.bold else _REGULAR
+            canvas.setFont(font, size)
+            y = y_row
+            for line in lines:
+                y -= size * _LEADING
+                px = x + width * piece.column
+                canvas.drawString(px, y + size * (_LEADING - 1.0), line)
+                placed.append(Placed(kind, piece.field, line, font, size, px, y + size * (_LEADING - 1.0), box))
+            lowest = min(lowest, y)
+        y_row = lowest - _BLOCK_GAP
 
 
 def _signal(canvas, word, x, y, w, h, size):
@@ -29,8 +191,9 @@ def _signal(canvas, word, x, y, w, h, size):
     canvas.setFillColor(fill)
     canvas.rect(x, y - h, w, h, stroke=0, fill=1)
     # Safety alert symbol: a triangle with an exclamation mark, left of the word.
+    size = min(size, h * 0.8)
     t = h * 0.62
-    tx, ty = x + (w - t - size * 0.62 * len(word)) / 2, y - h / 2 - t / 2
+    tx, ty = x + (w - t * 1.25 - stringWidth(word, _BOLD, size)) / 2, y - h / 2 - t / 2
     canvas.setFillColor(ink)
     path = canvas.beginPath()
     path.moveTo(tx, ty)
@@ -39,75 +202,137 @@ def _signal(canvas, word, x, y, w, h, size):
     path.close()
     canvas.drawPath(path, stroke=0, fill=1)
     canvas.setFillColor(fill)
-    canvas.setFont("Helvetica-Bold", t * 0.7)
+    canvas.setFont(_BOLD, t * 0.7)
     canvas.drawCentredString(tx + t / 2, ty + t * 0.12, "!")
     canvas.setFillColor(ink)
-    canvas.setFont("Helvetica-Bold", size)
+    canvas.setFont(_BOLD, size)
     canvas.drawString(tx + t * 1.25, y - h / 2 - size * 0.35, word)
     canvas.setFillColor(black)
 
 
-def _data_rows(c):
-    shown = "Incident energy at working distance" if c.shows == "energy" else "PPE category"
-    rows = [("Nominal voltage", c.nominal_voltage), ("Arc-flash boundary", c.arc_flash_boundary),
-            (shown, c.energy_or_category), ("Minimum arc rating of clothing", c.minimum_arc_rating)]
-    if c.site_ppe:
-        rows.append(("Site PPE", c.site_ppe))
-    rows += [("Limited approach (shock)", c.limited_approach), ("Restricted approach (shock)", c.restricted_approach)]
-    return rows
+@functools.lru_cache(maxsize=4096)
+def qr_modules(payload):
+    """The dark modules of the QR code of ``payload`` (error correction level M), encoded once per payload.
+
+    Returns
+    -------
+    tuple
+        (module count, tuple of (row, first column, length) of the runs of dark modules in each row).
+    """
+    code = qrencoder.QRCode(None, qrencoder.QRErrorCorrectLevel.M)
+    code.addData(payload)
+    code.make()
+    count = code.getModuleCount()
+    runs = []
+    for r in range(count):
+        c = 0
+        for dark, group in itertools.groupby(code.isDark(r, k) for k in range(count)):
+            length = len(list(group))
+            if dark:
+                runs.append((r, c, length))
+            c += length
+    return count, tuple(runs)
 
 
-def draw_label(canvas, content, x, y, w, h, layout):
-    """Draw one label with its top-left corner at (x, y), size w × h points."""
-    pad = 4.0
+def _qr(canvas, content, x, top, side):
+    """The label's QR code, with the 4-module quiet zone of ISO/IEC 18004 (from memory), as one filled path."""
+    count, runs = qr_modules(content.qr_payload)
+    module = side / (count + 8)
+    x0, y0 = x + 4 * module, top - 4 * module
+    path = canvas.beginPath()
+    for r, c, length in runs:
+        path.rect(x0 + c * module, y0 - (r + 1) * module, length * module, module)
+    canvas.setFillColor(black)
+    canvas.drawPath(path, stroke=0, fill=1)
+
+
+def draw_label(canvas, content, x, y, w, h, layout, issued_on=None):
+    """Draw one label with its top-left corner at (x, y), size w × h points.
+
+    Returns
+    -------
+    list of Placed
+        Every string drawn, with its block's box.
+
+    Raises
+    ------
+    LabelFitError
+        The text does not fit at the smallest sizes; the message names the equipment and the field.
+    """
+    inner_w = w - 2 * _PAD
+    key_min = float(getattr(layout, "key_min", None) or MIN_KEY_PT)
+    fixed = {b["kind"]: h * float(b["height"]) for b in layout.blocks if b["kind"] in ("signal", "qr")}
+    texts = [(b["kind"], _pieces(b["kind"], content, b, key_min, issued_on), b) for b in layout.blocks
+             if b["kind"] not in ("signal", "qr")]
+    qr_text = [b for b in layout.blocks if b["kind"] == "qr"]
+    available = h - sum(fixed.values()) - 2.0
+    scale, heights = _fit_scale(texts, inner_w, available)
+    if scale is None:
+        field, kind = _too_long(content, texts, inner_w)
+        raise LabelFitError(f"label of {content.equipment_id}: the text does not fit layout {layout.name} at the "
+                            f"smallest legible size ({MIN_TEXT_PT:g} pt; key values {key_min:g} pt): "
+                            f"shorten {field} (in the {kind} block)")
+    slack = (available - sum(heights) - _BLOCK_GAP * len(texts)) / max(1, len(texts))
     canvas.setLineWidth(1.2)
     if content.flags:
         canvas.setDash(4, 3)  # a flagged label does not look like a normal one
     canvas.rect(x, y - h, w, h, stroke=1, fill=0)
     canvas.setDash()
-    top = y
+    placed, top, heights = [], y, iter(heights)
     for block in layout.blocks:
-        bh, size, kind = h * float(block["height"]), float(block["size"]), block["kind"]
-        inner_w = w - 2 * pad
+        kind = block["kind"]
         if kind == "signal":
-            _signal(canvas, content.signal_word, x, top, w, bh, size)
-        elif kind == "hazard":
-            text = f"CHECK BEFORE USE - study flags: {content.flags}" if content.flags else content.hazard
-            _wrap(canvas, text, x + pad, top - 1, inner_w, size if not content.flags else size * 0.85, bold=True,
-                  max_lines=int(bh // (size * 1.0)) or 1)
-        elif kind == "data":
-            yy = top - 2
-            for label, value in _data_rows(content):
-                canvas.setFont("Helvetica", size * 0.85)
-                canvas.drawString(x + pad, yy - size, label)
-                yy = _wrap(canvas, value, x + pad + inner_w * 0.45, yy, inner_w * 0.55, size, bold=True,
-                           max_lines=2) - size * 0.25
-        elif kind == "identity":
-            yy = _wrap(canvas, f"Equipment {content.equipment_id}: {content.description}", x + pad, top - 1,
-                       inner_w, size, bold=True, max_lines=2)
-            _wrap(canvas, f"Protective device: {content.governing_device}", x + pad, yy, inner_w, size, max_lines=1)
-        elif kind == "study":
-            _wrap(canvas, f"Study rev {content.study_revision} {content.study_date} - review by {content.review_by}. "
-                  "For qualified persons; local codes govern.", x + pad, top - 1, inner_w, size, max_lines=2)
-        elif kind == "qr":
-            side = bh - 2
-            widget = QrCodeWidget(content.qr_payload)
-            bx0, by0, bx1, by1 = widget.getBounds()
-            drawing = Drawing(side, side, transform=[side / (bx1 - bx0), 0, 0, side / (by1 - by0), 0, 0])
-            drawing.add(widget)
-            renderPDF.draw(drawing, canvas, x + pad, top - bh + 1)
-            _wrap(canvas, f"Label {content.content_hash}", x + pad + side + 4, top - 2, inner_w - side - 4, size,
-                  max_lines=2)
-        top -= bh
+            _signal(canvas, content.signal_word, x, top, w, fixed[kind], float(block["size"]))
+            top -= fixed[kind]
+            continue
+        if kind == "qr":
+            side = fixed[kind] - 2
+            _qr(canvas, content, x + _PAD, top - 1, side)
+            pieces = _pieces("qr", content, qr_text[0], key_min, issued_on)
+            box = (x + _PAD + side + 4, top - fixed[kind], x + w - _PAD, top)
+            _draw_pieces(canvas, pieces, 1.0, box[0], top - 2, box[2] - box[0], placed, kind, box)
+            top -= fixed[kind]
+            continue
+        pieces = next(p for k, p, b in texts if b is block)
+        height = next(heights) + _BLOCK_GAP + slack
+        box = (x + _PAD, top - height, x + w - _PAD, top)
+        _draw_pieces(canvas, pieces, scale, x + _PAD, top - 1, inner_w, placed, kind, box)
+        top -= height
+    return placed
 
 
-def write_labels_pdf(contents, layout, path):
-    """Draw every label on pages of ``layout`` (one or several per page) into ``path``."""
-    canvas = Canvas(str(path), pagesize=(layout.page_width, layout.page_height))
-    canvas.setTitle("arcflash equipment labels")
+def unfit_labels(contents, layout):
+    """The messages of the labels that do not fit ``layout`` (drawn on a scratch canvas, nothing written)."""
+    cell_w, cell_h = _cell(layout)
+    canvas = Canvas(io.BytesIO())
+    problems = []
+    for content in contents:
+        try:
+            draw_label(canvas, content, 0.0, cell_h, cell_w, cell_h, layout)
+        except LabelFitError as exc:
+            problems.append(str(exc))
+    return problems
+
+
+def _cell(layout):
     cell_w = (layout.page_width - 2 * layout.margin - (layout.across - 1) * layout.gutter) / layout.across
     cell_h = (layout.page_height - 2 * layout.margin - (layout.down - 1) * layout.gutter) / layout.down
+    return cell_w, cell_h
+
+
+def write_labels_pdf(contents, layout, path, issued_on=None):
+    """Draw every label on pages of ``layout`` (one or several per page) into ``path``.
+
+    Returns
+    -------
+    list of list of Placed
+        The strings drawn on each label.
+    """
+    canvas = Canvas(str(path), pagesize=(layout.page_width, layout.page_height))
+    canvas.setTitle("arcflash equipment labels")
+    cell_w, cell_h = _cell(layout)
     per_page = layout.across * layout.down
+    drawn = []
     for number, content in enumerate(contents):
         slot = number % per_page
         if number and slot == 0:
@@ -115,5 +340,6 @@ def write_labels_pdf(contents, layout, path):
         col, row = slot % layout.across, slot // layout.across
         x = layout.margin + col * (cell_w + layout.gutter)
         y = layout.page_height - layout.margin - row * (cell_h + layout.gutter)
-        draw_label(canvas, content, x, y, cell_w, cell_h, layout)
+        drawn.append(draw_label(canvas, content, x, y, cell_w, cell_h, layout, issued_on))
     canvas.save()
+    return drawn

@@ -26,8 +26,21 @@ from .text import energy_text
 #: 130.7(C)(15)(c): category 4 PPE has a minimum arc rating of 40 cal/cm², so it covers exactly
 #: 40.0 cal/cm²; the same edge as :func:`arcflash.models.nfpa70e.ppe_category`) [cal/cm²].
 DANGER_ABOVE_CAL_CM2 = NO_CATEGORY_ABOVE_CAL_CM2
+#: Incident energy at which a second-degree burn begins: the arc-flash boundary's energy (IEEE 1584-2018
+#: clause 3.1, 5.0 J/cm² = 1.2 cal/cm², from memory) [cal/cm²]. Below it no arc rating is required.
+ONSET_CAL_CM2 = 1.2
+BELOW_ONSET = "below 1.2 cal/cm2"
+#: What a label says instead of a rating below the onset: NFPA 70E Table 130.5(G) asks for non-melting or
+#: untreated natural-fibre clothing there (from memory); no arc-rated clothing is rated below 1.2 cal/cm².
+BELOW_ONSET_RATING = "none required (below 1.2 cal/cm2): wear non-melting natural-fibre clothing"
+#: Hazard statement of a DANGER label (our wording).
+DANGER_STATEMENT = ("No PPE category applies above 40 cal/cm2. Do not work on or near exposed energized parts: "
+                    "de-energize and verify absence of voltage, or work only under an engineered plan of the "
+                    "site's electrical safety program.")
 #: Data behind a label are reviewed at intervals not over 5 years (NFPA 70E 130.5) [years].
 REVIEW_YEARS = 5
+
+
 def _layout_dir():
     """arcflash/label_layouts in an installed package (the build carries it there), else the source tree's
     top-level label_layouts/ (a checkout or an editable install)."""
@@ -74,10 +87,23 @@ class LabelContent:
 
 
 def _length(mm):
+    """A length in millimetres and in feet and inches, both from the same value, both rounded up (one rule:
+    a printed length is never shorter than the computed one)."""
     if mm is None or not np.isfinite(mm):
         return "not computed"
     feet, inches = mm_to_feet_inches(mm)
-    return f"{int(feet)} ft {int(inches)} in ({np.ceil(mm / 100.0 - 1e-9) / 10.0:.1f} m)"
+    return f"{np.ceil(mm - 1e-9):,.0f} mm / {int(feet)} ft {int(inches)} in"
+
+
+def _clearing_text(site, row):
+    """The device whose opening ends the arc, with the scenario that governs when it is not the normal one."""
+    device = _text_or(row["device_governing"], "")
+    scenario = _text_or(row.get("scenario"), "")
+    normal = getattr(site, "default_scenario", None)
+    worst = f" (worst case: {scenario})" if scenario and scenario != normal else ""
+    if not device:
+        return f"no protective device ends this arc{worst}"
+    return f"{device} opens to end the arc{worst}"
 
 
 def _text_or(value, default):
@@ -124,22 +150,23 @@ def label_content(site, bus, row, shows=None):
     shock = shock_boundary_text(float(row["nominal_kv"]))
     known = np.isfinite(energy)
     danger = known and energy > DANGER_ABOVE_CAL_CM2
+    at_distance = f"{energy_text(energy)} cal/cm2 at {_length(float(row['working_distance_mm']))}"
+    rating = "not applicable"
     if danger:
-        hazard = "ENERGIZED WORK NOT PERMITTED. De-energize and verify absence of voltage before any work."
-        shown = "No PPE category applies (above 40 cal/cm2)"
+        hazard = DANGER_STATEMENT
+        shown = f"{at_distance}: no PPE category applies"  # the energy and its distance stay on the label
     elif not known:
         hazard = "Arc-flash hazard not computed for this equipment: treat as energized and dangerous."
         shown = "not computed"
     else:
         hazard = "Arc-flash and shock hazard. Qualified persons only, with the PPE below."
         if shows == "energy":
-            distance = float(row["working_distance_mm"])
-            shown = f"{energy_text(energy)} cal/cm2 at {_length(distance)}"
+            shown = at_distance
         else:
             category = int(row["ppe_category"])
-            shown = "below 1.2 cal/cm2" if category == 0 else f"PPE category {category}"
-        if energy < 1.2:
-            shown += " (below 1.2 cal/cm2)" if shows == "energy" else ""
+            shown = f"none needed ({BELOW_ONSET})" if category == 0 else f"PPE category {category}"
+        minimum = float(row["minimum_arc_rating_cal_cm2"])
+        rating = BELOW_ONSET_RATING if energy < ONSET_CAL_CM2 else f"{energy_text(minimum)} cal/cm2"
     return LabelContent(
         equipment_id=str(bus),
         description=site.buses[bus].description,
@@ -149,11 +176,11 @@ def label_content(site, bus, row, shows=None):
         arc_flash_boundary=_length(float(row["arc_flash_boundary_governing_mm"])),
         shows=shows,
         energy_or_category=shown,
-        minimum_arc_rating="not applicable" if danger or not known else f"{float(row['minimum_arc_rating_cal_cm2']):.1f} cal/cm2",
+        minimum_arc_rating=rating,
         site_ppe=getattr(f, "site_ppe", "") or "",
         limited_approach=f"{shock['limited_fixed']} fixed parts; {shock['limited_movable']} movable conductors",
         restricted_approach=shock["restricted"],
-        governing_device=_text_or(row["device_governing"], "none"),
+        governing_device=_clearing_text(site, row),
         study_revision=f.study_revision,
         study_date=f.study_date or "",
         review_by=_review_by(f.study_date),
@@ -183,6 +210,7 @@ class LabelLayout:
     down: int
     gutter: float
     blocks: tuple
+    key_min: float | None = None  # smallest size of the key values [pt]; None: label_pdf.MIN_KEY_PT
 
 
 def layout_path(name_or_path):
@@ -212,6 +240,7 @@ def load_layout(name_or_path):
             page_height=_points(data["page"]["height"]), margin=_points(data["margin"]),
             across=int(data["labels_across"]), down=int(data["labels_down"]),
             gutter=_points(data.get("gutter", "0 in")), blocks=tuple(data["blocks"]),
+            key_min=float(data["key_min"]) if "key_min" in data else None,
         )
     except (KeyError, TypeError, ValueError, AttributeError, yaml.YAMLError, UnicodeDecodeError) as exc:
         raise ValueError(f"layout file {path}: expected name, page (width, height), margin, labels_across, "
@@ -233,7 +262,32 @@ BRIEFING_COLUMNS = (("scenario", "governing_case"),
 GOVERNING_COLUMNS = LABEL_TEXT + LABEL_NUMBERS + BRIEFING_COLUMNS[0] + BRIEFING_COLUMNS[1]
 
 
-def read_governing(study_dir, site, briefing=False):
+class StaleStudyError(ValueError):
+    """A study folder whose site data or tool version differ from the site's now; ``changes`` in words."""
+
+    def __init__(self, message, changes):
+        super().__init__(message)
+        self.changes = changes
+
+
+def study_staleness(study_dir, site):
+    """Why the study in ``study_dir`` may not match ``site`` now, in words (empty list: it matches)."""
+    from ..site.fingerprint import fingerprint_changes, site_fingerprint
+    from .results import STUDY_RECORD
+
+    folder = Path(study_dir)
+    try:
+        record = json.loads((folder / STUDY_RECORD).read_text(encoding="utf-8"))
+        recorded, vouched = record["site_data"], record["governing_sha256"]
+    except (OSError, ValueError, KeyError, TypeError):
+        return [f"no readable {STUDY_RECORD} (a study written by an older version, or not by arcflash study)"]
+    changes = fingerprint_changes(recorded, site_fingerprint(site))
+    if hashlib.sha256((folder / "governing.csv").read_bytes()).hexdigest() != vouched:
+        changes.append("governing.csv is not the one the study wrote (edited, or the run was interrupted)")
+    return changes
+
+
+def read_governing(study_dir, site, briefing=False, accept_stale=None):
     """The governing table of an earlier study run (``governing.csv``), checked against the site.
 
     Parameters
@@ -244,11 +298,15 @@ def read_governing(study_dir, site, briefing=False):
         The site it must cover [-]
     briefing : bool
         Also require the columns a briefing sheet reads [-]
+    accept_stale : str, optional
+        The user's reason for using a study that no longer matches the site data; without it such a study
+        is refused (:class:`StaleStudyError`, naming what changed) [-]
 
     Raises
     ------
     ValueError
-        No governing.csv there; not a readable table; a column missing or text in a number column; or it
+        No governing.csv there; the study does not match the site data now (:class:`StaleStudyError`);
+        not a readable table; a column missing or text in a number column; or it
         does not hold the site's buses.
     """
     import pandas as pd
@@ -256,6 +314,11 @@ def read_governing(study_dir, site, briefing=False):
     path = Path(study_dir) / "governing.csv"
     if not path.is_file():
         raise ValueError(f"--study: no governing.csv in {study_dir} (run 'arcflash study' first)")
+    stale = study_staleness(study_dir, site)
+    if stale and accept_stale is None:
+        raise StaleStudyError(f"--study: {study_dir} was not computed from the site data as they are now: "
+                              f"{'; '.join(stale)}. Run 'arcflash study' again, or give --accept-stale-study "
+                              "REASON (recorded in the label ledger).", stale)
     try:
         table = pd.read_csv(path, keep_default_na=False, na_values=[""])
     except (ValueError, UnicodeDecodeError, pd.errors.ParserError) as exc:  # EmptyDataError is a ValueError
@@ -270,6 +333,7 @@ def read_governing(study_dir, site, briefing=False):
             raise ValueError(f"--study: {path} has text in the number column {column!r} (run 'arcflash study' "
                              "again)")
     table = table.set_index("bus")
+    table.attrs["stale"] = stale  # what no longer matches (accepted with a reason), for the ledger
     missing = [b for b in site.buses if b not in table.index]
     if missing:
         raise ValueError(f"--study: {path} lacks bus {missing[0]!r} of the site (a study of another site?)")
@@ -307,10 +371,18 @@ def issue_labels(site, governing, out_dir, layout="label-4x6", sheet="sheet-lett
     -------
     list of LabelContent
         The labels printed.
+
+    Raises
+    ------
+    KeyError
+        An unknown bus.
+    LabelFitError
+        A label's text does not fit the single or the sheet layout at the smallest legible sizes; the
+        message names every such label and the field to shorten. Nothing is printed or recorded.
     """
     from . import ledger
-    from .files import write_atomic
-    from .label_pdf import write_labels_pdf
+    from .files import remove_leftovers, write_atomic
+    from .label_pdf import LabelFitError, unfit_labels, write_labels_pdf
 
     chosen = list(governing.index) if not buses else list(buses)
     unknown = [b for b in chosen if b not in governing.index]
@@ -322,7 +394,12 @@ def issue_labels(site, governing, out_dir, layout="label-4x6", sheet="sheet-lett
         states = ledger.status(book, contents)
         contents = [c for c in contents if states[c.equipment_id] != "current"]
     single, combined = load_layout(layout), load_layout(sheet)
+    unfit = unfit_labels(contents, single) + unfit_labels(contents, combined)
+    if unfit:  # none printed: a label is never printed cut off, nor is a batch printed with one missing
+        raise LabelFitError("; ".join(unfit))
     folder = Path(out_dir) / "labels"
+    remove_leftovers(folder)
+    remove_leftovers(Path(out_dir))
     for content in contents:
         target = folder / safe_file_name(content.equipment_id, content.content_hash)
         write_atomic(target, lambda tmp, c=content: write_labels_pdf([c], single, tmp))

@@ -27,6 +27,16 @@ CREATE TABLE IF NOT EXISTS issued (
     issued_by TEXT
 );
 CREATE INDEX IF NOT EXISTS issued_equipment ON issued (equipment_id, id);
+CREATE TABLE IF NOT EXISTS stale_study_overrides (
+    id INTEGER PRIMARY KEY AUTOINCREMENT,
+    used_at TEXT NOT NULL,
+    command TEXT NOT NULL,
+    study_dir TEXT NOT NULL,
+    reason TEXT NOT NULL,
+    changes TEXT NOT NULL,
+    equipment TEXT NOT NULL,
+    used_by TEXT
+);
 """
 
 
@@ -55,6 +65,30 @@ def record(path, contents, layout, issued_by=None, when=None):
                 [(c.equipment_id, c.study_revision, c.content_hash, json.dumps(asdict(c), ensure_ascii=False), stamp,
                   layout, issued_by) for c in contents],
             )
+    finally:
+        connection.close()
+
+
+def record_override(path, command, study_dir, reason, changes, equipment, used_by=None, when=None):
+    """Record that a study no longer matching the site data was used anyway, with the user's reason."""
+    stamp = (when or dt.datetime.now(dt.timezone.utc)).isoformat(timespec="seconds")
+    connection = connect(path)
+    try:
+        with connection:
+            connection.execute(
+                "INSERT INTO stale_study_overrides (used_at, command, study_dir, reason, changes, equipment, used_by)"
+                " VALUES (?, ?, ?, ?, ?, ?, ?)",
+                (stamp, command, str(study_dir), reason, "; ".join(changes), ", ".join(map(str, equipment)), used_by))
+    finally:
+        connection.close()
+
+
+def overrides(path):
+    """Every recorded use of a stale study, oldest first, as dicts."""
+    connection = connect(path)
+    try:
+        connection.row_factory = sqlite3.Row
+        return [dict(row) for row in connection.execute("SELECT * FROM stale_study_overrides ORDER BY id")]
     finally:
         connection.close()
 

@@ -2,10 +2,14 @@
 
 from __future__ import annotations
 
+import datetime as dt
+import hashlib
+import json
 from pathlib import Path
 
 import pandas as pd
 
+from ..site.fingerprint import site_fingerprint
 from .cautions import CAUTION
 from .files import write_atomic
 
@@ -45,9 +49,14 @@ def _write_xlsx(path, sheets):
     book.save(path)
 
 
+#: The record of a study run: the fingerprint of the site data it used and the hash of its governing.csv.
+STUDY_RECORD = "study.json"
+
+
 def write_results(site, results, out_dir, report=True, tcc_buses=None):
     """Write ``results.csv`` (every bus × scenario), ``governing.csv``, ``steps.csv`` (device openings of
-    arcs followed stage by stage), ``results.xlsx`` and ``report.pdf``.
+    arcs followed stage by stage), ``results.xlsx``, ``report.pdf`` and, last, ``study.json`` (the
+    fingerprint of the site data and the hash of governing.csv, see :mod:`arcflash.site.fingerprint`).
 
     Returns
     -------
@@ -72,4 +81,10 @@ def write_results(site, results, out_dir, report=True, tcc_buses=None):
 
         paths["report.pdf"] = out / "report.pdf"
         write_atomic(paths["report.pdf"], lambda tmp: write_report(site, results, tmp, tcc_buses=tcc_buses))
+    paths[STUDY_RECORD] = out / STUDY_RECORD  # last: it vouches for the governing.csv written above
+    record = {"tool": "arcflash", "site": site.facility.name, "study_revision": site.facility.study_revision,
+              "written_at": dt.datetime.now(dt.timezone.utc).isoformat(timespec="seconds"),
+              "site_data": site_fingerprint(site),
+              "governing_sha256": hashlib.sha256(paths["governing.csv"].read_bytes()).hexdigest()}
+    write_atomic(paths[STUDY_RECORD], lambda tmp: Path(tmp).write_text(json.dumps(record, indent=2), encoding="utf-8"))
     return paths

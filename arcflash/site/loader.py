@@ -105,7 +105,8 @@ def _validation_problems(exc, file, item, label, model):
     return problems
 
 
-def _files(path):
+def site_files(path):
+    """The site-data files of a folder (or the one file given), sorted; SiteDataError if there are none."""
     path = Path(path)
     if path.is_file():
         return [path]
@@ -262,7 +263,7 @@ def load_site(path):
         With every problem found, each naming file, line, field, value and
         what was expected.
     """
-    files = _files(path)
+    files = site_files(path)
     problems = []
     items, facilities = _read_documents(files, problems)
     facility = _validate_facility(facilities, problems, unreadable=bool(problems))

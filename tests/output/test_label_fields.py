@@ -21,14 +21,14 @@ import pytest
 import arcflash
 from arcflash.output import ledger
 from arcflash.output.labels import (
-    LabelContent, _points, _review_by, issue_labels, label_content, layout_names, load_layout, read_governing,
-    safe_file_name,
+    BELOW_ONSET_RATING, DANGER_STATEMENT, LabelContent, _points, _review_by, issue_labels, label_content,
+    layout_names, load_layout, read_governing, safe_file_name,
 )
 
 DEMO = Path(__file__).resolve().parents[2] / "site_data" / "fenwick_ridge"
 #: Our own wording of the three hazard sentences (regression of the text, not validation).
 ENERGIZED = "Arc-flash and shock hazard. Qualified persons only, with the PPE below."
-NOT_PERMITTED = "ENERGIZED WORK NOT PERMITTED. De-energize and verify absence of voltage before any work."
+NOT_PERMITTED = DANGER_STATEMENT
 NOT_COMPUTED = "Arc-flash hazard not computed for this equipment: treat as energized and dangerous."
 # NFPA 70E Table 130.4(E)(a), 151 V - 750 V row: limited approach 10 ft 0 in (movable), 3 ft 6 in (fixed),
 # restricted 1 ft 0 in; 751 V - 15 kV row: 10 ft 0 in, 5 ft 0 in, 2 ft 2 in.
@@ -53,12 +53,12 @@ def _row(energy=5.23, kv=0.48, boundary_mm=1000.0, distance_mm=457.2, category=2
 def _expected(**changes):
     base = dict(equipment_id="PNL-7", description="Panel seven", signal_word="WARNING", hazard=ENERGIZED,
                 nominal_voltage="480 V",
-                # 1000 mm = 39.37 in, rounded up to 40 in = 3 ft 4 in; 1.0 m rounded up to 0.1 m.
-                arc_flash_boundary="3 ft 4 in (1.0 m)", shows="energy",
-                # 5.23 rounded up to 0.1 cal/cm2; 457.2 mm = 18 in exactly = 1 ft 6 in; 0.4572 m up to 0.5 m.
-                energy_or_category="5.3 cal/cm2 at 1 ft 6 in (0.5 m)", minimum_arc_rating="5.3 cal/cm2",
+                # 1000 mm = 39.37 in, rounded up to 40 in = 3 ft 4 in (both units from the one value, rounded up).
+                arc_flash_boundary="1,000 mm / 3 ft 4 in", shows="energy",
+                # 5.23 rounded up to 0.1 cal/cm2; 457.2 mm up to 458 mm; 457.2 mm = 18 in exactly = 1 ft 6 in.
+                energy_or_category="5.3 cal/cm2 at 458 mm / 1 ft 6 in", minimum_arc_rating="5.3 cal/cm2",
                 site_ppe="", limited_approach=LIMITED_480, restricted_approach="1 ft 0 in (0.3 m)",
-                governing_device="CB-1", study_revision="R3", study_date="2026-06-01",
+                governing_device="CB-1 opens to end the arc", study_revision="R3", study_date="2026-06-01",
                 # NFPA 70E 130.5: the data are reviewed at intervals not over 5 years.
                 review_by="2031-06-01", flags="")
     base.update(changes)
@@ -83,24 +83,29 @@ def test_below_1_2_cal_in_both_modes():
     # IEEE 1584-2018 3.1 / NFPA 70E: 1.2 cal/cm2 is the onset of a second-degree burn (the boundary energy).
     row = _row(energy=0.81, category=0, rating=0.9, boundary_mm=300.0)
     energy = label_content(_site(), "PNL-7", row)
-    assert energy == _expected(energy_or_category="0.9 cal/cm2 at 1 ft 6 in (0.5 m) (below 1.2 cal/cm2)",
-                               minimum_arc_rating="0.9 cal/cm2", arc_flash_boundary="1 ft 0 in (0.3 m)")
+    # No clothing is rated below 1.2 cal/cm2: the label says what applies in words (BELOW_ONSET_RATING).
+    assert energy == _expected(energy_or_category="0.9 cal/cm2 at 458 mm / 1 ft 6 in",
+                               minimum_arc_rating=BELOW_ONSET_RATING, arc_flash_boundary="300 mm / 1 ft 0 in")
     category = label_content(_site(), "PNL-7", row, shows="category")
-    assert category == _expected(shows="category", energy_or_category="below 1.2 cal/cm2",
-                                 minimum_arc_rating="0.9 cal/cm2", arc_flash_boundary="1 ft 0 in (0.3 m)")
+    assert category == _expected(shows="category", energy_or_category="none needed (below 1.2 cal/cm2)",
+                                 minimum_arc_rating=BELOW_ONSET_RATING, arc_flash_boundary="300 mm / 1 ft 0 in")
+    assert "1.2 cal/cm2" in BELOW_ONSET_RATING and "none required" in BELOW_ONSET_RATING
 
 
 @pytest.mark.parametrize("shows", ["energy", "category"])
 def test_danger_label_every_field(shows):
-    # NFPA 70E Table 130.7(C)(15)(c): no category above 40 cal/cm2 -> DANGER, no arc rating printed.
+    # NFPA 70E Table 130.7(C)(15)(c): no category above 40 cal/cm2 -> DANGER, no arc rating printed; the
+    # energy and its working distance stay on the label in both modes (914.4 mm up to 915 mm = 3 ft 0 in).
     row = _row(energy=52.0, kv=13.8, boundary_mm=12000.0, distance_mm=914.4, category=-1, rating=52.0,
                device="R-52", flags="capped at 2 s")
     got = label_content(_site(), "SWG-9", row, shows=shows)
     assert got == _expected(equipment_id="SWG-9", description="MV gear", signal_word="DANGER", hazard=NOT_PERMITTED,
-                            nominal_voltage="13.8 kV", arc_flash_boundary="39 ft 5 in (12.0 m)", shows=shows,
-                            energy_or_category="No PPE category applies (above 40 cal/cm2)",
+                            nominal_voltage="13.8 kV", arc_flash_boundary="12,000 mm / 39 ft 5 in", shows=shows,
+                            energy_or_category="52.0 cal/cm2 at 915 mm / 3 ft 0 in: no PPE category applies",
                             minimum_arc_rating="not applicable", limited_approach=LIMITED_13_8,
-                            restricted_approach="2 ft 2 in (0.7 m)", governing_device="R-52", flags="capped at 2 s")
+                            restricted_approach="2 ft 2 in (0.7 m)", governing_device="R-52 opens to end the arc",
+                            flags="capped at 2 s")
+    assert "No PPE category applies" in got.hazard and "de-energize" in got.hazard
 
 
 def test_energy_not_computed_is_danger():
@@ -108,7 +113,7 @@ def test_energy_not_computed_is_danger():
     got = label_content(_site(site_ppe="Face shield at all panels"), "PNL-7", row)
     assert got == _expected(signal_word="DANGER", hazard=NOT_COMPUTED, arc_flash_boundary="not computed",
                             energy_or_category="not computed", minimum_arc_rating="not applicable",
-                            site_ppe="Face shield at all panels", governing_device="none")
+                            site_ppe="Face shield at all panels", governing_device="no protective device ends this arc")
 
 
 def test_unknown_display_mode_is_refused():
@@ -119,11 +124,23 @@ def test_unknown_display_mode_is_refused():
 def test_exactly_1_2_cal_is_not_below_1_2():
     # IEEE 1584-2018 3.1: the boundary is where the energy is 1.2 cal/cm2; exactly 1.2 is at it, not below it.
     got = label_content(_site(), "PNL-7", _row(energy=1.2, category=1, rating=1.2))
-    assert got.energy_or_category == "1.2 cal/cm2 at 1 ft 6 in (0.5 m)"
+    assert got.energy_or_category == "1.2 cal/cm2 at 458 mm / 1 ft 6 in"
+    assert got.minimum_arc_rating == "1.2 cal/cm2"
 
 
-def test_an_empty_device_cell_prints_none():
-    assert label_content(_site(), "PNL-7", _row(device="")).governing_device == "none"
+def test_an_empty_device_cell_says_no_device_ends_the_arc():
+    assert label_content(_site(), "PNL-7", _row(device="")).governing_device == "no protective device ends this arc"
+
+
+def test_the_clearing_line_names_a_scenario_other_than_the_normal_one():
+    site = _site()
+    site.default_scenario = "normal"
+    row = _row()
+    assert label_content(site, "PNL-7", row).governing_device == "CB-1 opens to end the arc"
+    row["scenario"] = "normal"
+    assert label_content(site, "PNL-7", row).governing_device == "CB-1 opens to end the arc"
+    row["scenario"] = "tie-closed"
+    assert label_content(site, "PNL-7", row).governing_device == "CB-1 opens to end the arc (worst case: tie-closed)"
 
 
 @pytest.mark.parametrize("kv, text", [(0.208, "208 V"), (0.6, "600 V"), (1.0, "1 kV"), (4.16, "4.16 kV")])
@@ -181,6 +198,10 @@ def site_copy(tmp_path):
     return arcflash.load_site(tmp_path / "site")
 
 
+#: A table written by hand has no study record: reading it needs the override that a stale study needs.
+HAND_BUILT = "hand-built table (test)"
+
+
 def _governing_csv(folder, site, drop=None):
     rows = []
     for bus in site.buses:
@@ -199,22 +220,22 @@ def test_reading_an_earlier_study(site_copy, tmp_path):
     first = next(iter(site_copy.buses))
     _governing_csv(tmp_path / "other", site_copy, drop=first)
     with pytest.raises(ValueError, match=f"lacks bus '{first}' of the site"):
-        read_governing(tmp_path / "other", site_copy)
+        read_governing(tmp_path / "other", site_copy, accept_stale=HAND_BUILT)
     _governing_csv(tmp_path / "study", site_copy)
     frame = pd.read_csv(tmp_path / "study" / "governing.csv")
     frame.loc[0, "device_governing"] = None  # an arc no device clears: empty cell
     frame.loc[1, "device_governing"] = "NA"  # a device may be called NA: read as text, not as missing
     frame.to_csv(tmp_path / "study" / "governing.csv", index=False)
-    table = read_governing(tmp_path / "study", site_copy)
+    table = read_governing(tmp_path / "study", site_copy, accept_stale=HAND_BUILT)
     assert table.loc[first, "device_governing"] is None and table.loc[first, "flags"] == ""
-    assert label_content(site_copy, first, table.loc[first]).governing_device == "none"
+    assert label_content(site_copy, first, table.loc[first]).governing_device == "no protective device ends this arc"
     assert set(site_copy.buses) <= set(table.index)
     assert table.iloc[1]["device_governing"] == "NA"
 
 
 def test_a_batch_prints_the_chosen_labels_only(site_copy, tmp_path):
     _governing_csv(tmp_path / "study", site_copy)
-    governing = read_governing(tmp_path / "study", site_copy)
+    governing = read_governing(tmp_path / "study", site_copy, accept_stale=HAND_BUILT)
     chosen = list(site_copy.buses)[:2]
     printed = issue_labels(site_copy, governing, tmp_path / "out", buses=chosen, issued_by="tester")
     assert [c.equipment_id for c in printed] == chosen

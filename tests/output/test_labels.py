@@ -38,7 +38,7 @@ def test_content_fields_per_130_5_h(study, tmp_path):
     for expected in ("480 V", "Arc-flash boundary", content.arc_flash_boundary, "Incident energy at working distance",
                      content.energy_or_category, "Minimum arc rating", content.minimum_arc_rating,
                      "Limited approach", "3 ft 6 in (1.0 m)", "Restricted approach", "1 ft 0 in (0.3 m)",
-                     "Equipment SWG-A", "Protective device", "review by 2031-12-01"):
+                     "Equipment SWG-A", "Arc cleared: ", "review by 2031-12-01"):
         assert expected in text, expected
     assert "cal/cm2" in content.energy_or_category and " ft " in content.arc_flash_boundary
 
@@ -59,7 +59,8 @@ def test_danger_above_40_cal(study):
     site, governing = study
     content = label_content(site, "TC-SEC", governing.loc["TC-SEC"])
     assert governing.loc["TC-SEC", "incident_energy_governing_cal_cm2"] > 40
-    assert content.signal_word == "DANGER" and "NOT PERMITTED" in content.hazard
+    assert content.signal_word == "DANGER" and "No PPE category applies" in content.hazard
+    assert "de-energize" in content.hazard and "engineered plan" in content.hazard
     assert content.minimum_arc_rating == "not applicable"
 
 
@@ -75,7 +76,7 @@ def _with_energy(row, energy):
 
 @pytest.mark.parametrize("energy, word, category_text", [
     (39.99, "WARNING", "PPE category 4"), (40.0, "WARNING", "PPE category 4"),
-    (40.01, "DANGER", "No PPE category applies"),
+    (40.01, "DANGER", "no PPE category applies"),
 ])
 def test_danger_edge_is_the_category_edge(study, energy, word, category_text):
     # NFPA 70E Table 130.7(C)(15)(c): category 4 PPE is rated 40 cal/cm2, so exactly 40.0 is category 4 (WARNING)
@@ -99,12 +100,12 @@ def test_printed_energy_is_rounded_up(study, energy, printed):
     assert content.energy_or_category.startswith(f"{printed} cal/cm2 at ")
 
 
-@pytest.mark.parametrize("mm, printed", [(914.4, "3 ft 0 in (1.0 m)"), (914.5, "3 ft 1 in (1.0 m)"),
-                                         (1000.1, "3 ft 4 in (1.1 m)"), (1200.0, "4 ft 0 in (1.2 m)"),
-                                         (1219.2, "4 ft 0 in (1.3 m)")])
+@pytest.mark.parametrize("mm, printed", [(914.4, "915 mm / 3 ft 0 in"), (914.5, "915 mm / 3 ft 1 in"),
+                                         (1000.1, "1,001 mm / 3 ft 4 in"), (1200.0, "1,200 mm / 4 ft 0 in"),
+                                         (1219.2, "1,220 mm / 4 ft 0 in")])
 def test_printed_boundary_is_rounded_up_in_both_units(study, mm, printed):
-    # Common practice: a printed boundary is never shorter than the computed one, in feet-inches and in metres
-    # (25.4 mm/in exactly; 914.4 mm is 3 ft exactly).
+    # Common practice: a printed boundary is never shorter than the computed one, in millimetres and in
+    # feet-inches, both from the one value (25.4 mm/in exactly; 914.4 mm is 3 ft exactly).
     site, governing = study
     row = governing.loc["SWG-A"].copy()
     row["arc_flash_boundary_governing_mm"] = mm
@@ -182,11 +183,11 @@ def test_content_hash_stable_for_unchanged_input(study, energy, distance):
 
 
 def _ft_in_m(mm):
-    # Independent rounding (common practice: never below the computed boundary): up to the whole inch, up to 0.1 m.
+    # Independent rounding (common practice: never below the computed boundary): up to the whole mm and inch.
     import math
 
     inches = math.ceil(mm / 25.4 - 1e-9)
-    return f"{inches // 12} ft {inches % 12} in ({math.ceil(mm / 100.0 - 1e-9) / 10.0:.1f} m)"
+    return f"{math.ceil(mm - 1e-9):,} mm / {inches // 12} ft {inches % 12} in"
 
 
 @pytest.mark.parametrize("shows", ["energy", "category"])
@@ -210,16 +211,21 @@ def test_printed_label_values_read_back_from_the_pdf(study, tmp_path, shows):
         assert volts in text, bus
         assert _ft_in_m(float(row["arc_flash_boundary_governing_mm"])) in text, bus
         device = label_content(site, bus, row, shows=shows).governing_device
-        assert device == (row["device_governing"] or "none") and device in text, bus  # the device ending the arc
+        named = row["device_governing"]  # the device ending the arc, in words
+        assert device.startswith(f"{named} opens to end the arc" if named else "no protective device"), bus
+        assert device in text, bus
         if danger:
             assert "No PPE category applies" in text and "PPE category 4" not in text
+            # the energy and its working distance stay on a DANGER label
+            printed = f"{math.ceil(energy * 10.0 - 1e-9) / 10.0:.1f} cal/cm2 at {_ft_in_m(float(row['working_distance_mm']))}"
+            assert printed in text, bus
         elif shows == "energy":
             printed = f"{math.ceil(energy * 10.0 - 1e-9) / 10.0:.1f} cal/cm2 at {_ft_in_m(float(row['working_distance_mm']))}"
             assert printed in text, bus
             assert "PPE category" not in text, bus
         else:
             category = 0 if energy < 1.2 else next(c for c, limit in ((1, 4), (2, 8), (3, 25), (4, 40)) if energy <= limit)
-            shown = "below 1.2 cal/cm2" if category == 0 else f"PPE category {category}"
+            shown = "none needed (below 1.2 cal/cm2)" if category == 0 else f"PPE category {category}"
             assert shown in text, bus
             assert "Incident energy" not in text and "cal/cm2 at" not in text, bus
             # Never both: the category field holds the category alone, no energy beside it.

@@ -107,3 +107,48 @@ def test_labels_from_an_earlier_study(site_copy, tmp_path):
     missing = runner.invoke(main, ["labels", "print", str(site_copy), "--out", str(tmp_path / "b"),
                                    "--study", str(tmp_path)])
     assert missing.exit_code == 2 and "no governing.csv" in missing.output
+
+
+def test_a_study_that_no_longer_matches_the_site_is_refused_unless_a_reason_is_recorded(site_copy, tmp_path):
+    # issue 13: a label printed from a study made before a breaker setting changed printed the old energy
+    runner = CliRunner()
+    study = tmp_path / "study"
+    assert runner.invoke(main, ["study", str(site_copy), "--out", str(study), "--quiet", "--no-report"]).exit_code == 0
+    devices = site_copy / "devices.yaml"
+    devices.write_text(devices.read_text(encoding="utf-8") + "\n# setting sheet rev B\n", encoding="utf-8")
+    label = ["labels", "print", str(site_copy), "--out", str(tmp_path / "a"), "--study", str(study), "--bus", "SWG-A"]
+    brief = ["briefing", str(site_copy), "SWG-A", "--out", str(tmp_path / "b.pdf"), "--study", str(study)]
+    for command in (label, brief):
+        refused = runner.invoke(main, command)
+        assert refused.exit_code == 2 and "devices.yaml changed" in refused.output
+        assert "--accept-stale-study" in refused.output
+    assert not (tmp_path / "a").exists() and not (tmp_path / "b.pdf").exists()
+    book = ledger.ledger_path(site_copy)
+    assert ledger.latest(book) == {}
+    accepted = runner.invoke(main, label + ["--accept-stale-study", "comment line only", "--issued-by", "J. Doe"])
+    assert accepted.exit_code == 0, accepted.output
+    assert runner.invoke(main, brief + ["--accept-stale-study", "comment line only"]).exit_code == 0
+    records = ledger.overrides(book)
+    assert [(r["command"], r["reason"], r["changes"], r["equipment"]) for r in records] == [
+        ("labels print", "comment line only", "devices.yaml changed", "SWG-A"),
+        ("briefing", "comment line only", "devices.yaml changed", "SWG-A")]
+    assert records[0]["used_by"] == "J. Doe"
+    blank = runner.invoke(main, label + ["--accept-stale-study", "  "])
+    assert blank.exit_code == 2 and "expected a reason in words" in blank.output
+
+
+def test_a_study_whose_governing_table_was_edited_or_has_no_record_is_stale(site_copy, tmp_path):
+    from arcflash.output.labels import study_staleness
+
+    study = tmp_path / "study"
+    assert CliRunner().invoke(main, ["study", str(site_copy), "--out", str(study), "--quiet",
+                                     "--no-report"]).exit_code == 0
+    site = arcflash.load_site(site_copy)
+    assert study_staleness(study, site) == []
+    table = study / "governing.csv"
+    table.write_text(table.read_text(encoding="utf-8").replace("WARNING", "WARNING "), encoding="utf-8")
+    table.write_bytes(table.read_bytes() + b"\n")
+    assert study_staleness(study, site) == [
+        "governing.csv is not the one the study wrote (edited, or the run was interrupted)"]
+    (study / "study.json").unlink()
+    assert "no readable study.json" in study_staleness(study, site)[0]

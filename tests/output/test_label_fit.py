@@ -1,0 +1,161 @@
+"""Every layout: every label of the demo drawn in full, no string past its block, key values legible.
+
+Checks are on the strings the drawing records (:class:`arcflash.output.label_pdf.Placed`): each string's
+width (reportlab's font metrics) and baseline lie inside its block's box. Sizes: our stated minimums
+(label_pdf.MIN_TEXT_PT; key values 10 pt on 4 x 6 in and 100 x 150 mm stock, issue 13).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import io
+
+import pytest
+from click.testing import CliRunner
+from reportlab.pdfbase.pdfmetrics import stringWidth
+from reportlab.pdfgen.canvas import Canvas
+
+import arcflash
+from arcflash.cli import main
+from arcflash.output import label_pdf
+from arcflash.output.labels import issue_labels, label_content, layout_names, load_layout
+from arcflash.study.pipeline import run_study
+from tests.output.test_label_fields import DEMO
+
+#: An everyday site PPE text of realistic length (invented wording).
+SITE_PPE = ("Arc-rated shirt and trousers or coverall, arc-rated face shield and balaclava, hard hat, safety "
+            "glasses, hearing protection, leather gloves over rubber insulating gloves, leather footwear")
+
+
+@pytest.fixture(scope="module")
+def demo_labels():
+    site = arcflash.load_site(DEMO)
+    governing = run_study(site).governing
+    contents = [label_content(site, bus, governing.loc[bus]) for bus in governing.index]
+    return contents + [dataclasses.replace(contents[0], site_ppe=SITE_PPE)]
+
+
+def _draw(content, layout):
+    width, height = label_pdf._cell(layout)
+    return label_pdf.draw_label(Canvas(io.BytesIO()), content, 0.0, height, width, height, layout)
+
+
+def _joined(placed, block):
+    return " ".join(p.text for p in placed if p.block == block)
+
+
+@pytest.mark.parametrize("name", layout_names())
+def test_every_string_lies_inside_its_block(demo_labels, name):
+    layout = load_layout(name)
+    for content in demo_labels:
+        try:
+            placed = _draw(content, layout)
+        except label_pdf.LabelFitError as exc:  # refused, never cut: only the long site PPE on 4 x 4 in
+            assert name == "label-4x4" and content.site_ppe == SITE_PPE and "shorten site_ppe" in str(exc)
+            continue
+        for p in placed:
+            x0, y0, x1, y1 = p.box
+            assert x0 - 1e-6 <= p.x and p.x + stringWidth(p.text, p.font, p.size) <= x1 + 1e-6, (name, p)
+            assert y0 - 1e-6 <= p.y - 0.25 * p.size and p.y + p.size <= y1 + 1e-6, (name, p)
+            assert p.size >= label_pdf.MIN_TEXT_PT - 1e-9, (name, p)
+
+
+@pytest.mark.parametrize("name", layout_names())
+def test_the_full_hazard_statement_and_every_value_are_printed(demo_labels, name):
+    layout = load_layout(name)
+    for content in demo_labels[:-1]:
+        placed = _draw(content, layout)
+        assert _joined(placed, "hazard") == content.hazard, (name, content.equipment_id)
+        data = _joined(placed, "data")
+        for value in (content.nominal_voltage, content.arc_flash_boundary, content.energy_or_category,
+                      content.minimum_arc_rating, content.restricted_approach):
+            assert " ".join(value.split()) in data, (name, content.equipment_id, value)
+
+
+def test_a_danger_label_shows_the_energy_and_working_distance(demo_labels):
+    danger = [c for c in demo_labels[:-1] if c.signal_word == "DANGER" and "cal/cm2 at" in c.energy_or_category]
+    assert danger  # the demo has buses above 40 cal/cm2 (MV-MAIN, TC-SEC)
+    for name in layout_names():
+        for content in danger:
+            data = _joined(_draw(content, load_layout(name)), "data")
+            assert "Incident energy at working distance" in data and "PPE category 4" not in data
+            assert " ".join(content.energy_or_category.split()) in data
+
+
+@pytest.mark.parametrize("name", ["label-4x6", "label-100x150"])
+def test_key_values_are_at_least_10_pt_and_the_largest_below_the_panel(demo_labels, name):
+    layout = load_layout(name)
+    for content in demo_labels:
+        placed = _draw(content, layout)
+        keys = [p for p in placed if p.block == "data" and p.font.endswith("Bold")
+                and p.field in ("nominal_voltage", "arc_flash_boundary", "energy_or_category")]
+        assert keys and min(p.size for p in keys) >= 10.0
+        others = [p for p in placed if p not in keys]
+        assert min(p.size for p in keys) > max(p.size for p in others)
+
+
+def test_a_label_that_does_not_fit_is_refused_naming_bus_and_field(demo_labels, tmp_path):
+    site = arcflash.load_site(DEMO)
+    governing = run_study(site).governing
+    text = "Arc-rated suit and hood rated 40 cal/cm2 minimum; " * 12
+    site = dataclasses.replace(site, facility=site.facility.model_copy(update={"site_ppe": text}),
+                               path=tmp_path / "site")
+    with pytest.raises(label_pdf.LabelFitError, match=r"label of MV-MAIN: .* shorten site_ppe"):
+        issue_labels(site, governing, tmp_path / "out", buses=["MV-MAIN"])
+    assert not (tmp_path / "out" / "labels").exists()  # nothing printed, nothing recorded
+
+
+def test_leftover_temporary_files_are_removed_at_the_next_run(tmp_path):
+    import os
+    import time
+
+    from arcflash.output.files import LEFTOVER_AGE_S, remove_leftovers
+
+    folder = tmp_path / "labels"
+    folder.mkdir()
+    old = folder / ".SWG-A-1234abcd.x8f2k1.part.pdf"
+    fresh = folder / ".SWG-B-5678abcd.q1w2e3.part.pdf"
+    kept = folder / "SWG-A-1234abcd.pdf"
+    for path in (old, fresh, kept):
+        path.write_bytes(b"%PDF-1.4 partial")
+    past = time.time() - LEFTOVER_AGE_S - 5
+    os.utime(old, (past, past))
+    os.utime(kept, (past, past))
+    assert remove_leftovers(folder) == [old.name]  # a fresh one may be another run's, still being written
+    assert not old.exists() and fresh.exists() and kept.exists()
+
+
+def test_the_cli_refuses_a_label_that_does_not_fit(tmp_path):
+    import shutil
+
+    site = tmp_path / "site"
+    shutil.copytree(DEMO, site)
+    shutil.copytree(DEMO.parent / "libraries", tmp_path / "libraries")
+    facility = site / "facility.yaml"
+    long_text = "Arc-rated suit and hood rated 40 cal/cm2 minimum " * 12
+    facility.write_text(facility.read_text(encoding="utf-8").replace(
+        "  study_revision: A\n", f"  study_revision: A\n  site_ppe: {long_text}\n"), encoding="utf-8")
+    result = CliRunner().invoke(main, ["labels", "print", str(site), "--out", str(tmp_path / "out"),
+                                       "--bus", "SWG-A", "--layout", "label-4x4"])
+    assert result.exit_code == 2 and "label of SWG-A" in result.output and "shorten site_ppe" in result.output
+    assert not (tmp_path / "out").exists()
+
+
+@pytest.mark.parametrize("name", ["label-4x6", "label-4x4", "sheet-letter-2x2"])
+def test_the_printed_qr_code_reads_back_as_its_payload(demo_labels, tmp_path, name):
+    # Decoded by an independent reader (zbarimg, Debian package zbar-tools) from the page rendered at 300 dpi.
+    import shutil
+    import subprocess
+
+    from arcflash.output.label_pdf import write_labels_pdf
+
+    if shutil.which("pdftoppm") is None or shutil.which("zbarimg") is None:
+        pytest.skip("pdftoppm (poppler-utils) and zbarimg (zbar-tools) are needed; .ci/run installs them")
+    content = demo_labels[0]
+    pdf = tmp_path / "label.pdf"
+    write_labels_pdf([content], load_layout(name), pdf)
+    subprocess.run(["pdftoppm", "-r", "300", "-png", "-f", "1", "-l", "1", str(pdf), str(tmp_path / "page")],
+                   check=True)
+    png = next(tmp_path.glob("page*.png"))
+    read = subprocess.run(["zbarimg", "--raw", "-q", str(png)], capture_output=True, text=True)
+    assert read.stdout.strip() == content.qr_payload
