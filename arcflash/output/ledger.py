@@ -53,34 +53,36 @@ def connect(path):
     return connection
 
 
-def record(path, contents, layout, issued_by=None, when=None):
-    """Record a batch of issued labels in one transaction."""
-    stamp = (when or dt.datetime.now(dt.timezone.utc)).isoformat(timespec="seconds")
+def _stamp(when):
+    return (when or dt.datetime.now(dt.timezone.utc)).isoformat(timespec="seconds")
+
+
+def _insert(path, table, columns, rows):
+    """Insert ``rows`` (tuples in the order of ``columns``) into ``table`` in one transaction."""
     connection = connect(path)
     try:
         with connection:
-            connection.executemany(
-                "INSERT INTO issued (equipment_id, study_revision, content_hash, content, issued_at, layout, issued_by)"
-                " VALUES (?, ?, ?, ?, ?, ?, ?)",
-                [(c.equipment_id, c.study_revision, c.content_hash, json.dumps(asdict(c), ensure_ascii=False), stamp,
-                  layout, issued_by) for c in contents],
-            )
+            connection.executemany(f"INSERT INTO {table} ({', '.join(columns)}) "
+                                   f"VALUES ({', '.join('?' * len(columns))})", rows)
     finally:
         connection.close()
+
+
+def record(path, contents, layout, issued_by=None, when=None):
+    """Record a batch of issued labels in one transaction."""
+    stamp = _stamp(when)
+    _insert(path, "issued", ("equipment_id", "study_revision", "content_hash", "content", "issued_at", "layout",
+                             "issued_by"),
+            [(c.equipment_id, c.study_revision, c.content_hash, json.dumps(asdict(c), ensure_ascii=False), stamp,
+              layout, issued_by) for c in contents])
 
 
 def record_override(path, command, study_dir, reason, changes, equipment, used_by=None, when=None):
     """Record that a study no longer matching the site data was used anyway, with the user's reason."""
-    stamp = (when or dt.datetime.now(dt.timezone.utc)).isoformat(timespec="seconds")
-    connection = connect(path)
-    try:
-        with connection:
-            connection.execute(
-                "INSERT INTO stale_study_overrides (used_at, command, study_dir, reason, changes, equipment, used_by)"
-                " VALUES (?, ?, ?, ?, ?, ?, ?)",
-                (stamp, command, str(study_dir), reason, "; ".join(changes), ", ".join(map(str, equipment)), used_by))
-    finally:
-        connection.close()
+    _insert(path, "stale_study_overrides", ("used_at", "command", "study_dir", "reason", "changes", "equipment",
+                                            "used_by"),
+            [(_stamp(when), command, str(study_dir), reason, "; ".join(changes), ", ".join(map(str, equipment)),
+              used_by)])
 
 
 def overrides(path):
