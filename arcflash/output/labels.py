@@ -18,7 +18,7 @@ from pathlib import Path
 import numpy as np
 import yaml
 
-from ..models.nfpa70e import NO_CATEGORY_ABOVE_CAL_CM2, shock_boundary_text
+from ..models.nfpa70e import BOUNDARY_ENERGY_CAL_CM2, NO_CATEGORY_ABOVE_CAL_CM2, shock_boundary_text
 from ..models.units import mm_to_feet_inches
 from .text import energy_text
 
@@ -27,8 +27,8 @@ from .text import energy_text
 #: 40.0 cal/cm²; the same edge as :func:`arcflash.models.nfpa70e.ppe_category`) [cal/cm²].
 DANGER_ABOVE_CAL_CM2 = NO_CATEGORY_ABOVE_CAL_CM2
 #: Incident energy at which a second-degree burn begins: the arc-flash boundary's energy (IEEE 1584-2018
-#: clause 3.1, 5.0 J/cm² = 1.2 cal/cm², from memory) [cal/cm²]. Below it no arc rating is required.
-ONSET_CAL_CM2 = 1.2
+#: clause 3.1) [cal/cm²]. Below it no arc rating is required.
+ONSET_CAL_CM2 = BOUNDARY_ENERGY_CAL_CM2
 BELOW_ONSET = "below 1.2 cal/cm2"
 #: What a label says instead of a rating below the onset: NFPA 70E Table 130.5(G) asks for non-melting or
 #: untreated natural-fibre clothing there (from memory); no arc-rated clothing is rated below 1.2 cal/cm².
@@ -93,6 +93,23 @@ def _length(mm):
         return "not computed"
     feet, inches = mm_to_feet_inches(mm)
     return f"{np.ceil(mm - 1e-9):,.0f} mm / {int(feet)} ft {int(inches)} in"
+
+
+def _site_ppe(bands, energy, rating, bus):
+    """The text of the first site PPE band covering ``energy``; ValueError if none does or it is under-rated."""
+    if not bands:
+        return ""
+    # a band covers energies up to its upper edge; one not arc-rated covers only energies below the onset
+    band = next((b for b in bands if energy <= b.up_to_cal_cm2
+                 and (b.arc_rating_cal_cm2 >= ONSET_CAL_CM2 or energy < ONSET_CAL_CM2)), None)
+    if band is None:
+        raise ValueError(f"label of {bus}: no site PPE band (facility.site_ppe) covers {energy_text(energy)} "
+                         f"cal/cm2 (the highest covers {bands[-1].up_to_cal_cm2:g}): add a band")
+    needed = float(np.ceil(energy * 10.0 - 1e-9) / 10.0)
+    if energy >= ONSET_CAL_CM2 and band.arc_rating_cal_cm2 < needed:
+        raise ValueError(f"label of {bus}: the site PPE for {energy_text(energy)} cal/cm2 is rated "
+                         f"{band.arc_rating_cal_cm2:g} cal/cm2, below the label's minimum arc rating {rating}")
+    return band.text
 
 
 def _clearing_text(site, row):
@@ -177,7 +194,7 @@ def label_content(site, bus, row, shows=None):
         shows=shows,
         energy_or_category=shown,
         minimum_arc_rating=rating,
-        site_ppe=getattr(f, "site_ppe", "") or "",
+        site_ppe=_site_ppe(f.site_ppe, energy, rating, bus) if known and not danger else "",
         limited_approach=f"{shock['limited_fixed']} fixed parts; {shock['limited_movable']} movable conductors",
         restricted_approach=shock["restricted"],
         governing_device=_clearing_text(site, row),

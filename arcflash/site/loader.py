@@ -17,7 +17,7 @@ from pydantic import ValidationError
 from ..errors import MISSING, Problem, SiteDataError
 from . import checks
 from .base import FIELD_MARK
-from .reading import LineMap, read_csv, read_yaml
+from .reading import LineList, LineMap, read_csv, read_yaml
 from .schema import SECTIONS, Facility, Scenario
 
 #: The scenario used when a facility defines none.
@@ -75,14 +75,17 @@ def _expected(error, model):
 
 
 def _at_path(item, path):
-    """(line, value) of ``path`` (keys) inside ``item``: the deepest line known, MISSING if absent."""
+    """(line, value) of ``path`` (keys and list indexes) inside ``item``: the deepest line known, MISSING if
+    absent."""
     line = item.line if isinstance(item, LineMap) else None
     value = item
     for key in path:
-        if not isinstance(value, dict) or key not in value:
+        if isinstance(value, dict) and key in value:
+            line = value.key_lines.get(key, line) if isinstance(value, LineMap) else line
+        elif isinstance(value, list) and isinstance(key, int) and 0 <= key < len(value):
+            line = value.item_lines[key] if isinstance(value, LineList) else line
+        else:
             return line, MISSING
-        if isinstance(value, LineMap):
-            line = value.key_lines.get(key, line)
         value = value[key]
     return line, value
 
@@ -97,7 +100,7 @@ def _validation_problems(exc, file, item, label, model):
             loc += tuple(named.split("."))
             expected = expected.strip()
             value = _at_path(item, loc)[1]
-        line = _at_path(item, [part for part in loc if isinstance(part, str)])[0]
+        line = _at_path(item, loc)[0]
         if error["type"] == "missing" or not loc:
             value = MISSING
         name = ".".join(str(part) for part in loc) if loc else "(item)"

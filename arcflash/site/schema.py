@@ -19,6 +19,7 @@ from pydantic import AfterValidator, Field, field_validator, model_validator
 
 from ..models.conductors import CONDUITS, MATERIALS, SIZES, normalize_size
 from ..models.ieee1584_tables import CONFIGURATIONS, EQUIPMENT_CLASSES
+from ..models.nfpa70e import BOUNDARY_ENERGY_CAL_CM2
 from ..models.transformer import MAX_TEST_CURRENT_MULTIPLE, PLAUSIBLE_Z_PERCENT, percent_impedance_from_test
 from ..models.transformer import rated_current_a
 from .base import SiteModel, field_error
@@ -110,6 +111,23 @@ class _Branch(_Element):
         return self
 
 
+class PpeBand(_Element):
+    """The site's PPE for the labels whose incident energy is at most ``up_to_cal_cm2``."""
+
+    up_to_cal_cm2: Positive = Field(description="Highest incident energy the band covers [cal/cm2].")
+    arc_rating_cal_cm2: NonNegative = Field(description="Arc rating of the clothing the text names [cal/cm2]; "
+                                                        "0 where it is not arc-rated (below 1.2 cal/cm2 only).")
+    text: Annotated[str, Field(min_length=1, max_length=400)]
+
+    @model_validator(mode="after")
+    def _rated_for_its_band(self):
+        # a band not arc-rated serves only energies below 1.2 cal/cm2 (the label's check skips it above)
+        if self.up_to_cal_cm2 > BOUNDARY_ENERGY_CAL_CM2 and self.arc_rating_cal_cm2 < self.up_to_cal_cm2:
+            raise field_error("arc_rating_cal_cm2", f"at least up_to_cal_cm2 = {self.up_to_cal_cm2:g}: the PPE must "
+                                                    "be rated for every energy of its band")
+        return self
+
+
 class Facility(_Element):
     """Facility and study settings."""
 
@@ -128,10 +146,28 @@ class Facility(_Element):
     device_library: list[str] = Field([], description="Device-library YAML files (with 'curves:'), relative paths.")
     label_shows: Literal["energy", "category"] = Field(
         "energy", description="Labels show the incident energy with its working distance, or the PPE category.")
-    site_ppe: str = Field("", description="Site-specific PPE text printed on every label.")
+    site_ppe: list[PpeBand] = Field(
+        [], description="Site PPE by energy band: each label prints the text of the first band that covers its "
+                        "incident energy; the band's arc rating must cover the label's minimum arc rating.")
     motor_contribution_cycles: Positive | None = Field(
         None, description="Motor fault contributions end after this many cycles while an arc is cleared; "
                           "null (default): they last the whole arc (conservative).")
+
+    @field_validator("site_ppe", mode="before")
+    @classmethod
+    def _bands_not_one_text(cls, value):
+        if isinstance(value, str):
+            raise ValueError("a list of bands {up_to_cal_cm2, arc_rating_cal_cm2, text}: one PPE text for every "
+                             "label cannot be checked against each label's minimum arc rating")
+        return value
+
+    @field_validator("site_ppe")
+    @classmethod
+    def _bands_in_order(cls, bands):
+        limits = [band.up_to_cal_cm2 for band in bands]
+        if any(b <= a for a, b in zip(limits, limits[1:])):
+            raise ValueError(f"bands in increasing order of up_to_cal_cm2 (got {', '.join(f'{v:g}' for v in limits)})")
+        return bands
 
     @field_validator("study_date")
     @classmethod

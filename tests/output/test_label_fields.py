@@ -36,7 +36,13 @@ LIMITED_480 = "3 ft 6 in (1.0 m) fixed parts; 10 ft 0 in (3.0 m) movable conduct
 LIMITED_13_8 = "5 ft 0 in (1.5 m) fixed parts; 10 ft 0 in (3.0 m) movable conductors"
 
 
-def _site(label_shows="energy", site_ppe="", study_date="2026-06-01", revision="R3"):
+#: Site PPE bands (invented wording), as facility.site_ppe holds them.
+BANDS = (SimpleNamespace(up_to_cal_cm2=1.2, arc_rating_cal_cm2=0.0, text="Natural-fibre clothing"),
+         SimpleNamespace(up_to_cal_cm2=8.0, arc_rating_cal_cm2=8.0, text="8 cal/cm2 shirt and trousers"),
+         SimpleNamespace(up_to_cal_cm2=25.0, arc_rating_cal_cm2=25.0, text="25 cal/cm2 suit"))
+
+
+def _site(label_shows="energy", site_ppe=(), study_date="2026-06-01", revision="R3"):
     facility = SimpleNamespace(label_shows=label_shows, site_ppe=site_ppe, study_date=study_date,
                                study_revision=revision)
     buses = {"PNL-7": SimpleNamespace(description="Panel seven"), "SWG-9": SimpleNamespace(description="MV gear")}
@@ -110,10 +116,11 @@ def test_danger_label_every_field(shows):
 
 def test_energy_not_computed_is_danger():
     row = _row(energy=math.nan, boundary_mm=math.nan, device=None, flags=None)
-    got = label_content(_site(site_ppe="Face shield at all panels"), "PNL-7", row)
+    got = label_content(_site(site_ppe=BANDS), "PNL-7", row)
+    # no energy, no band: the site PPE is not printed beside a hazard that was not computed
     assert got == _expected(signal_word="DANGER", hazard=NOT_COMPUTED, arc_flash_boundary="not computed",
                             energy_or_category="not computed", minimum_arc_rating="not applicable",
-                            site_ppe="Face shield at all panels", governing_device="no protective device ends this arc")
+                            site_ppe="", governing_device="no protective device ends this arc")
 
 
 def test_unknown_display_mode_is_refused():
@@ -250,3 +257,30 @@ def test_a_batch_prints_the_chosen_labels_only(site_copy, tmp_path):
     assert nothing == [] and not (tmp_path / "none" / "labels-sheet.pdf").exists()
     with pytest.raises(KeyError, match="unknown bus 'NOPE'"):
         issue_labels(site_copy, governing, tmp_path / "bad", buses=["NOPE"])
+
+
+@pytest.mark.parametrize("energy, text", [(0.81, "Natural-fibre clothing"), (1.2, "8 cal/cm2 shirt and trousers"),
+                                          (5.23, "8 cal/cm2 shirt and trousers"), (8.0, "8 cal/cm2 shirt and trousers"),
+                                          (8.01, "25 cal/cm2 suit"), (25.0, "25 cal/cm2 suit")])
+def test_site_ppe_by_band(energy, text):
+    # the first band whose upper energy covers the label's energy (a band covers its upper edge)
+    got = label_content(_site(site_ppe=BANDS), "PNL-7", _row(energy=energy, rating=max(energy, 1.2)))
+    assert got.site_ppe == text
+
+
+def test_an_energy_above_every_band_is_refused():
+    with pytest.raises(ValueError, match=r"label of PNL-7: no site PPE band .* covers 25.1 cal/cm2 .*add a band"):
+        label_content(_site(site_ppe=BANDS), "PNL-7", _row(energy=25.01, category=4, rating=25.1))
+
+
+def test_site_ppe_rated_below_the_minimum_arc_rating_is_refused():
+    # a band whose PPE is rated below the energies it covers (the schema refuses such a band; this is the
+    # label's own check behind it): 7.96 cal/cm2 needs 8.0, the band's PPE is rated 4
+    under = (SimpleNamespace(up_to_cal_cm2=8.0, arc_rating_cal_cm2=4.0, text="4 cal/cm2 shirt"),)
+    with pytest.raises(ValueError, match="rated 4 cal/cm2, below the label's minimum arc rating 8.0 cal/cm2"):
+        label_content(_site(site_ppe=under), "PNL-7", _row(energy=7.96, rating=8.0))
+
+
+def test_a_danger_label_prints_no_site_ppe():
+    row = _row(energy=52.0, kv=13.8, boundary_mm=12000.0, distance_mm=914.4, category=-1, rating=52.0)
+    assert label_content(_site(site_ppe=BANDS), "SWG-9", row).site_ppe == ""

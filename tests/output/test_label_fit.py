@@ -19,6 +19,7 @@ import arcflash
 from arcflash.cli import main
 from arcflash.output import label_pdf
 from arcflash.output.labels import issue_labels, label_content, layout_names, load_layout
+from arcflash.site.schema import PpeBand
 from arcflash.study.pipeline import run_study
 from tests.output.test_label_fields import DEMO
 
@@ -97,11 +98,12 @@ def test_key_values_are_at_least_10_pt_and_the_largest_below_the_panel(demo_labe
 def test_a_label_that_does_not_fit_is_refused_naming_bus_and_field(demo_labels, tmp_path):
     site = arcflash.load_site(DEMO)
     governing = run_study(site).governing
-    text = "Arc-rated suit and hood rated 40 cal/cm2 minimum; " * 12
-    site = dataclasses.replace(site, facility=site.facility.model_copy(update={"site_ppe": text}),
+    text = "Arc-rated suit and hood rated 40 cal/cm2 minimum; " * 7
+    band = PpeBand(up_to_cal_cm2=100.0, arc_rating_cal_cm2=100.0, text=text)
+    site = dataclasses.replace(site, facility=site.facility.model_copy(update={"site_ppe": [band]}),
                                path=tmp_path / "site")
-    with pytest.raises(label_pdf.LabelFitError, match=r"label of MV-MAIN: .* shorten site_ppe"):
-        issue_labels(site, governing, tmp_path / "out", buses=["MV-MAIN"])
+    with pytest.raises(label_pdf.LabelFitError, match=r"label of SWG-A: .* shorten site_ppe"):
+        issue_labels(site, governing, tmp_path / "out", buses=["SWG-A"], layout="label-4x4")
     assert not (tmp_path / "out" / "labels").exists()  # nothing printed, nothing recorded
 
 
@@ -132,9 +134,12 @@ def test_the_cli_refuses_a_label_that_does_not_fit(tmp_path):
     shutil.copytree(DEMO, site)
     shutil.copytree(DEMO.parent / "libraries", tmp_path / "libraries")
     facility = site / "facility.yaml"
-    long_text = "Arc-rated suit and hood rated 40 cal/cm2 minimum " * 12
-    facility.write_text(facility.read_text(encoding="utf-8").replace(
-        "  study_revision: A\n", f"  study_revision: A\n  site_ppe: {long_text}\n"), encoding="utf-8")
+    long_text = "Arc-rated suit and hood rated 40 cal/cm2 minimum " * 7
+    text = facility.read_text(encoding="utf-8")
+    start = text.index("  site_ppe:")
+    end = text.index("\n\n", start) if "\n\n" in text[start:] else len(text)
+    band = f"  site_ppe:\n    - {{up_to_cal_cm2: 40, arc_rating_cal_cm2: 40, text: {long_text}}}\n"
+    facility.write_text(text[:start] + band + text[end:].lstrip("\n"), encoding="utf-8")
     result = CliRunner().invoke(main, ["labels", "print", str(site), "--out", str(tmp_path / "out"),
                                        "--bus", "SWG-A", "--layout", "label-4x4"])
     assert result.exit_code == 2 and "label of SWG-A" in result.output and "shorten site_ppe" in result.output
