@@ -12,15 +12,15 @@ from __future__ import annotations
 
 import datetime as dt
 import functools
-import io
-import itertools
 from dataclasses import dataclass
 
-from reportlab.graphics.barcode import qrencoder
+import numpy as np
 from reportlab.lib.colors import HexColor, black, white
 from reportlab.lib.utils import simpleSplit
 from reportlab.pdfbase.pdfmetrics import stringWidth
 from reportlab.pdfgen.canvas import Canvas
+
+from .qr import qr_matrix
 
 #: ANSI Z535.4 signal-word panels: DANGER white on safety red, WARNING black on safety orange
 #: (sRGB approximations of the Z535.1 safety colours, common practice).
@@ -143,16 +143,34 @@ def _block_height(pieces, scale, width):
 
 
 def _fit_scale(blocks, width, available):
-    """The largest scale (1, 0.98, ...) at which the text blocks fit ``available`` points, or None."""
-    scale = 1.0
-    while scale > 0.2:
+    """The largest scale, at most 1, at which the text blocks fit ``available`` points (to 1 %), or None.
+
+    Scale 1 (the layout's sizes) is tried first; otherwise a bisection between the smallest scale the
+    minimum sizes allow and 1.
+    """
+    def heights_at(scale):
         heights = [_block_height(pieces, scale, width) for _, pieces, _ in blocks]
         if None in heights:
-            return None, None
-        if sum(heights) + _BLOCK_GAP * len(blocks) <= available:
-            return scale, heights
-        scale -= 0.02
-    return None, None
+            return None
+        return heights if sum(heights) + _BLOCK_GAP * len(blocks) <= available else False
+
+    best = heights_at(1.0)
+    if best:
+        return 1.0, best
+    pieces = [piece for _, block, _ in blocks for piece in block]
+    low = max(piece.minimum / piece.size for piece in pieces)  # below this a size falls under its minimum
+    fits_low = heights_at(low) if low <= 1.0 else None
+    if not fits_low:
+        return None, None
+    high, best = 1.0, (low, fits_low)
+    while high - low > 0.01:
+        middle = (low + high) / 2.0
+        heights = heights_at(middle)
+        if heights:
+            low, best = middle, (middle, heights)
+        else:
+            high = middle
+    return best
 
 
 def _too_long(content, blocks, width):
@@ -212,26 +230,31 @@ def _signal(canvas, word, x, y, w, h, size):
 
 @functools.lru_cache(maxsize=4096)
 def qr_modules(payload):
-    """The dark modules of the QR code of ``payload`` (error correction level M), encoded once per payload.
+    """The QR code of ``payload`` (:func:`arcflash.output.qr.qr_matrix`) as runs of dark modules.
 
     Returns
     -------
     tuple
-        (module count, tuple of (row, first column, length) of the runs of dark modules in each row).
+        (module count, tuple of (top row, first column, width, height) of dark rectangles covering the dark
+        modules: the runs of each row, a run merged with the identical runs directly below it).
     """
-    code = qrencoder.QRCode(None, qrencoder.QRErrorCorrectLevel.M)
-    code.addData(payload)
-    code.make()
-    count = code.getModuleCount()
-    runs = []
-    for r in range(count):
-        c = 0
-        for dark, group in itertools.groupby(code.isDark(r, k) for k in range(count)):
-            length = len(list(group))
-            if dark:
-                runs.append((r, c, length))
-            c += length
-    return count, tuple(runs)
+    matrix = qr_matrix(payload)
+    count = matrix.shape[0]
+    padded = np.zeros((count, count + 2), dtype=np.int8)
+    padded[:, 1:-1] = matrix
+    edges = np.diff(padded, axis=1)
+    row_start, col_start = np.nonzero(edges == 1)
+    _, col_end = np.nonzero(edges == -1)
+    # a run that repeats the one directly above it (same columns) extends that rectangle downwards
+    open_runs, rectangles = {}, []
+    for row, col, length in zip(row_start.tolist(), col_start.tolist(), (col_end - col_start).tolist()):
+        above = open_runs.get((col, length))
+        if above is not None and above[0] + above[3] == row:
+            above[3] += 1
+        else:
+            open_runs[(col, length)] = [row, col, length, 1]
+            rectangles.append(open_runs[(col, length)])
+    return count, tuple(tuple(r) for r in rectangles)
 
 
 def _qr(canvas, content, x, top, side):
@@ -240,10 +263,48 @@ def _qr(canvas, content, x, top, side):
     module = side / (count + 8)
     x0, y0 = x + 4 * module, top - 4 * module
     path = canvas.beginPath()
-    for r, c, length in runs:
-        path.rect(x0 + c * module, y0 - (r + 1) * module, length * module, module)
+    for r, c, length, rows in runs:
+        path.rect(x0 + c * module, y0 - (r + rows) * module, length * module, rows * module)
     canvas.setFillColor(black)
     canvas.drawPath(path, stroke=0, fill=1)
+
+
+_PLANS = {}
+_PLANS_KEPT = 20_000
+
+
+def plan_label(content, w, h, layout, issued_on=None):
+    """:func:`_plan_label`, remembered: a label is planned to check it fits, then planned again to draw it."""
+    key = (content, w, h, repr(layout), issued_on)
+    if key not in _PLANS:
+        if len(_PLANS) >= _PLANS_KEPT:
+            _PLANS.clear()
+        _PLANS[key] = _plan_label(content, w, h, layout, issued_on)
+    return _PLANS[key]
+
+
+def _plan_label(content, w, h, layout, issued_on=None):
+    """Lay a label's text out in a w × h point cell without drawing: the fixed block heights, the text
+    pieces, the common scale and the text block heights.
+
+    Raises
+    ------
+    LabelFitError
+        The text does not fit at the smallest sizes; the message names the equipment and the field.
+    """
+    inner_w = w - 2 * _PAD
+    key_min = float(getattr(layout, "key_min", None) or MIN_KEY_PT)
+    fixed = {b["kind"]: h * float(b["height"]) for b in layout.blocks if b["kind"] in ("signal", "qr")}
+    texts = [(b["kind"], _pieces(b["kind"], content, b, key_min, issued_on), b) for b in layout.blocks
+             if b["kind"] not in ("signal", "qr")]
+    available = h - sum(fixed.values()) - 2.0
+    scale, heights = _fit_scale(texts, inner_w, available)
+    if scale is None:
+        field, kind = _too_long(content, texts, inner_w)
+        raise LabelFitError(f"label of {content.equipment_id}: the text does not fit layout {layout.name} at the "
+                            f"smallest legible size ({MIN_TEXT_PT:g} pt; key values {key_min:g} pt): "
+                            f"shorten {field} (in the {kind} block)")
+    return fixed, texts, scale, heights, available, key_min
 
 
 def draw_label(canvas, content, x, y, w, h, layout, issued_on=None):
@@ -260,25 +321,16 @@ def draw_label(canvas, content, x, y, w, h, layout, issued_on=None):
         The text does not fit at the smallest sizes; the message names the equipment and the field.
     """
     inner_w = w - 2 * _PAD
-    key_min = float(getattr(layout, "key_min", None) or MIN_KEY_PT)
-    fixed = {b["kind"]: h * float(b["height"]) for b in layout.blocks if b["kind"] in ("signal", "qr")}
-    texts = [(b["kind"], _pieces(b["kind"], content, b, key_min, issued_on), b) for b in layout.blocks
-             if b["kind"] not in ("signal", "qr")]
+    plan = plan_label(content, w, h, layout, issued_on)
+    fixed, texts, scale, heights, available, key_min = plan
     qr_text = [b for b in layout.blocks if b["kind"] == "qr"]
-    available = h - sum(fixed.values()) - 2.0
-    scale, heights = _fit_scale(texts, inner_w, available)
-    if scale is None:
-        field, kind = _too_long(content, texts, inner_w)
-        raise LabelFitError(f"label of {content.equipment_id}: the text does not fit layout {layout.name} at the "
-                            f"smallest legible size ({MIN_TEXT_PT:g} pt; key values {key_min:g} pt): "
-                            f"shorten {field} (in the {kind} block)")
     slack = (available - sum(heights) - _BLOCK_GAP * len(texts)) / max(1, len(texts))
     canvas.setLineWidth(1.2)
     if content.flags:
         canvas.setDash(4, 3)  # a flagged label does not look like a normal one
     canvas.rect(x, y - h, w, h, stroke=1, fill=0)
     canvas.setDash()
-    placed, top, heights = [], y, iter(heights)
+    placed, top, heights, text_blocks = [], y, iter(heights), iter(texts)
     for block in layout.blocks:
         kind = block["kind"]
         if kind == "signal":
@@ -293,7 +345,7 @@ def draw_label(canvas, content, x, y, w, h, layout, issued_on=None):
             _draw_pieces(canvas, pieces, 1.0, box[0], top - 2, box[2] - box[0], placed, kind, box)
             top -= fixed[kind]
             continue
-        pieces = next(p for k, p, b in texts if b is block)
+        _, pieces, _ = next(text_blocks)  # the text blocks, in layout order
         height = next(heights) + _BLOCK_GAP + slack
         box = (x + _PAD, top - height, x + w - _PAD, top)
         _draw_pieces(canvas, pieces, scale, x + _PAD, top - 1, inner_w, placed, kind, box)
@@ -302,13 +354,12 @@ def draw_label(canvas, content, x, y, w, h, layout, issued_on=None):
 
 
 def unfit_labels(contents, layout):
-    """The messages of the labels that do not fit ``layout`` (drawn on a scratch canvas, nothing written)."""
+    """The messages of the labels that do not fit ``layout`` (laid out, not drawn)."""
     cell_w, cell_h = _cell(layout)
-    canvas = Canvas(io.BytesIO())
     problems = []
     for content in contents:
         try:
-            draw_label(canvas, content, 0.0, cell_h, cell_w, cell_h, layout)
+            plan_label(content, cell_w, cell_h, layout)
         except LabelFitError as exc:
             problems.append(str(exc))
     return problems

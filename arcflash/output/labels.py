@@ -9,6 +9,7 @@ category, never both (the facility chooses, ``facility.label_shows``).
 from __future__ import annotations
 
 import datetime as dt
+import functools
 import hashlib
 import json
 import re
@@ -74,7 +75,7 @@ class LabelContent:
     review_by: str
     flags: str
 
-    @property
+    @functools.cached_property
     def content_hash(self):
         """First 16 hex digits of the SHA-256 of the content (stable across runs)."""
         text = json.dumps(asdict(self), sort_keys=True, ensure_ascii=False)

@@ -1,0 +1,65 @@
+"""The label QR encoder against reportlab's (an independent implementation of ISO/IEC 18004), and the mask
+penalty rules (ISO/IEC 18004 clause 7.8.3, from memory) on symbols built to score each rule."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from reportlab.graphics.barcode import qrencoder
+
+from arcflash.output.qr import MASKS, _codewords, penalty, qr_matrix
+
+PAYLOADS = [f"arcflash-label|{bus}|{rev}|{k:016x}" for k, (bus, rev) in enumerate(
+    [("MV-MAIN", "A"), ("SWG-A", "B"), ("PNL-7", "R3"), ("A" * 40, "0"), ("MCC 4/0 \u00e9", "rev 12")])]
+
+
+def _reference(payload):
+    code = qrencoder.QRCode(None, qrencoder.QRErrorCorrectLevel.M)
+    code.addData(payload)
+    code.version = code.calculate_version()
+    return code
+
+
+@pytest.mark.parametrize("payload", PAYLOADS)
+def test_codewords_equal_reportlabs(payload):
+    code = _reference(payload)
+    assert _codewords(payload, code.version) == list(
+        qrencoder.QRCode.createData(code.version, code.errorCorrectLevel, code.dataList))
+
+
+@pytest.mark.parametrize("payload", PAYLOADS)
+def test_the_symbol_equals_reportlabs_with_the_same_mask(payload):
+    ours = qr_matrix(payload)
+    code = _reference(payload)
+    same = []
+    for mask in range(len(MASKS)):
+        code.makeImpl(False, mask)
+        same.append(bool((np.array(code.modules, dtype=bool) == ours).all()))
+    assert same.count(True) == 1  # exactly one mask reproduces it: placement, format information and data
+
+
+@pytest.mark.parametrize("payload", PAYLOADS)
+def test_the_chosen_mask_has_the_least_penalty(payload):
+    code = _reference(payload)
+    scores, chosen = [], None
+    for mask in range(len(MASKS)):
+        code.makeImpl(True, mask)  # format information light, as while choosing
+        scores.append(int(penalty(np.array(code.modules, dtype=bool))))
+        code.makeImpl(False, mask)
+        if (np.array(code.modules, dtype=bool) == qr_matrix(payload)).all():
+            chosen = mask
+    assert chosen == int(np.argmin(scores))
+
+
+def test_penalty_rules():
+    dark = np.ones((21, 21), dtype=bool)
+    # N1: 42 lines of 21 like modules, 3 + 16 each; N2: 20 x 20 blocks, 3 each; N4: 100 % dark, 10 x 10
+    assert penalty(dark) == 42 * 19 + 400 * 3 + 100
+    checker = (np.add.outer(np.arange(21), np.arange(21)) % 2 == 0)
+    assert penalty(checker) == 0  # no runs, no blocks, no finder-like pattern, 221/441 dark: under 5 % off
+    finder = checker.copy()
+    finder[10, 0:11] = [1, 0, 1, 1, 1, 0, 1, 0, 0, 0, 0]
+    plain = checker.copy()
+    plain[10, 0:11] = [1, 0, 1, 0, 1, 0, 1, 0, 1, 0, 1]
+    assert penalty(finder) - penalty(plain) >= 40  # N3 (plus the runs and blocks the pattern brings)
+    assert penalty(np.stack([dark, checker])).tolist() == [penalty(dark), 0]
