@@ -256,17 +256,40 @@ def _record_stale_use(governing, site, command, study_dir, stale_reason, equipme
                    f"reason '{stale_reason}', recorded in the ledger.")
 
 
+@labels.command("diff")
+@click.argument("site_dir", type=click.Path(file_okay=True, dir_okay=True))
+@click.option("--since", "since", default=None, metavar="REVISION",
+              help="Compare with the last labels issued for this study revision (default: the last issued).")
+@click.option("--csv", "csv_path", type=click.Path(dir_okay=False), default=None, help="Write the changes as CSV.")
+@click.option("--pdf", "pdf_path", type=click.Path(dir_okay=False), default=None,
+              help="Write the changes as a page for the crew (PDF).")
+def labels_diff(site_dir, since, csv_path, pdf_path):
+    """Why each label changed since it was issued: old and new values, the study stage moved, the input."""
+    from .output import ledger
+    from .output.label_diff import changes_table, changes_text, label_changes, write_changes_pdf
+    from .study.pipeline import run_study
+
+    site = _load(site_dir)
+    changes = label_changes(site, run_study(site).governing, ledger.ledger_path(site.path), since)
+    if csv_path:
+        write_atomic(csv_path, lambda tmp: changes_table(changes).to_csv(tmp, index=False))
+    if pdf_path:
+        write_atomic(pdf_path, lambda tmp: write_changes_pdf(changes, tmp, site))
+    click.echo(changes_text(changes))
+    click.echo(CAUTION)
+
+
 @labels.command("status")
 @click.argument("site_dir", type=click.Path(file_okay=True, dir_okay=True))
 def labels_status(site_dir):
     """Which labels are current, changed since issued, never issued or due for review."""
     from .output import ledger
-    from .output.labels import label_content
+    from .output.labels import labels_of
     from .study.pipeline import run_study
 
     site = _load(site_dir)
     governing = run_study(site).governing
-    contents = [label_content(site, bus, governing.loc[bus]) for bus in governing.index]
+    contents = labels_of(site, governing)
     states = ledger.status(ledger.ledger_path(site.path), contents)
     for bus, state in states.items():
         click.echo(f"  {bus:<20}{state}")

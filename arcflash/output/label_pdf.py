@@ -34,8 +34,8 @@ MIN_TEXT_PT = 7.0
 #: [pt]; the 4 x 6 in and 100 x 150 mm layouts ask 10 pt (``key_min``).
 MIN_KEY_PT = 8.0
 
-#: The fixed marker of a label whose study result is flagged (the flags are explained in the study report).
-FLAG_MARKER = "STUDY NOTE: this result is flagged - see the study report for this equipment."
+#: The fixed marker of a label whose study result is flagged; the report explains the numbered note.
+FLAG_MARKER = "STUDY NOTES {note}: this result is flagged - see these notes in the study report."
 
 _LEADING = 1.18
 _BLOCK_GAP = 2.0
@@ -109,7 +109,8 @@ def _pieces(kind, content, block, key_min, issued_on):
                   _Piece("governing_device", f"Arc cleared: {content.governing_device}", False, size, MIN_TEXT_PT,
                          row=1)]
         if content.flags:
-            pieces.append(_Piece("flags", FLAG_MARKER, True, size, MIN_TEXT_PT, row=2))
+            pieces.append(_Piece("flags", FLAG_MARKER.format(note=content.study_note or "-"), True, size,
+                                 MIN_TEXT_PT, row=2))
         return pieces
     if kind == "study":
         text = (f"Study rev {content.study_revision} of {content.study_date or 'undated'}; label issued "

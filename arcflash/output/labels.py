@@ -74,6 +74,7 @@ class LabelContent:
     study_date: str
     review_by: str
     flags: str
+    study_note: str = ""
 
     @functools.cached_property
     def content_hash(self):
@@ -113,6 +114,14 @@ def _site_ppe(bands, energy, rating, bus):
     return band.text
 
 
+def _study_notes(row):
+    """The note numbers of the row's flags ('2,5'), or '' (also for a table written before they existed)."""
+    notes = _text_or(row.get("flag_notes"), "")
+    if not notes and _text_or(row["flags"], ""):
+        return "see report"
+    return ", ".join(n.strip() for n in notes.split(",") if n.strip())
+
+
 def _clearing_text(site, row):
     """The device whose opening ends the arc, with the scenario that governs when it is not the normal one."""
     device = _text_or(row["device_governing"], "")
@@ -144,6 +153,33 @@ def _review_by(study_date):
         return start.replace(year=start.year + REVIEW_YEARS).isoformat()
     except ValueError:  # 29 February
         return start.replace(year=start.year + REVIEW_YEARS, day=28).isoformat()
+
+
+#: The study values kept in the ledger beside each issued label (what ``labels diff`` compares, stage by stage).
+STUDY_VALUES = ("scenario", "governing_case", "bolted_ka", "arcing_current_ka", "device_governing",
+                "clearing_time_governing_s", "incident_energy_governing_cal_cm2", "arc_flash_boundary_governing_mm",
+                "ppe_category")
+
+
+def study_values(row):
+    """The :data:`STUDY_VALUES` of a governing row as plain JSON values (missing or NaN as None)."""
+    values = {}
+    for name in STUDY_VALUES:
+        value = row.get(name)
+        if isinstance(value, (np.floating, float)):
+            value = float(value) if np.isfinite(value) else None
+        elif isinstance(value, np.integer):
+            value = int(value)
+        elif value is not None and not isinstance(value, (int, str)):
+            value = str(value)
+        values[name] = value if value != "" else None
+    return values
+
+
+def labels_of(site, governing, buses=None):
+    """The label content of ``buses`` (all by default) of a governing table."""
+    return [label_content(site, bus, governing.loc[bus])
+            for bus in (governing.index if buses is None else buses)]
 
 
 def label_content(site, bus, row, shows=None):
@@ -203,6 +239,7 @@ def label_content(site, bus, row, shows=None):
         study_date=f.study_date or "",
         review_by=_review_by(f.study_date),
         flags=_text_or(row["flags"], ""),
+        study_note=_study_notes(row),
     )
 
 
@@ -406,7 +443,7 @@ def issue_labels(site, governing, out_dir, layout="label-4x6", sheet="sheet-lett
     unknown = [b for b in chosen if b not in governing.index]
     if unknown:
         raise KeyError(f"unknown bus {unknown[0]!r}")
-    contents = [label_content(site, bus, governing.loc[bus]) for bus in chosen]
+    contents = labels_of(site, governing, chosen)
     book = ledger.ledger_path(site.path)
     if changed_only:
         states = ledger.status(book, contents)
@@ -423,5 +460,6 @@ def issue_labels(site, governing, out_dir, layout="label-4x6", sheet="sheet-lett
         write_atomic(target, lambda tmp, c=content: write_labels_pdf([c], single, tmp))
     if contents:
         write_atomic(Path(out_dir) / "labels-sheet.pdf", lambda tmp: write_labels_pdf(contents, combined, tmp))
-        ledger.record(book, contents, single.name, issued_by)
+        rows = [study_values(governing.loc[c.equipment_id]) for c in contents]
+        ledger.record(book, contents, single.name, issued_by, study_rows=rows, snapshot=ledger.site_snapshot(site))
     return contents

@@ -10,6 +10,7 @@ from __future__ import annotations
 import datetime as dt
 import json
 import sqlite3
+import zlib
 from dataclasses import asdict
 from pathlib import Path
 
@@ -27,6 +28,16 @@ CREATE TABLE IF NOT EXISTS issued (
     issued_by TEXT
 );
 CREATE INDEX IF NOT EXISTS issued_equipment ON issued (equipment_id, id);
+CREATE TABLE IF NOT EXISTS site_snapshots (
+    id INTEGER PRIMARY KEY AUTOINCREMENT,
+    taken_at TEXT NOT NULL,
+    elements BLOB NOT NULL
+);
+CREATE TABLE IF NOT EXISTS issued_context (
+    issued_id INTEGER PRIMARY KEY,
+    snapshot_id INTEGER NOT NULL,
+    study_row TEXT NOT NULL
+);
 CREATE TABLE IF NOT EXISTS stale_study_overrides (
     id INTEGER PRIMARY KEY AUTOINCREMENT,
     used_at TEXT NOT NULL,
@@ -68,13 +79,72 @@ def _insert(path, table, columns, rows):
         connection.close()
 
 
-def record(path, contents, layout, issued_by=None, when=None):
-    """Record a batch of issued labels in one transaction."""
+def record(path, contents, layout, issued_by=None, when=None, study_rows=None, snapshot=None):
+    """Record a batch of issued labels in one transaction.
+
+    With ``study_rows`` (one dict per label: the study values behind it) and ``snapshot`` (the site's
+    elements, see :func:`site_snapshot`), what the labels were made from is kept too, so that a later
+    ``labels diff`` can say why a label changed.
+    """
     stamp = _stamp(when)
-    _insert(path, "issued", ("equipment_id", "study_revision", "content_hash", "content", "issued_at", "layout",
-                             "issued_by"),
-            [(c.equipment_id, c.study_revision, c.content_hash, json.dumps(asdict(c), ensure_ascii=False), stamp,
-              layout, issued_by) for c in contents])
+    connection = connect(path)
+    try:
+        with connection:
+            snapshot_id = None
+            if snapshot is not None:
+                snapshot_id = connection.execute(
+                    "INSERT INTO site_snapshots (taken_at, elements) VALUES (?, ?)",
+                    (stamp, zlib.compress(json.dumps(snapshot, sort_keys=True).encode("utf-8")))).lastrowid
+            for k, c in enumerate(contents):
+                issued_id = connection.execute(
+                    "INSERT INTO issued (equipment_id, study_revision, content_hash, content, issued_at, layout, "
+                    "issued_by) VALUES (?, ?, ?, ?, ?, ?, ?)",
+                    (c.equipment_id, c.study_revision, c.content_hash, json.dumps(asdict(c), ensure_ascii=False),
+                     stamp, layout, issued_by)).lastrowid
+                if snapshot_id is not None and study_rows is not None:
+                    connection.execute("INSERT INTO issued_context (issued_id, snapshot_id, study_row) "
+                                       "VALUES (?, ?, ?)", (issued_id, snapshot_id, json.dumps(study_rows[k])))
+    finally:
+        connection.close()
+
+
+def site_snapshot(site):
+    """The site's elements as plain data: {section: {id: fields}}, and the facility's fields."""
+    sections = ("buses", "utilities", "generators", "motors", "transformers", "cables", "impedances", "switches",
+                "devices", "curves", "scenarios")
+    snapshot = {section: {str(k): v.model_dump(mode="json") for k, v in getattr(site, section).items()}
+                for section in sections}
+    snapshot["facility"] = {"facility": site.facility.model_dump(mode="json")}
+    return snapshot
+
+
+def issued_context(path, since=None):
+    """The last issued label of each equipment (of study revision ``since``, if given), with what it was made
+    from: {equipment_id: {'content': dict, 'issued_at': str, 'study_row': dict or None, 'snapshot_id': int}}."""
+    if not Path(path).exists():
+        return {}
+    connection = connect(path)
+    try:
+        where = "WHERE study_revision = ?" if since is not None else ""
+        rows = connection.execute(
+            "SELECT i.equipment_id, i.content, i.issued_at, c.study_row, c.snapshot_id FROM issued i "
+            "LEFT JOIN issued_context c ON c.issued_id = i.id WHERE i.id IN "
+            f"(SELECT MAX(id) FROM issued {where} GROUP BY equipment_id)", (since,) if since is not None else ()
+        ).fetchall()
+    finally:
+        connection.close()
+    return {r[0]: {"content": json.loads(r[1]), "issued_at": r[2],
+                   "study_row": json.loads(r[3]) if r[3] else None, "snapshot_id": r[4]} for r in rows}
+
+
+def snapshot(path, snapshot_id):
+    """A site snapshot kept in the ledger (see :func:`site_snapshot`)."""
+    connection = connect(path)
+    try:
+        row = connection.execute("SELECT elements FROM site_snapshots WHERE id = ?", (snapshot_id,)).fetchone()
+    finally:
+        connection.close()
+    return json.loads(zlib.decompress(row[0]).decode("utf-8")) if row else None
 
 
 def record_override(path, command, study_dir, reason, changes, equipment, used_by=None, when=None):

@@ -19,6 +19,7 @@ from reportlab.lib.units import inch
 from reportlab.platypus import Image, PageBreak, Paragraph, SimpleDocTemplate, Spacer, Table, TableStyle
 
 from ..models.units import mm_to_feet_inches
+from ..study.pipeline import FLAG_NOTES
 from .cautions import CAUTION
 from .text import energy_text
 
@@ -226,9 +227,13 @@ def write_report(site, results, path, tcc_buses=None):
                                            _STYLES["Heading2"]),
                   _table(["bus", "scenario / case", "openings in order: time, arcing current at the bus before -> "
                           "after"], staged, widths=[1.1 * inch, 1.4 * inch, 4.5 * inch])]
-    flagged = [(bus, r["flags"]) for bus, r in governing.iterrows() if r["flags"]]
+    story += [Spacer(1, 12), Paragraph("Study notes: labels print the numbers of their flags", _STYLES["Heading2"]),
+              _table(["note", "meaning"], [[str(k), text] for k, text in FLAG_NOTES.items()],
+                     widths=[0.5 * inch, 6.5 * inch])]
+    flagged = [(bus, r.get("flag_notes", ""), r["flags"]) for bus, r in governing.iterrows() if r["flags"]]
     story += [Spacer(1, 12), Paragraph("Flags (governing rows)", _STYLES["Heading2"]),
-              _table(["bus", "flags"], flagged or [["-", "none"]], widths=[1.2 * inch, 5.8 * inch])]
+              _table(["bus", "notes", "flags"], flagged or [["-", "-", "none"]],
+                     widths=[1.2 * inch, 0.6 * inch, 5.2 * inch])]
     figure = oneline_figure(site)
     story += [PageBreak(), Paragraph("One-line picture", _STYLES["Heading2"])]
     story += [_figure(figure)] if figure is not None else [_p("Omitted: too many buses to draw legibly.")]

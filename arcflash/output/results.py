@@ -19,7 +19,7 @@ GOVERNING_COLUMNS = [
     "reduced_arcing_current_ka", "clearing_time_governing_s", "incident_energy_governing_cal_cm2",
     "arc_flash_boundary_governing_mm", "working_distance_mm", "config", "gap_mm", "ppe_category",
     "minimum_arc_rating_cal_cm2", "limited_approach_movable_mm", "limited_approach_fixed_mm",
-    "restricted_approach_mm", "clearing_sequence_governing", "flags",
+    "restricted_approach_mm", "clearing_sequence_governing", "flags", "flag_notes",
 ]
 
 

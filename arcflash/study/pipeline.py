@@ -117,6 +117,18 @@ def _scenario_rows(site, scenario, equipment, stated_times=None):
     return table, stages, steps
 
 
+#: The kinds of study flag, numbered: a label prints the numbers of its row's flags ("STUDY NOTES 2, 5") and
+#: the report explains each number. The numbers never change, so a label changes only when its own flags do.
+FLAG_NOTES = {
+    1: "de-energised in the governing scenario",
+    2: "an input outside the tested range of IEEE 1584-2018 (clause 4.2): the result is extrapolated",
+    3: "a note on how the arc is cleared (see the clearing notes)",
+    4: "240 V or less with under 2 kA bolted current: a sustained arc is less likely (IEEE 1584-2018)",
+    5: "above 40 cal/cm2: no PPE category applies",
+    6: "enclosure geometry taken from the typical class of the voltage",
+}
+
+
 def _finish(table):
     """Governing arcing case of each row, PPE, shock boundaries and flags."""
     reduced = table["reduced_incident_energy_cal_cm2"] > table["incident_energy_cal_cm2"]
@@ -136,24 +148,26 @@ def _finish(table):
     table["limited_approach_movable_mm"] = shock["limited_movable_mm"]
     table["limited_approach_fixed_mm"] = shock["limited_fixed_mm"]
     table["restricted_approach_mm"] = shock["restricted_mm"]
-    flags = []
+    flags, kinds = [], []
     for row in table.itertuples():
-        parts = []
+        parts = []  # (kind, text)
         if not row.energized:
-            parts.append("de-energised in this scenario")
+            parts.append((1, "de-energised in this scenario"))
         else:
             if row.model_range:
-                parts.append(f"outside the range of IEEE 1584-2018: {row.model_range}")
+                parts.append((2, f"outside the range of IEEE 1584-2018: {row.model_range}"))
             if row.clearing_notes:
-                parts.append(row.clearing_notes)
+                parts.append((3, row.clearing_notes))
             if row.nominal_kv <= LOW_VOLTAGE_NOTE_KV and row.bolted_ka < LOW_CURRENT_NOTE_KA:
-                parts.append("240 V or less with under 2 kA bolted: a sustained arc is less likely "
-                             "(IEEE 1584-2018); results reported")
+                parts.append((4, "240 V or less with under 2 kA bolted: a sustained arc is less likely "
+                                 "(IEEE 1584-2018); results reported"))
             if row.incident_energy_governing_cal_cm2 > nfpa70e.NO_CATEGORY_ABOVE_CAL_CM2:
-                parts.append("above 40 cal/cm2: no PPE category applies; de-energize before work")
+                parts.append((5, "above 40 cal/cm2: no PPE category applies; de-energize before work"))
             if row.geometry_note:
-                parts.append(row.geometry_note)
-        flags.append("; ".join(parts))
+                parts.append((6, row.geometry_note))
+        flags.append("; ".join(text for _, text in parts))
+        kinds.append(",".join(str(kind) for kind, _ in parts))
+    table["flag_notes"] = kinds
     table["flags"] = flags
     return table
 

@@ -110,7 +110,7 @@ def test_danger_label_every_field(shows):
                             energy_or_category="52.0 cal/cm2 at 915 mm / 3 ft 0 in: no PPE category applies",
                             minimum_arc_rating="not applicable", limited_approach=LIMITED_13_8,
                             restricted_approach="2 ft 2 in (0.7 m)", governing_device="R-52 opens to end the arc",
-                            flags="capped at 2 s")
+                            flags="capped at 2 s", study_note="see report")  # a table without flag_notes
     assert "No PPE category applies" in got.hazard and "de-energize" in got.hazard
 
 
@@ -284,3 +284,13 @@ def test_site_ppe_rated_below_the_minimum_arc_rating_is_refused():
 def test_a_danger_label_prints_no_site_ppe():
     row = _row(energy=52.0, kv=13.8, boundary_mm=12000.0, distance_mm=914.4, category=-1, rating=52.0)
     assert label_content(_site(site_ppe=BANDS), "SWG-9", row).site_ppe == ""
+
+
+def test_a_flagged_label_carries_the_numbers_of_its_study_notes():
+    # the numbers of pipeline.FLAG_NOTES (fixed, so a label changes only when its own flags change)
+    row = _row(flags="outside the range of IEEE 1584-2018: gap_mm outside 6.35-76.2; above 40 cal/cm2")
+    row["flag_notes"] = "2,5"
+    assert label_content(_site(), "PNL-7", row).study_note == "2, 5"
+    row["flag_notes"] = 5  # one number, read back from a CSV as a number
+    assert label_content(_site(), "PNL-7", row).study_note == "5"
+    assert label_content(_site(), "PNL-7", _row()).study_note == ""

@@ -12,7 +12,7 @@ from click.testing import CliRunner
 import arcflash
 from arcflash.cli import main
 from arcflash.output import label_pdf, ledger
-from arcflash.output.labels import issue_labels, label_content, safe_file_name
+from arcflash.output.labels import issue_labels, label_content, labels_of, safe_file_name
 from arcflash.study.pipeline import run_study
 
 DEMO = Path(__file__).resolve().parents[2] / "site_data" / "fenwick_ridge"
@@ -27,7 +27,7 @@ def site_copy(tmp_path):
 
 def _statuses(site):
     governing = run_study(site).governing
-    contents = [label_content(site, bus, governing.loc[bus]) for bus in governing.index]
+    contents = labels_of(site, governing)
     return ledger.status(ledger.ledger_path(site.path), contents)
 
 

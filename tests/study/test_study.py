@@ -139,3 +139,19 @@ def test_study_command(tmp_path):
     assert result.exit_code == 0, result.output
     assert "Highest incident energy" in result.output and "CAUTION" in result.output
     assert (tmp_path / "results.xlsx").exists() and not (tmp_path / "report.pdf").exists()
+
+
+def test_every_flag_has_its_note_number(study):
+    # pipeline.FLAG_NOTES: the numbers labels print; a row has notes exactly when it has flags
+    from arcflash.study.pipeline import FLAG_NOTES
+
+    _, results, _ = study
+    rows = results.rows
+    assert ((rows["flags"] != "") == (rows["flag_notes"] != "")).all()
+    for notes, flags, energy, energized in zip(rows["flag_notes"], rows["flags"],
+                                               rows["incident_energy_governing_cal_cm2"], rows["energized"]):
+        numbers = {int(n) for n in notes.split(",") if n}
+        assert numbers <= set(FLAG_NOTES)
+        assert (5 in numbers) == (bool(energized) and energy > 40.0)  # NFPA 70E: no category above 40
+        assert (1 in numbers) == (not energized)
+        assert (2 in numbers) == ("outside the range of IEEE 1584-2018" in flags)
