@@ -122,8 +122,10 @@ def _pieces(kind, content, block, key_min, issued_on):
     raise ValueError(f"layout block kind: unknown {kind!r}")
 
 
+@functools.lru_cache(maxsize=65536)
 def _lines(piece, scale, width):
-    """(size, lines) of a piece at ``scale``; None when the size would fall below its minimum."""
+    """(size, lines) of a piece at ``scale``; None when the size would fall below its minimum. Remembered:
+    the lines found while fitting a label are the lines drawn."""
     size = piece.size * scale
     if size < piece.minimum - 1e-9:
         return None
