@@ -99,6 +99,13 @@ def main():
                                                                       max(60, round(args.sample * len(module_names))))
                 chosen.update(rng.sample(sorted(module_names), k))
             run(sorted(chosen))
+    listing = subprocess.run([mutmut, "results", "--all", "true"], cwd=args.work, capture_output=True,
+                             text=True).stdout
+    status = {}
+    for line in listing.splitlines():
+        name, _, state = line.strip().rpartition(": ")
+        if name and (chosen is None or name in chosen):  # a sampled run scores its sample only
+            status[name] = state
     per_module = collections.defaultdict(collections.Counter)
     for name, state in status.items():
         per_module[_module(name)][state] += 1
