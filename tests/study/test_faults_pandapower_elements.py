@@ -23,7 +23,6 @@ from __future__ import annotations
 import math
 import warnings
 
-import numpy as np
 import pytest
 
 import arcflash
