@@ -123,11 +123,14 @@ def _study_notes(row):
 
 
 def _clearing_text(site, row):
-    """The device whose opening ends the arc, with the scenario that governs when it is not the normal one."""
+    """The device whose opening ends the arc, with the scenario that governs: 'worst case' when it is not the
+    site's default scenario."""
     device = _text_or(row["device_governing"], "")
     scenario = _text_or(row.get("scenario"), "")
     normal = getattr(site, "default_scenario", None)
-    worst = f" (worst case: {scenario})" if scenario and scenario != normal else ""
+    worst = ""
+    if scenario:
+        worst = f" (scenario {scenario})" if scenario == normal else f" (worst case: {scenario})"
     if not device:
         return f"no protective device ends this arc{worst}"
     return f"{device} opens to end the arc{worst}"

@@ -145,7 +145,7 @@ def test_the_clearing_line_names_a_scenario_other_than_the_normal_one():
     row = _row()
     assert label_content(site, "PNL-7", row).governing_device == "CB-1 opens to end the arc"
     row["scenario"] = "normal"
-    assert label_content(site, "PNL-7", row).governing_device == "CB-1 opens to end the arc"
+    assert label_content(site, "PNL-7", row).governing_device == "CB-1 opens to end the arc (scenario normal)"
     row["scenario"] = "tie-closed"
     assert label_content(site, "PNL-7", row).governing_device == "CB-1 opens to end the arc (worst case: tie-closed)"
 
