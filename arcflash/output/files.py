@@ -41,6 +41,33 @@ def write_atomic(path, write):
         raise
 
 
+def write_bytes_atomic(path, data):
+    """Write ``data`` to ``path`` through a temporary file in the same folder and a rename (one open)."""
+    path = Path(path)
+    try:
+        path.parent.mkdir(parents=True, exist_ok=True)
+        handle, temporary = tempfile.mkstemp(prefix=f".{path.stem}.", suffix=f".part{path.suffix}", dir=path.parent)
+    except OSError as exc:
+        raise OSError(exc.errno, exc.strerror, str(path)) from exc
+    try:
+        with os.fdopen(handle, "wb") as stream:
+            stream.write(data)
+        os.chmod(temporary, 0o666 & ~_UMASK)  # mkstemp makes the file private; give it the usual mode
+        os.replace(temporary, path)
+    except BaseException:
+        if os.path.exists(temporary):
+            os.unlink(temporary)
+        raise
+
+
+def _current_umask():
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
+
+
+_UMASK = _current_umask()
+
 #: Age after which a temporary file of write_atomic is taken as left over by an interrupted run [s] (a run
 #: still writing it would have touched it since).
 LEFTOVER_AGE_S = 600.0

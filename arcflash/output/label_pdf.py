@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import datetime as dt
 import functools
+import io
 from dataclasses import dataclass
 
 import numpy as np
@@ -20,6 +21,7 @@ from reportlab.lib.utils import simpleSplit
 from reportlab.pdfbase.pdfmetrics import stringWidth
 from reportlab.pdfgen.canvas import Canvas
 
+from .pdf_lite import LiteCanvas
 from .qr import qr_matrix
 
 #: ANSI Z535.4 signal-word panels: DANGER white on safety red, WARNING black on safety orange
@@ -260,16 +262,29 @@ def qr_modules(payload):
     return count, tuple(tuple(r) for r in rectangles)
 
 
+@functools.lru_cache(maxsize=4096)
+def _qr_operators(payload):
+    """The dark rectangles of a QR code as PDF operators, in module units with y up from the bottom row."""
+    count, rectangles = qr_modules(payload)
+    return " ".join(f"{c} {count - r - rows} {length} {rows} re" for r, c, length, rows in rectangles)
+
+
 def _qr(canvas, content, x, top, side):
-    """The label's QR code, with the 4-module quiet zone of ISO/IEC 18004 (from memory), as one filled path."""
-    count, runs = qr_modules(content.qr_payload)
+    """The label's QR code, with the 4-module quiet zone of ISO/IEC 18004 (from memory), as filled rectangles
+    drawn in module units."""
+    count, rectangles = qr_modules(content.qr_payload)
     module = side / (count + 8)
-    x0, y0 = x + 4 * module, top - 4 * module
-    path = canvas.beginPath()
-    for r, c, length, rows in runs:
-        path.rect(x0 + c * module, y0 - (r + rows) * module, length * module, rows * module)
+    canvas.saveState()
+    canvas.transform(module, 0, 0, module, x + 4 * module, top - (count + 4) * module)
     canvas.setFillColor(black)
-    canvas.drawPath(path, stroke=0, fill=1)
+    if hasattr(canvas, "fill_rectangles"):  # the small PDF writer takes the operators as they are
+        canvas.fill_rectangles(_qr_operators(content.qr_payload))
+    else:
+        path = canvas.beginPath()
+        for r, c, length, rows in rectangles:
+            path.rect(c, count - r - rows, length, rows)
+        canvas.drawPath(path, stroke=0, fill=1)
+    canvas.restoreState()
 
 
 _PLANS = {}
@@ -377,12 +392,38 @@ def _cell(layout):
 def write_labels_pdf(contents, layout, path, issued_on=None):
     """Draw every label on pages of ``layout`` (one or several per page) into ``path``.
 
+    The small PDF writer of :mod:`.pdf_lite` draws them; a label whose text WinAnsiEncoding cannot hold
+    (outside cp1252) is drawn with reportlab's canvas instead.
+
     Returns
     -------
     list of list of Placed
         The strings drawn on each label.
     """
-    canvas = Canvas(str(path), pagesize=(layout.page_width, layout.page_height))
+    try:
+        return _write_labels(LiteCanvas, contents, layout, path, issued_on)
+    except UnicodeEncodeError:
+        return _write_labels(Canvas, contents, layout, path, issued_on)
+
+
+def labels_pdf_bytes(contents, layout, issued_on=None):
+    """The PDF of :func:`write_labels_pdf`, as bytes."""
+    try:
+        canvas = LiteCanvas(None, pagesize=(layout.page_width, layout.page_height))
+        _draw_labels(canvas, contents, layout, issued_on)
+        return canvas.getvalue()
+    except UnicodeEncodeError:
+        buffer = io.BytesIO()
+        _draw_labels(Canvas(buffer, pagesize=(layout.page_width, layout.page_height)), contents, layout, issued_on)
+        return buffer.getvalue()
+
+
+def _write_labels(canvas_class, contents, layout, path, issued_on):
+    return _draw_labels(canvas_class(str(path), pagesize=(layout.page_width, layout.page_height)), contents,
+                        layout, issued_on)
+
+
+def _draw_labels(canvas, contents, layout, issued_on):
     canvas.setTitle("arcflash equipment labels")
     cell_w, cell_h = _cell(layout)
     per_page = layout.across * layout.down

@@ -439,8 +439,9 @@ def issue_labels(site, governing, out_dir, layout="label-4x6", sheet="sheet-lett
         message names every such label and the field to shorten. Nothing is printed or recorded.
     """
     from . import ledger
-    from .files import remove_leftovers, write_atomic
-    from .label_pdf import LabelFitError, unfit_labels, write_labels_pdf
+    from .files import remove_leftovers, write_atomic, write_bytes_atomic
+    from .label_pdf import LabelFitError, labels_pdf_bytes, unfit_labels, write_labels_pdf
+    from .qr import qr_matrices
 
     chosen = list(governing.index) if not buses else list(buses)
     unknown = [b for b in chosen if b not in governing.index]
@@ -455,12 +456,13 @@ def issue_labels(site, governing, out_dir, layout="label-4x6", sheet="sheet-lett
     unfit = unfit_labels(contents, single) + unfit_labels(contents, combined)
     if unfit:  # none printed: a label is never printed cut off, nor is a batch printed with one missing
         raise LabelFitError("; ".join(unfit))
+    qr_matrices([c.qr_payload for c in contents])  # every QR code encoded in one batch (remembered)
     folder = Path(out_dir) / "labels"
     remove_leftovers(folder)
     remove_leftovers(Path(out_dir))
     for content in contents:
         target = folder / safe_file_name(content.equipment_id, content.content_hash)
-        write_atomic(target, lambda tmp, c=content: write_labels_pdf([c], single, tmp))
+        write_bytes_atomic(target, labels_pdf_bytes([content], single))
     if contents:
         write_atomic(Path(out_dir) / "labels-sheet.pdf", lambda tmp: write_labels_pdf(contents, combined, tmp))
         rows = [study_values(governing.loc[c.equipment_id]) for c in contents]

@@ -109,32 +109,75 @@ def _error_correction(data, degree):
     return remainder
 
 
-def _codewords(payload, version):
-    """Data and error-correction codewords of ``payload`` in the order they are placed (blocks interleaved)."""
-    code = qrencoder.QRCode(version, _LEVEL)
+def _segments(payload):
+    """reportlab's segments (mode chosen as it chooses) of a payload."""
+    code = qrencoder.QRCode(1, _LEVEL)
     code.addData(payload)
-    buffer = qrencoder.QRBitBuffer()
-    for segment in code.dataList:  # mode indicator, character count and data bits (reportlab's encoding)
-        segment.write(buffer, version)
-    blocks = qrencoder.QRRSBlock.getRSBlocks(version, _LEVEL)
-    capacity = 8 * sum(block.dataCount for block in blocks)
-    buffer.put(0, min(4, capacity - buffer.getLengthInBits()))  # terminator
-    while buffer.getLengthInBits() % 8:
-        buffer.putBit(False)
-    data = list(buffer.buffer)
-    pad = (0xEC, 0x11)
+    return code.dataList
+
+
+def _data_bits(segments, version):
+    """(value, length) of the bit stream of the segments: mode, count and data, as reportlab writes them."""
+    value = length = 0
+    for segment in segments:
+        if isinstance(segment, qrencoder.QR8bitByte):  # the labels' case, written here in one go
+            data = segment.data if isinstance(segment.data, bytes) else bytes(segment.data, "latin-1")
+            count_bits = segment.getLengthBits(version)
+            value = (((value << 4 | segment.mode) << count_bits | len(data)) << (8 * len(data))
+                     | int.from_bytes(data, "big"))
+            length += 4 + count_bits + 8 * len(data)
+        else:
+            buffer = qrencoder.QRBitBuffer()
+            segment.write(buffer, version)
+            bits = buffer.getLengthInBits()
+            value = value << bits | (int.from_bytes(bytes(buffer.buffer), "big") >> (8 * len(buffer.buffer) - bits))
+            length += bits
+    return value, length
+
+
+@functools.lru_cache(maxsize=None)
+def _blocks(version):
+    """(data codewords, error-correction codewords) of each block of ``version`` at level M."""
+    return tuple((b.dataCount, b.totalCount - b.dataCount) for b in qrencoder.QRRSBlock.getRSBlocks(version, _LEVEL))
+
+
+@functools.lru_cache(maxsize=None)
+def _bits_needed(kind_and_lengths):
+    """Smallest version whose capacity holds segments of these (kind, length) [-] (cached per shape)."""
+    segments = [kind(b"x" * n) if kind is qrencoder.QR8bitByte else kind("0" * n) for kind, n in kind_and_lengths]
+    for version in range(1, 41):
+        capacity = 8 * sum(data for data, _ in _blocks(version))
+        if _data_bits(segments, version)[1] <= capacity:
+            return version
+    raise ValueError("payload too long for a QR code at error correction level M")
+
+
+def _codewords(payload, version=None):
+    """Data and error-correction codewords of ``payload`` in the order they are placed (blocks interleaved),
+    and the version: the smallest that holds it unless given."""
+    segments = _segments(payload)
+    if version is None:
+        version = _bits_needed(tuple((type(s), len(s.data)) for s in segments))
+    value, length = _data_bits(segments, version)
+    capacity = 8 * sum(data for data, _ in _blocks(version))
+    terminator = min(4, capacity - length)
+    value, length = value << terminator, length + terminator
+    fill = -length % 8
+    value, length = value << fill, length + fill
+    data = list(value.to_bytes(length // 8, "big")) if length else []
+    written = len(data)
     while len(data) < capacity // 8:
-        data.append(pad[(len(data) - len(buffer.buffer)) % 2])
+        data.append((0xEC, 0x11)[(len(data) - written) % 2])
     dc, ec, offset = [], [], 0
-    for block in blocks:
-        dc.append(data[offset: offset + block.dataCount])
-        offset += block.dataCount
-        ec.append(_error_correction(dc[-1], block.totalCount - block.dataCount))
+    for data_count, ec_count in _blocks(version):
+        dc.append(data[offset: offset + data_count])
+        offset += data_count
+        ec.append(_error_correction(dc[-1], ec_count))
     interleaved = []
     for group in (dc, ec):
         for k in range(max(len(b) for b in group)):
             interleaved += [b[k] for b in group if k < len(b)]
-    return interleaved
+    return interleaved, version
 
 
 @functools.lru_cache(maxsize=None)
@@ -155,7 +198,10 @@ def _version_layout(version):
     return scoring, rows, cols, masks, finals
 
 
-@functools.lru_cache(maxsize=4096)
+_MATRICES = {}
+_MATRICES_KEPT = 20_000
+
+
 def qr_matrix(payload):
     """The QR symbol of ``payload`` (error correction level M): the smallest version that holds it, the mask
     of least penalty.
@@ -165,17 +211,38 @@ def qr_matrix(payload):
     numpy.ndarray
         Read-only (n, n) booleans, True dark, row 0 at the top.
     """
-    sizing = qrencoder.QRCode(None, _LEVEL)
-    sizing.addData(payload)
-    version = sizing.calculate_version()
-    scoring, rows, cols, masks, finals = _version_layout(version)
-    bits = np.zeros(rows.size, dtype=bool)
-    packed = np.unpackbits(np.array(_codewords(payload, version), dtype=np.uint8)).astype(bool)
-    bits[: packed.size] = packed[: rows.size]  # remainder bits stay light
-    symbols = np.repeat(scoring[None], len(MASKS), axis=0)
-    symbols[:, rows, cols] = bits[None, :] ^ masks
-    best = int(np.argmin(penalty(symbols)))
-    final = finals[best].copy()
-    final[rows, cols] = bits ^ masks[best]
-    final.setflags(write=False)  # shared through the cache
-    return final
+    if payload not in _MATRICES:
+        qr_matrices([payload])
+    return _MATRICES[payload]
+
+
+def qr_matrices(payloads):
+    """:func:`qr_matrix` of many payloads at once (the masks of all scored in one array operation per
+    version); the symbols are remembered for :func:`qr_matrix`.
+
+    Returns
+    -------
+    list of numpy.ndarray
+    """
+    todo = [p for p in dict.fromkeys(payloads) if p not in _MATRICES]
+    if len(_MATRICES) + len(todo) > _MATRICES_KEPT:
+        _MATRICES.clear()
+        todo = list(dict.fromkeys(payloads))
+    by_version = {}
+    for payload in todo:
+        codewords, version = _codewords(payload)
+        by_version.setdefault(version, []).append((payload, codewords))
+    for version, group in by_version.items():
+        scoring, rows, cols, masks, finals = _version_layout(version)
+        packed = np.unpackbits(np.array([codewords for _, codewords in group], dtype=np.uint8), axis=1)
+        bits = np.zeros((len(group), rows.size), dtype=bool)
+        bits[:, : min(packed.shape[1], rows.size)] = packed[:, : rows.size]  # remainder bits stay light
+        symbols = np.repeat(scoring[None, None], len(group), axis=0).repeat(len(MASKS), axis=1)
+        symbols[:, :, rows, cols] = bits[:, None, :] ^ masks[None]
+        best = np.argmin(penalty(symbols), axis=1)
+        for k, (payload, _) in enumerate(group):
+            final = finals[int(best[k])].copy()
+            final[rows, cols] = bits[k] ^ masks[int(best[k])]
+            final.setflags(write=False)  # shared through the cache
+            _MATRICES[payload] = final
+    return [_MATRICES[p] for p in payloads]

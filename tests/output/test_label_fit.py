@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import dataclasses
 import io
+import unicodedata
 
 import pytest
 from click.testing import CliRunner
@@ -164,3 +165,18 @@ def test_the_printed_qr_code_reads_back_as_its_payload(demo_labels, tmp_path, na
     png = next(tmp_path.glob("page*.png"))
     read = subprocess.run(["zbarimg", "--raw", "-q", str(png)], capture_output=True, text=True)
     assert read.stdout.strip() == content.qr_payload
+
+
+@pytest.mark.parametrize("text", ["Gloves (class 0) \\ face shield, caf\u00e9 rated 8 cal/cm\u00b2",
+                                  "\u03a9-rated suit \u2265 40 cal/cm2"])
+def test_label_text_reads_back_whatever_its_characters(demo_labels, text):
+    # cp1252 text is written by the small PDF writer (escaped); other text falls back to reportlab's canvas
+    from pypdf import PdfReader
+
+    from arcflash.output.label_pdf import labels_pdf_bytes
+
+    content = dataclasses.replace(demo_labels[1], site_ppe=text)
+    data = labels_pdf_bytes([content], load_layout("label-4x6"))
+    extracted = " ".join(PdfReader(io.BytesIO(data)).pages[0].extract_text().split())
+    # NFKC: a reader may give the ohm sign U+2126 for the font's Omega glyph
+    assert unicodedata.normalize("NFKC", text) in unicodedata.normalize("NFKC", extracted)

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import os
 import shutil
 from pathlib import Path
 
@@ -11,7 +12,7 @@ from click.testing import CliRunner
 
 import arcflash
 from arcflash.cli import main
-from arcflash.output import label_pdf, ledger
+from arcflash.output import files, ledger
 from arcflash.output.labels import issue_labels, label_content, labels_of, safe_file_name
 from arcflash.study.pipeline import run_study
 
@@ -58,19 +59,26 @@ def test_interrupted_run_leaves_ledger_and_pdfs(site_copy, tmp_path, monkeypatch
     before = ledger.latest(ledger.ledger_path(site.path))
     existing = sorted((tmp_path / "out" / "labels").iterdir())
     calls = {"n": 0}
-    real = label_pdf.write_labels_pdf
+    real = files.write_bytes_atomic
 
-    def failing(contents, layout, path):
+    def failing(path, data):  # the third label's file fails while it is written
         calls["n"] += 1
         if calls["n"] == 3:
+            with open(Path(path).with_name(f".{Path(path).stem}.x.part.pdf"), "wb") as partial:
+                partial.write(data[:10])
             raise OSError("disk full (simulated)")
-        return real(contents, layout, path)
+        return real(path, data)
 
-    monkeypatch.setattr(label_pdf, "write_labels_pdf", failing)
+    monkeypatch.setattr(files, "write_bytes_atomic", failing)
     with pytest.raises(OSError, match="simulated"):
         issue_labels(site, governing, tmp_path / "out")
     assert ledger.latest(ledger.ledger_path(site.path)) == before
     assert all(p.stat().st_size > 0 for p in existing)
+    leftovers = [p for p in (tmp_path / "out" / "labels").iterdir() if ".part" in p.name]
+    # what a real interruption leaves (a killed process cannot clean up) is removed by the next run
+    for path in leftovers:
+        os.utime(path, (0, 0))
+    issue_labels(site, governing, tmp_path / "out", buses=["SWG-A"])
     assert not [p for p in (tmp_path / "out" / "labels").iterdir() if ".part" in p.name]
 
 

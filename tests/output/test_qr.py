@@ -23,8 +23,9 @@ def _reference(payload):
 @pytest.mark.parametrize("payload", PAYLOADS)
 def test_codewords_equal_reportlabs(payload):
     code = _reference(payload)
-    assert _codewords(payload, code.version) == list(
-        qrencoder.QRCode.createData(code.version, code.errorCorrectLevel, code.dataList))
+    assert _codewords(payload, code.version) == (list(
+        qrencoder.QRCode.createData(code.version, code.errorCorrectLevel, code.dataList)), code.version)
+    assert _codewords(payload)[1] == code.version  # the smallest version that holds it, as reportlab finds
 
 
 @pytest.mark.parametrize("payload", PAYLOADS)
@@ -63,3 +64,12 @@ def test_penalty_rules():
     plain[10, 0:11] = [1, 0, 1, 0, 1, 0, 1, 0, 1, 0, 1]
     assert penalty(finder) - penalty(plain) >= 40  # N3 (plus the runs and blocks the pattern brings)
     assert penalty(np.stack([dark, checker])).tolist() == [penalty(dark), 0]
+
+
+def test_many_at_once_equal_one_at_a_time():
+    from arcflash.output import qr
+
+    payloads = PAYLOADS + [f"arcflash-label|BUS-{k}|A|{k:016x}" for k in range(20)]
+    together = [m.copy() for m in qr.qr_matrices(payloads)]
+    qr._MATRICES.clear()
+    assert all((qr.qr_matrix(p) == m).all() for p, m in zip(payloads, together))

@@ -1,0 +1,186 @@
+"""A small PDF canvas for labels: the part of reportlab's canvas interface the label drawing uses, written
+straight to PDF operators.
+
+A label is a few dozen strings and rectangles; reportlab's general canvas spends most of a label's time
+on bookkeeping it does not need here. This one writes PDF 1.4 (ISO 32000-1 structure: catalog, page tree,
+pages with one compressed content stream each, the two standard fonts Helvetica and Helvetica-Bold with
+WinAnsiEncoding, an information dictionary, a cross-reference table). Text widths for wrapping still come
+from reportlab's font metrics, which describe the same standard fonts and encoding.
+
+Text that WinAnsiEncoding (cp1252) cannot hold raises :class:`UnicodeEncodeError`; the caller then draws
+with reportlab's canvas instead.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import re
+import zlib
+from pathlib import Path
+
+from reportlab.pdfbase.pdfmetrics import stringWidth
+
+_FONTS = {"Helvetica": "F1", "Helvetica-Bold": "F2"}
+
+
+def _number(value):
+    if isinstance(value, int):
+        return str(value)
+    text = f"{value:.3f}".rstrip("0").rstrip(".")
+    return text if text not in ("", "-0") else "0"
+
+
+_PRINTABLE = re.compile(rb"^[ -~]*$")
+
+
+def _string(text):
+    raw = text.encode("cp1252")
+    if _PRINTABLE.match(raw):  # the usual case: printable ASCII, only \ ( ) to escape
+        return b"(" + raw.replace(b"\\", b"\\\\").replace(b"(", b"\\(").replace(b")", b"\\)") + b")"
+    out = bytearray(b"(")
+    for byte in raw:
+        if byte in b"()\\":
+            out += b"\\" + bytes([byte])
+        elif byte < 32 or byte > 126:
+            out += f"\\{byte:03o}".encode("ascii")
+        else:
+            out.append(byte)
+    return bytes(out + b")")
+
+
+def _rgb(color):
+    return f"{_number(color.red)} {_number(color.green)} {_number(color.blue)}"
+
+
+class Path_:
+    """A path being built (moveTo, lineTo, rect, close)."""
+
+    def __init__(self):
+        self.ops = []
+
+    def moveTo(self, x, y):  # noqa: N802 - reportlab's name
+        self.ops.append(f"{_number(x)} {_number(y)} m")
+
+    def lineTo(self, x, y):  # noqa: N802
+        self.ops.append(f"{_number(x)} {_number(y)} l")
+
+    def rect(self, x, y, w, h):
+        self.ops.append(f"{_number(x)} {_number(y)} {_number(w)} {_number(h)} re")
+
+    def close(self):
+        self.ops.append("h")
+
+
+class LiteCanvas:
+    """The canvas calls of :mod:`arcflash.output.label_pdf`, written as PDF operators."""
+
+    def __init__(self, path, pagesize):
+        self.path = path
+        self.width, self.height = pagesize
+        self.title = ""
+        self.pages = []
+        self.ops = []
+        self.font = ("F1", 10.0)
+
+    def setTitle(self, title):  # noqa: N802
+        self.title = title
+
+    def setFont(self, name, size):  # noqa: N802
+        self.font = (_FONTS[name], float(size))
+
+    def setFillColor(self, color):  # noqa: N802
+        self.ops.append(f"{_rgb(color)} rg")
+
+    def setLineWidth(self, width):  # noqa: N802
+        self.ops.append(f"{_number(width)} w")
+
+    def setDash(self, on=None, off=None):  # noqa: N802
+        self.ops.append("[] 0 d" if on is None else f"[{_number(on)} {_number(off)}] 0 d")
+
+    def drawString(self, x, y, text):  # noqa: N802
+        font, size = self.font
+        self.ops.append(f"BT /{font} {_number(size)} Tf {_number(x)} {_number(y)} Td ".encode("ascii")
+                        + _string(text) + b" Tj ET")
+
+    def drawCentredString(self, x, y, text):  # noqa: N802
+        name = next(k for k, v in _FONTS.items() if v == self.font[0])
+        self.drawString(x - stringWidth(text, name, self.font[1]) / 2.0, y, text)
+
+    def rect(self, x, y, w, h, stroke=1, fill=0):
+        self.ops.append(f"{_number(x)} {_number(y)} {_number(w)} {_number(h)} re {_paint(stroke, fill)}")
+
+    def saveState(self):  # noqa: N802
+        self.ops.append("q")
+
+    def restoreState(self):  # noqa: N802
+        self.ops.append("Q")
+
+    def transform(self, a, b, c, d, e, f):
+        self.ops.append(" ".join(_number(v) for v in (a, b, c, d, e, f)) + " cm")
+
+    def fill_rectangles(self, operators):
+        """Fill rectangles given as ready PDF operators ('x y w h re ...'), in the current coordinates."""
+        self.ops.append(operators + " f")
+
+    def beginPath(self):  # noqa: N802
+        return Path_()
+
+    def drawPath(self, path, stroke=1, fill=0):  # noqa: N802
+        self.ops.append(" ".join(path.ops) + f" {_paint(stroke, fill)}")
+
+    def showPage(self):  # noqa: N802
+        self.pages.append(self.ops)
+        self.ops = []
+
+    def save(self):
+        """Write the document to the path given (or keep it, when the path is None: :meth:`getvalue`)."""
+        if self.ops or not self.pages:
+            self.showPage()
+        self.data = self._document()
+        if self.path is not None:
+            Path(self.path).write_bytes(self.data)
+
+    def getvalue(self):
+        """The document's bytes, after :meth:`save`."""
+        return self.data
+
+    def _document(self):
+        objects = []  # bytes of objects 1..n
+
+        def add(body):
+            objects.append(body if isinstance(body, bytes) else body.encode("latin-1"))
+            return len(objects)
+
+        catalog = add("")  # filled in below, once the page tree's number is known
+        fonts = {key: add(f"<< /Type /Font /Subtype /Type1 /BaseFont /{name} /Encoding /WinAnsiEncoding >>")
+                 for name, key in _FONTS.items()}
+        resources = "<< /Font << " + " ".join(f"/{k} {n} 0 R" for k, n in fonts.items()) + " >> >>"
+        tree = add("")
+        kids = []
+        for ops in self.pages:
+            content = zlib.compress(b"\n".join(op if isinstance(op, bytes) else op.encode("ascii") for op in ops))
+            stream = add(f"<< /Length {len(content)} /Filter /FlateDecode >>\nstream\n".encode("ascii")
+                         + content + b"\nendstream")
+            kids.append(add(f"<< /Type /Page /Parent {tree} 0 R /MediaBox [0 0 {_number(self.width)} "
+                            f"{_number(self.height)}] /Resources {resources} /Contents {stream} 0 R >>"))
+        objects[tree - 1] = (f"<< /Type /Pages /Kids [{' '.join(f'{k} 0 R' for k in kids)}] "
+                             f"/Count {len(kids)} >>").encode("ascii")
+        objects[catalog - 1] = f"<< /Type /Catalog /Pages {tree} 0 R >>".encode("ascii")
+        stamp = dt.datetime.now(dt.timezone.utc).strftime("D:%Y%m%d%H%M%SZ")
+        info = add(b"<< /Title " + _string(self.title) + f" /Producer (arcflash) /CreationDate ({stamp}) >>"
+                   .encode("ascii"))
+        out = bytearray(b"%PDF-1.4\n%\xe2\xe3\xcf\xd3\n")
+        offsets = []
+        for number, body in enumerate(objects, start=1):
+            offsets.append(len(out))
+            out += f"{number} 0 obj\n".encode("ascii") + body + b"\nendobj\n"
+        xref = len(out)
+        out += f"xref\n0 {len(objects) + 1}\n0000000000 65535 f \n".encode("ascii")
+        out += b"".join(f"{offset:010d} 00000 n \n".encode("ascii") for offset in offsets)
+        out += (f"trailer\n<< /Size {len(objects) + 1} /Root {catalog} 0 R /Info {info} 0 R >>\n"
+                f"startxref\n{xref}\n%%EOF\n").encode("ascii")
+        return bytes(out)
+
+
+def _paint(stroke, fill):
+    return {(1, 1): "B", (1, 0): "S", (0, 1): "f", (0, 0): "n"}[(1 if stroke else 0, 1 if fill else 0)]
