@@ -17,14 +17,14 @@ from __future__ import annotations
 import functools
 
 import numpy as np
-from numpy.lib.stride_tricks import sliding_window_view
 from reportlab.graphics.barcode import qrencoder
 
 #: Penalty weights N1-N4 of ISO/IEC 18004 clause 7.8.3 (from memory).
 N1, N2, N3, N4 = 3, 3, 40, 10
 
-_FINDER_LIKE = (np.array([1, 0, 1, 1, 1, 0, 1, 0, 0, 0, 0], dtype=bool),
-                np.array([0, 0, 0, 0, 1, 0, 1, 1, 1, 0, 1], dtype=bool))
+#: The finder-like patterns of N3 (dark 1:1:3:1:1 with four light modules after or before), as 11-bit numbers
+#: read left to right.
+_FINDER_BITS = (np.uint64(0b10111010000), np.uint64(0b00001011101))
 
 #: The eight data masks of ISO/IEC 18004 Table 10 (i row, j column): True where a module is inverted.
 MASKS = (
@@ -37,6 +37,29 @@ MASKS = (
     lambda i, j: ((i * j) % 2 + (i * j) % 3) % 2 == 0,
     lambda i, j: ((i * j) % 3 + (i + j) % 2) % 2 == 0,
 )
+
+
+def _finder_like(lines, wide=False):
+    """Number of finder-like windows (:data:`_FINDER_BITS`) along the lines of each symbol (N, n, n).
+
+    Each line is read as an integer and its 11-module windows compared with the two patterns; lines wider
+    than 64 modules (``wide``) are compared module by module.
+    """
+    if wide:
+        windows = np.lib.stride_tricks.sliding_window_view(lines, 11, axis=2)
+        found = 0
+        for pattern in _FINDER_BITS:
+            bits = np.array([(int(pattern) >> (10 - k)) & 1 for k in range(11)], dtype=bool)
+            found = found + np.sum(np.all(windows == bits, axis=3), axis=(1, 2))
+        return found
+    packed = np.zeros(lines.shape[:2], dtype=np.uint64)
+    for column in range(lines.shape[2]):
+        packed = (packed << np.uint64(1)) | lines[:, :, column].astype(np.uint64)
+    found = 0
+    for shift in range(lines.shape[2] - 10):
+        window = (packed >> np.uint64(shift)) & np.uint64(0x7FF)
+        found = found + np.sum((window == _FINDER_BITS[0]) | (window == _FINDER_BITS[1]), axis=1)
+    return found
 
 
 def penalty(modules):
@@ -58,11 +81,10 @@ def penalty(modules):
         starts = np.concatenate(([0], np.flatnonzero(np.diff(flat) != 0) + 1))
         runs = np.diff(np.concatenate((starts, [flat.size])))
         long_run = runs >= 5
-        np.add.at(score, starts[long_run] // (size * (size + 1)), N1 + runs[long_run] - 5)
+        score += np.bincount(starts[long_run] // (size * (size + 1)), weights=N1 + runs[long_run] - 5,
+                             minlength=count).astype(np.int64)
         if size >= 11:
-            windows = sliding_window_view(lines, 11, axis=2)
-            for pattern in _FINDER_LIKE:
-                score += N3 * np.sum(np.all(windows == pattern, axis=3), axis=(1, 2))
+            score += N3 * _finder_like(lines, wide=size > 64)
     block = stack[:, :-1, :-1]
     same = (block == stack[:, 1:, :-1]) & (block == stack[:, :-1, 1:]) & (block == stack[:, 1:, 1:])
     score += N2 * np.sum(same, axis=(1, 2))
@@ -152,9 +174,8 @@ def _bits_needed(kind_and_lengths):
     raise ValueError("payload too long for a QR code at error correction level M")
 
 
-def _codewords(payload, version=None):
-    """Data and error-correction codewords of ``payload`` in the order they are placed (blocks interleaved),
-    and the version: the smallest that holds it unless given."""
+def _data_codewords(payload, version=None):
+    """(data codewords with terminator and padding, version): the smallest version unless given."""
     segments = _segments(payload)
     if version is None:
         version = _bits_needed(tuple((type(s), len(s.data)) for s in segments))
@@ -168,16 +189,54 @@ def _codewords(payload, version=None):
     written = len(data)
     while len(data) < capacity // 8:
         data.append((0xEC, 0x11)[(len(data) - written) % 2])
-    dc, ec, offset = [], [], 0
-    for data_count, ec_count in _blocks(version):
-        dc.append(data[offset: offset + data_count])
+    return data, version
+
+
+@functools.lru_cache(maxsize=None)
+def _parity_matrix(data_count, ec_count):
+    """The GF(2) matrix that maps the bits of a block's data codewords to the bits of its Reed-Solomon
+    codewords (the code is linear: the codewords of a sum are the sum of the codewords) [-]."""
+    rows = []
+    for bit in range(8 * data_count):
+        unit = [0] * data_count
+        unit[bit // 8] = 0x80 >> (bit % 8)
+        rows.append(np.unpackbits(np.array(_error_correction(unit, ec_count), dtype=np.uint8)))
+    return np.array(rows, dtype=np.uint8)
+
+
+@functools.lru_cache(maxsize=None)
+def _interleaving(version):
+    """Positions, in the block-by-block order (data of each block, then EC of each), of the placed order."""
+    blocks = _blocks(version)
+    data_total = sum(d for d, _ in blocks)
+    data_start = np.cumsum([0] + [d for d, _ in blocks])[:-1]
+    ec_start = data_total + np.cumsum([0] + [e for _, e in blocks])[:-1]
+    order = []
+    for starts, counts in ((data_start, [d for d, _ in blocks]), (ec_start, [e for _, e in blocks])):
+        for k in range(max(counts)):
+            order += [int(start) + k for start, count in zip(starts, counts) if k < count]
+    return np.array(order, dtype=np.intp)
+
+
+def _codewords_batch(data, version):
+    """Placed codewords (N, total) of N payloads' data codewords (N, data total) of one version."""
+    data = np.asarray(data, dtype=np.uint8)
+    parts, offset = [], 0
+    for data_count, _ in _blocks(version):
+        parts.append(data[:, offset: offset + data_count])
         offset += data_count
-        ec.append(_error_correction(dc[-1], ec_count))
-    interleaved = []
-    for group in (dc, ec):
-        for k in range(max(len(b) for b in group)):
-            interleaved += [b[k] for b in group if k < len(b)]
-    return interleaved, version
+    for (data_count, ec_count), block in zip(_blocks(version), parts[: len(_blocks(version))]):
+        bits = np.unpackbits(block, axis=1).astype(np.int64)
+        parity = (bits @ _parity_matrix(data_count, ec_count).astype(np.int64)) % 2
+        parts.append(np.packbits(parity.astype(np.uint8), axis=1))
+    return np.concatenate(parts, axis=1)[:, _interleaving(version)]
+
+
+def _codewords(payload, version=None):
+    """Data and error-correction codewords of ``payload`` in the order they are placed (blocks interleaved),
+    and the version: the smallest that holds it unless given."""
+    data, version = _data_codewords(payload, version)
+    return _codewords_batch([data], version)[0].tolist(), version
 
 
 @functools.lru_cache(maxsize=None)
@@ -230,11 +289,12 @@ def qr_matrices(payloads):
         todo = list(dict.fromkeys(payloads))
     by_version = {}
     for payload in todo:
-        codewords, version = _codewords(payload)
-        by_version.setdefault(version, []).append((payload, codewords))
+        data, version = _data_codewords(payload)
+        by_version.setdefault(version, []).append((payload, data))
     for version, group in by_version.items():
         scoring, rows, cols, masks, finals = _version_layout(version)
-        packed = np.unpackbits(np.array([codewords for _, codewords in group], dtype=np.uint8), axis=1)
+        codewords = _codewords_batch([data for _, data in group], version)
+        packed = np.unpackbits(codewords, axis=1)
         bits = np.zeros((len(group), rows.size), dtype=bool)
         bits[:, : min(packed.shape[1], rows.size)] = packed[:, : rows.size]  # remainder bits stay light
         symbols = np.repeat(scoring[None, None], len(group), axis=0).repeat(len(MASKS), axis=1)

@@ -73,3 +73,15 @@ def test_many_at_once_equal_one_at_a_time():
     together = [m.copy() for m in qr.qr_matrices(payloads)]
     qr._MATRICES.clear()
     assert all((qr.qr_matrix(p) == m).all() for p, m in zip(payloads, together))
+
+
+def test_finder_patterns_counted_alike_as_integers_and_module_by_module():
+    from arcflash.output.qr import _finder_like
+
+    rng = np.random.default_rng(7)
+    lines = rng.random((40, 29, 29)) < 0.5
+    lines[0, 3, 5:16] = [1, 0, 1, 1, 1, 0, 1, 0, 0, 0, 0]  # at least one of each pattern
+    lines[1, 7, 10:21] = [0, 0, 0, 0, 1, 0, 1, 1, 1, 0, 1]
+    by_integer, by_module = _finder_like(lines), _finder_like(lines, wide=True)
+    assert by_integer[0] >= 1 and by_integer[1] >= 1
+    assert (by_integer == by_module).all()
