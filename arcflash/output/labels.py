@@ -181,8 +181,13 @@ def study_values(row):
 
 def labels_of(site, governing, buses=None):
     """The label content of ``buses`` (all by default) of a governing table."""
-    return [label_content(site, bus, governing.loc[bus])
-            for bus in (governing.index if buses is None else buses)]
+    rows = _rows(governing)
+    return [label_content(site, bus, rows[bus]) for bus in (governing.index if buses is None else buses)]
+
+
+def _rows(governing):
+    """The rows of a governing table as dicts by bus (far quicker to read than pandas rows, one by one)."""
+    return dict(zip(governing.index, governing.to_dict("records")))
 
 
 def label_content(site, bus, row, shows=None):
@@ -465,6 +470,7 @@ def issue_labels(site, governing, out_dir, layout="label-4x6", sheet="sheet-lett
         write_bytes_atomic(target, labels_pdf_bytes([content], single))
     if contents:
         write_atomic(Path(out_dir) / "labels-sheet.pdf", lambda tmp: write_labels_pdf(contents, combined, tmp))
-        rows = [study_values(governing.loc[c.equipment_id]) for c in contents]
+        by_bus = _rows(governing)
+        rows = [study_values(by_bus[c.equipment_id]) for c in contents]
         ledger.record(book, contents, single.name, issued_by, study_rows=rows, snapshot=ledger.site_snapshot(site))
     return contents
