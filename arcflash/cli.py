@@ -184,7 +184,8 @@ def study(site_dir, out_dir, tcc_buses, no_report, quiet):
     click.echo(f"Study of {site.facility.name}: {len(governing)} buses, {len(site.scenarios)} scenarios.")
     click.echo(f"Highest incident energy: {energy_text(governing.loc[worst, 'incident_energy_governing_cal_cm2'])} cal/cm2 "
                f"at {worst} ({governing.loc[worst, 'scenario']}); {flagged} buses flagged.")
-    files = ["results.csv", "governing.csv", "steps.csv", "results.xlsx"] + ([] if no_report else ["report.pdf"])
+    files = (["results.csv", "governing.csv", "steps.csv", "results.xlsx"] + ([] if no_report else ["report.pdf"])
+             + ["study.json (what labels and briefings check their data against)"])
     click.echo(f"Results in {out_dir}: " + ", ".join(files))
     click.echo(CAUTION)
 
