@@ -21,7 +21,7 @@ from dataclasses import asdict, dataclass, field
 import pandas as pd
 
 from . import ledger
-from .labels import labels_of
+from .labels import labels_of, study_values
 
 #: The label fields compared (LabelContent names) with their words.
 LABEL_FIELDS = {
@@ -164,8 +164,6 @@ def label_changes(site, governing, book, since=None):
         if old["study_row"] is None or old["snapshot_id"] is None:
             change.traced = False
         else:
-            from .labels import study_values
-
             now = study_values(row)
             change.stages = [(words, old["study_row"].get(name), now.get(name)) for name, words in STAGES.items()
                              if old["study_row"].get(name) != now.get(name)]
