@@ -124,7 +124,7 @@ def _pieces(kind, content, block, key_min, issued_on):
     raise ValueError(f"layout block kind: unknown {kind!r}")
 
 
-@functools.lru_cache(maxsize=65536)
+@functools.lru_cache(maxsize=8192)
 def _lines(piece, scale, width):
     """(size, lines) of a piece at ``scale``; None when the size would fall below its minimum. Remembered:
     the lines found while fitting a label are the lines drawn."""
@@ -190,13 +190,14 @@ def _too_long(content, blocks, width):
     return worst[1], worst[2]
 
 
-def _draw_pieces(canvas, pieces, scale, x, top, width, placed, kind, box):
+def _draw_pieces(canvas, pieces, scale, x, top, width, placed, kind, box, laid=None):
+    """Draw a block's pieces; ``laid`` holds their (size, lines) from the label's plan when known."""
     y_row = top
     rows = sorted({p.row for p in pieces})
     for row in rows:
         lowest = y_row
         for piece in (p for p in pieces if p.row == row):
-            size, lines = _lines(piece, scale, width)
+            size, lines = laid[piece] if laid is not None else _lines(piece, scale, width)
             font = _BOLD if piece.bold else _REGULAR
             canvas.setFont(font, size)
             y = y_row
@@ -288,7 +289,7 @@ def _qr(canvas, content, x, top, side):
 
 
 _PLANS = {}
-_PLANS_KEPT = 20_000
+_PLANS_KEPT = 50_000  # every label of a 10,000-bus facility in two layouts, planned to fit then drawn
 
 
 def plan_label(content, w, h, layout, issued_on=None):
@@ -322,7 +323,8 @@ def _plan_label(content, w, h, layout, issued_on=None):
         raise LabelFitError(f"label of {content.equipment_id}: the text does not fit layout {layout.name} at the "
                             f"smallest legible size ({MIN_TEXT_PT:g} pt; key values {key_min:g} pt): "
                             f"shorten {field} (in the {kind} block)")
-    return fixed, texts, scale, heights, available, key_min
+    laid = {piece: _lines(piece, scale, inner_w) for _, pieces, _ in texts for piece in pieces}
+    return fixed, texts, scale, heights, available, key_min, laid
 
 
 def draw_label(canvas, content, x, y, w, h, layout, issued_on=None):
@@ -340,7 +342,7 @@ def draw_label(canvas, content, x, y, w, h, layout, issued_on=None):
     """
     inner_w = w - 2 * _PAD
     plan = plan_label(content, w, h, layout, issued_on)
-    fixed, texts, scale, heights, available, key_min = plan
+    fixed, texts, scale, heights, available, key_min, laid = plan
     qr_text = [b for b in layout.blocks if b["kind"] == "qr"]
     slack = (available - sum(heights) - _BLOCK_GAP * len(texts)) / max(1, len(texts))
     canvas.setLineWidth(1.2)
@@ -366,7 +368,7 @@ def draw_label(canvas, content, x, y, w, h, layout, issued_on=None):
         _, pieces, _ = next(text_blocks)  # the text blocks, in layout order
         height = next(heights) + _BLOCK_GAP + slack
         box = (x + _PAD, top - height, x + w - _PAD, top)
-        _draw_pieces(canvas, pieces, scale, x + _PAD, top - 1, inner_w, placed, kind, box)
+        _draw_pieces(canvas, pieces, scale, x + _PAD, top - 1, inner_w, placed, kind, box, laid)
         top -= height
     return placed
 
