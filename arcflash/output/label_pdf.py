@@ -251,16 +251,17 @@ def qr_modules(payload):
     edges = np.diff(padded, axis=1)
     row_start, col_start = np.nonzero(edges == 1)
     _, col_end = np.nonzero(edges == -1)
+    length = col_end - col_start
     # a run that repeats the one directly above it (same columns) extends that rectangle downwards
-    open_runs, rectangles = {}, []
-    for row, col, length in zip(row_start.tolist(), col_start.tolist(), (col_end - col_start).tolist()):
-        above = open_runs.get((col, length))
-        if above is not None and above[0] + above[3] == row:
-            above[3] += 1
-        else:
-            open_runs[(col, length)] = [row, col, length, 1]
-            rectangles.append(open_runs[(col, length)])
-    return count, tuple(tuple(r) for r in rectangles)
+    key = col_start * (count + 1) + length
+    order = np.lexsort((row_start, key))
+    key, row = key[order], row_start[order]
+    starts = np.ones(order.size, dtype=bool)
+    starts[1:] = (key[1:] != key[:-1]) | (row[1:] != row[:-1] + 1)
+    first = np.flatnonzero(starts)
+    rows = np.diff(np.append(first, order.size))
+    top, col, width = row[first], col_start[order][first], length[order][first]
+    return count, tuple(zip(top.tolist(), col.tolist(), width.tolist(), rows.tolist()))
 
 
 @functools.lru_cache(maxsize=4096)

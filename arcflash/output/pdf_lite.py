@@ -24,10 +24,10 @@ _FONTS = {"Helvetica": "F1", "Helvetica-Bold": "F2"}
 
 
 def _number(value):
+    """A PDF number: an integer as it is, a real to three decimals (no exponent below 1e16)."""
     if isinstance(value, int):
         return str(value)
-    text = f"{value:.3f}".rstrip("0").rstrip(".")
-    return text if text not in ("", "-0") else "0"
+    return repr(round(float(value), 3))
 
 
 _PRINTABLE = re.compile(rb"^[ -~]*$")
