@@ -75,14 +75,13 @@ def penalty(modules):
     count, size = stack.shape[0], stack.shape[-1]
     score = np.zeros(count, dtype=np.int64)
     for lines in (stack, np.swapaxes(stack, 1, 2)):
-        # runs along each line: a separator value (2) after every line keeps runs from joining across lines
-        flat = np.concatenate((lines.astype(np.int8), np.full((count, size, 1), 2, dtype=np.int8)), axis=2)
-        flat = flat.ravel()  # every line ends with its separator, so symbols cannot join either
-        starts = np.concatenate(([0], np.flatnonzero(np.diff(flat) != 0) + 1))
-        runs = np.diff(np.concatenate((starts, [flat.size])))
-        long_run = runs >= 5
-        score += np.bincount(starts[long_run] // (size * (size + 1)), weights=N1 + runs[long_run] - 5,
-                             minlength=count).astype(np.int64)
+        # N1 = sum over runs of five or more like modules of (3 + length - 5) = A + 2 B, where A counts the
+        # windows of five like modules and B the runs they belong to (windows that start a run)
+        like = lines[:, :, 1:] == lines[:, :, :-1]
+        five = like[:, :, :-3] & like[:, :, 1:-2] & like[:, :, 2:-1] & like[:, :, 3:]
+        starting = five.copy()
+        starting[:, :, 1:] &= ~like[:, :, :-4]
+        score += np.sum(five, axis=(1, 2)) + (N1 - 1) * np.sum(starting, axis=(1, 2))
         if size >= 11:
             score += N3 * _finder_like(lines, wide=size > 64)
     block = stack[:, :-1, :-1]

@@ -85,3 +85,30 @@ def test_finder_patterns_counted_alike_as_integers_and_module_by_module():
     by_integer, by_module = _finder_like(lines), _finder_like(lines, wide=True)
     assert by_integer[0] >= 1 and by_integer[1] >= 1
     assert (by_integer == by_module).all()
+
+
+def _penalty_by_loops(m):
+    """ISO/IEC 18004 7.8.3 penalties written out with loops (the test's own reading of the rules)."""
+    size, score = len(m), 0
+    for lines in (m, m.T):
+        for line in lines:
+            run = 1
+            for k in range(1, size + 1):
+                if k < size and line[k] == line[k - 1]:
+                    run += 1
+                    continue
+                score += 3 + run - 5 if run >= 5 else 0
+                run = 1
+            text = "".join("1" if v else "0" for v in line)
+            score += 40 * sum(text.startswith(p, k) for k in range(size - 10)
+                              for p in ("10111010000", "00001011101"))
+    score += 3 * sum(m[i, j] == m[i + 1, j] == m[i, j + 1] == m[i + 1, j + 1]
+                     for i in range(size - 1) for j in range(size - 1))
+    score += 10 * int(abs(100.0 * m.sum() / m.size - 50.0) // 5)
+    return score
+
+
+def test_penalty_equals_the_rules_written_out_with_loops():
+    rng = np.random.default_rng(11)
+    symbols = rng.random((12, 25, 25)) < rng.random((12, 1, 1))
+    assert penalty(symbols).tolist() == [_penalty_by_loops(m) for m in symbols]
