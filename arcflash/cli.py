@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
+import io
 import json
+import os
 import sys
 
 import click
@@ -27,6 +29,12 @@ class _Commands(click.Group):
     def invoke(self, ctx):
         try:
             return super().invoke(ctx)
+        except BrokenPipeError:  # the reader went away (e.g. `| head`): stop quietly, as pipes expect
+            try:
+                os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+            except (OSError, ValueError, io.UnsupportedOperation):
+                pass
+            sys.exit(1)
         except OSError as exc:
             where = exc.filename if exc.filename is not None else "a file"
             raise click.UsageError(f"cannot use {where}: {exc.strerror or exc}") from None

@@ -162,3 +162,15 @@ def test_a_device_library_that_is_not_one_is_refused(tmp_path, content, words):
     library.write_bytes(content)
     error = refused(without(QUICK, "--clearing-time-s") + ["--library", str(library), "--curve", "TM-100"])
     assert words in error and ("--library" in error or "--curve" in error)
+
+
+def test_a_reader_that_goes_away_ends_the_command_quietly(monkeypatch):
+    # `arcflash labels diff SITE | head`: the pipe closes; no "Error:" and no traceback, exit 1
+    import arcflash.cli as cli
+
+    def closed(*args, **kwargs):
+        raise BrokenPipeError(32, "Broken pipe")
+
+    monkeypatch.setattr(cli, "fault_table", closed)
+    result = CliRunner().invoke(main, ["faults", DEMO])
+    assert result.exit_code == 1 and "Error" not in result.output and "Traceback" not in result.output
