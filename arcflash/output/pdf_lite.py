@@ -30,12 +30,12 @@ def _number(value):
     return repr(round(float(value), 3))
 
 
-_PRINTABLE = re.compile(rb"^[ -~]*$")
+_PRINTABLE = re.compile(rb"[ -~]*")
 
 
 def _string(text):
     raw = text.encode("cp1252")
-    if _PRINTABLE.match(raw):  # the usual case: printable ASCII, only \ ( ) to escape
+    if _PRINTABLE.fullmatch(raw):  # the usual case: printable ASCII, only \ ( ) to escape
         return b"(" + raw.replace(b"\\", b"\\\\").replace(b"(", b"\\(").replace(b")", b"\\)") + b")"
     out = bytearray(b"(")
     for byte in raw:
