@@ -2,9 +2,33 @@
 
 from __future__ import annotations
 
+import contextlib
 import os
 import tempfile
 from pathlib import Path
+
+
+@contextlib.contextmanager
+def _beside(path):
+    """A temporary file in ``path``'s folder, as (open handle, name), moved onto ``path`` when the block ends
+    without an error; otherwise removed. Errors name ``path``, never the temporary file."""
+    try:
+        path.parent.mkdir(parents=True, exist_ok=True)
+        handle, temporary = tempfile.mkstemp(prefix=f".{path.stem}.", suffix=f".part{path.suffix}", dir=path.parent)
+    except OSError as exc:  # name the file the user asked for, not a temporary one
+        raise OSError(exc.errno, exc.strerror, str(path)) from exc
+    try:
+        yield handle, temporary
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(temporary, 0o666 & ~umask)  # mkstemp makes the file private; give it the usual mode
+        os.replace(temporary, path)
+    except BaseException as exc:
+        if os.path.exists(temporary):
+            os.unlink(temporary)
+        if isinstance(exc, OSError) and exc.filename == temporary:
+            raise OSError(exc.errno, exc.strerror, str(path)) from exc
+        raise
 
 
 def write_atomic(path, write):
@@ -20,53 +44,17 @@ def write_atomic(path, write):
     write : callable
         Writes the whole content to the path it is given.
     """
-    path = Path(path)
-    try:
-        path.parent.mkdir(parents=True, exist_ok=True)
-        handle, temporary = tempfile.mkstemp(prefix=f".{path.stem}.", suffix=f".part{path.suffix}", dir=path.parent)
-    except OSError as exc:  # name the file the user asked for, not a temporary one
-        raise OSError(exc.errno, exc.strerror, str(path)) from exc
-    os.close(handle)
-    try:
+    with _beside(Path(path)) as (handle, temporary):
+        os.close(handle)
         write(temporary)
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(temporary, 0o666 & ~umask)  # mkstemp makes the file private; give it the usual mode
-        os.replace(temporary, path)
-    except BaseException as exc:
-        if os.path.exists(temporary):
-            os.unlink(temporary)
-        if isinstance(exc, OSError) and exc.filename == temporary:
-            raise OSError(exc.errno, exc.strerror, str(path)) from exc
-        raise
 
 
 def write_bytes_atomic(path, data):
     """Write ``data`` to ``path`` through a temporary file in the same folder and a rename (one open)."""
-    path = Path(path)
-    try:
-        path.parent.mkdir(parents=True, exist_ok=True)
-        handle, temporary = tempfile.mkstemp(prefix=f".{path.stem}.", suffix=f".part{path.suffix}", dir=path.parent)
-    except OSError as exc:
-        raise OSError(exc.errno, exc.strerror, str(path)) from exc
-    try:
+    with _beside(Path(path)) as (handle, _):
         with os.fdopen(handle, "wb") as stream:
             stream.write(data)
-        os.chmod(temporary, 0o666 & ~_UMASK)  # mkstemp makes the file private; give it the usual mode
-        os.replace(temporary, path)
-    except BaseException:
-        if os.path.exists(temporary):
-            os.unlink(temporary)
-        raise
 
-
-def _current_umask():
-    mask = os.umask(0)
-    os.umask(mask)
-    return mask
-
-
-_UMASK = _current_umask()
 
 #: Age after which a temporary file of write_atomic is taken as left over by an interrupted run [s] (a run
 #: still writing it would have touched it since).

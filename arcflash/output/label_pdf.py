@@ -14,6 +14,7 @@ import datetime as dt
 import functools
 import io
 from dataclasses import dataclass
+from pathlib import Path
 
 import numpy as np
 from reportlab.lib.colors import HexColor, black, white
@@ -393,44 +394,32 @@ def _cell(layout):
 
 
 def write_labels_pdf(contents, layout, path, issued_on=None):
-    """Draw every label on pages of ``layout`` (one or several per page) into ``path``.
-
-    The small PDF writer of :mod:`.pdf_lite` draws them; a label whose text WinAnsiEncoding cannot hold
-    (outside cp1252) is drawn with reportlab's canvas instead.
-
-    Returns
-    -------
-    list of list of Placed
-        The strings drawn on each label.
-    """
-    try:
-        return _write_labels(LiteCanvas, contents, layout, path, issued_on)
-    except UnicodeEncodeError:
-        return _write_labels(Canvas, contents, layout, path, issued_on)
+    """Draw every label on pages of ``layout`` (one or several per page) into ``path``
+    (:func:`labels_pdf_bytes`)."""
+    Path(path).write_bytes(labels_pdf_bytes(contents, layout, issued_on))
 
 
 def labels_pdf_bytes(contents, layout, issued_on=None):
-    """The PDF of :func:`write_labels_pdf`, as bytes."""
+    """The PDF of every label on pages of ``layout``, as bytes.
+
+    The small PDF writer of :mod:`.pdf_lite` draws them; labels whose text WinAnsiEncoding cannot hold
+    (outside cp1252) are drawn with reportlab's canvas instead.
+    """
+    pagesize = (layout.page_width, layout.page_height)
     try:
-        canvas = LiteCanvas(None, pagesize=(layout.page_width, layout.page_height))
+        canvas = LiteCanvas(pagesize)
         _draw_labels(canvas, contents, layout, issued_on)
         return canvas.getvalue()
     except UnicodeEncodeError:
         buffer = io.BytesIO()
-        _draw_labels(Canvas(buffer, pagesize=(layout.page_width, layout.page_height)), contents, layout, issued_on)
+        _draw_labels(Canvas(buffer, pagesize=pagesize), contents, layout, issued_on)
         return buffer.getvalue()
-
-
-def _write_labels(canvas_class, contents, layout, path, issued_on):
-    return _draw_labels(canvas_class(str(path), pagesize=(layout.page_width, layout.page_height)), contents,
-                        layout, issued_on)
 
 
 def _draw_labels(canvas, contents, layout, issued_on):
     canvas.setTitle("arcflash equipment labels")
     cell_w, cell_h = _cell(layout)
     per_page = layout.across * layout.down
-    drawn = []
     for number, content in enumerate(contents):
         slot = number % per_page
         if number and slot == 0:
@@ -438,6 +427,5 @@ def _draw_labels(canvas, contents, layout, issued_on):
         col, row = slot % layout.across, slot // layout.across
         x = layout.margin + col * (cell_w + layout.gutter)
         y = layout.page_height - layout.margin - row * (cell_h + layout.gutter)
-        drawn.append(draw_label(canvas, content, x, y, cell_w, cell_h, layout, issued_on))
+        draw_label(canvas, content, x, y, cell_w, cell_h, layout, issued_on)
     canvas.save()
-    return drawn

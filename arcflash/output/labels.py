@@ -444,8 +444,8 @@ def issue_labels(site, governing, out_dir, layout="label-4x6", sheet="sheet-lett
         message names every such label and the field to shorten. Nothing is printed or recorded.
     """
     from . import ledger
-    from .files import remove_leftovers, write_atomic, write_bytes_atomic
-    from .label_pdf import LabelFitError, labels_pdf_bytes, unfit_labels, write_labels_pdf
+    from .files import remove_leftovers, write_bytes_atomic
+    from .label_pdf import LabelFitError, labels_pdf_bytes, unfit_labels
     from .qr import qr_matrices
 
     chosen = list(governing.index) if not buses else list(buses)
@@ -469,7 +469,7 @@ def issue_labels(site, governing, out_dir, layout="label-4x6", sheet="sheet-lett
         target = folder / safe_file_name(content.equipment_id, content.content_hash)
         write_bytes_atomic(target, labels_pdf_bytes([content], single))
     if contents:
-        write_atomic(Path(out_dir) / "labels-sheet.pdf", lambda tmp: write_labels_pdf(contents, combined, tmp))
+        write_bytes_atomic(Path(out_dir) / "labels-sheet.pdf", labels_pdf_bytes(contents, combined))
         by_bus = _rows(governing)
         rows = [study_values(by_bus[c.equipment_id]) for c in contents]
         ledger.record(book, contents, single.name, issued_by, study_rows=rows, snapshot=ledger.site_snapshot(site))

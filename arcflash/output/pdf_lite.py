@@ -16,7 +16,6 @@ from __future__ import annotations
 import datetime as dt
 import re
 import zlib
-from pathlib import Path
 
 from reportlab.pdfbase.pdfmetrics import stringWidth
 
@@ -74,8 +73,7 @@ class Path_:
 class LiteCanvas:
     """The canvas calls of :mod:`arcflash.output.label_pdf`, written as PDF operators."""
 
-    def __init__(self, path, pagesize):
-        self.path = path
+    def __init__(self, pagesize):
         self.width, self.height = pagesize
         self.title = ""
         self.pages = []
@@ -133,12 +131,10 @@ class LiteCanvas:
         self.ops = []
 
     def save(self):
-        """Write the document to the path given (or keep it, when the path is None: :meth:`getvalue`)."""
+        """Finish the document (its bytes: :meth:`getvalue`)."""
         if self.ops or not self.pages:
             self.showPage()
         self.data = self._document()
-        if self.path is not None:
-            Path(self.path).write_bytes(self.data)
 
     def getvalue(self):
         """The document's bytes, after :meth:`save`."""
