@@ -16,7 +16,7 @@ and whether the label now needs a different PPE category.
 from __future__ import annotations
 
 from collections import deque
-from dataclasses import asdict, dataclass, field
+from dataclasses import dataclass, field
 
 import pandas as pd
 
@@ -152,7 +152,7 @@ def label_changes(site, governing, book, since=None):
         bus = content.equipment_id
         if bus not in issued:
             continue
-        old, new = issued[bus], asdict(content)
+        old, new = issued[bus], content.as_dict()
         names = [name for name in new if old["content"].get(name, "") != new[name]]
         if not names:
             continue

@@ -15,10 +15,10 @@ import functools
 import io
 from dataclasses import dataclass
 from pathlib import Path
+from typing import NamedTuple
 
 import numpy as np
 from reportlab.lib.colors import HexColor, black, white
-from reportlab.lib.utils import simpleSplit
 from reportlab.pdfbase.pdfmetrics import stringWidth
 from reportlab.pdfgen.canvas import Canvas
 
@@ -65,9 +65,9 @@ class Placed:
     box: tuple
 
 
-@dataclass(frozen=True)
-class _Piece:
-    """A text to wrap in a column: field name (for errors), text, font, size, column start and width (shares)."""
+class _Piece(NamedTuple):
+    """A text to wrap in a column: field name (for errors), text, font, size, column start and width (shares).
+    A named tuple: pieces are keys of the remembered line breaks, and a tuple hashes quickly."""
 
     field: str
     text: str
@@ -133,7 +133,44 @@ def _lines(piece, scale, width):
     if size < piece.minimum - 1e-9:
         return None
     font = _BOLD if piece.bold else _REGULAR
-    return size, simpleSplit(piece.text, font, size, width * piece.width - (2.0 if piece.column else 0.0))
+    return size, _wrap(piece.text, font, size, width * piece.width - (2.0 if piece.column else 0.0))
+
+
+_WORD_WIDTHS = {}
+
+
+def _word_width(word, font, size):
+    """reportlab's width of ``word`` [pt], remembered (words repeat from label to label)."""
+    key = (word, font, size)
+    width = _WORD_WIDTHS.get(key)
+    if width is None:
+        if len(_WORD_WIDTHS) >= 200_000:
+            _WORD_WIDTHS.clear()
+        width = _WORD_WIDTHS[key] = stringWidth(word, font, size)
+    return width
+
+
+def _wrap(text, font, size, max_width):
+    """The lines of ``text`` broken at spaces to ``max_width`` points: the lines of reportlab's
+    ``simpleSplit`` (the same rule, the same widths, summed word by word in the same order), with each
+    word's width remembered."""
+    if not max_width:
+        return text.split("\n")
+    space = _word_width(" ", font, size)
+    lines = []
+    for paragraph in text.split("\n"):
+        line, used = [], -space
+        for word in paragraph.split():
+            width = _word_width(word, font, size)
+            if used + space + width <= max_width or not line:
+                line.append(word)
+                used = used + space + width
+            else:
+                lines.append(" ".join(line))
+                line, used = [word], width
+        if line:
+            lines.append(" ".join(line))
+    return lines
 
 
 def _block_height(pieces, scale, width):
@@ -185,7 +222,7 @@ def _too_long(content, blocks, width):
     for kind, pieces, _ in blocks:
         for piece in pieces:
             font = _BOLD if piece.bold else _REGULAR
-            lines = len(simpleSplit(piece.text, font, piece.minimum, width * piece.width))
+            lines = len(_wrap(piece.text, font, piece.minimum, width * piece.width))
             if worst is None or lines > worst[0]:
                 worst = (lines, piece.field, kind)
     return worst[1], worst[2]
@@ -206,12 +243,25 @@ def _draw_pieces(canvas, pieces, scale, x, top, width, placed, kind, box, laid=N
                 y -= size * _LEADING
                 px = x + width * piece.column
                 canvas.drawString(px, y + size * (_LEADING - 1.0), line)
-                placed.append(Placed(kind, piece.field, line, font, size, px, y + size * (_LEADING - 1.0), box))
+                if placed is not None:
+                    placed.append(Placed(kind, piece.field, line, font, size, px, y + size * (_LEADING - 1.0), box))
             lowest = min(lowest, y)
         y_row = lowest - _BLOCK_GAP
 
 
 def _signal(canvas, word, x, y, w, h, size):
+    """The signal-word panel with its top-left corner at (x, y), drawn in its own coordinates (so that the
+    small PDF writer can repeat its operators from label to label)."""
+    canvas.saveState()
+    canvas.transform(1, 0, 0, 1, x, y)
+    if hasattr(canvas, "reuse"):
+        canvas.reuse(("signal", word, w, h, size), lambda c: _signal_panel(c, word, w, h, size))
+    else:
+        _signal_panel(canvas, word, w, h, size)
+    canvas.restoreState()
+
+
+def _signal_panel(canvas, word, w, h, size, x=0.0, y=0.0):
     fill, ink = SIGNAL_PANELS[word]
     canvas.setFillColor(fill)
     canvas.rect(x, y - h, w, h, stroke=0, fill=1)
@@ -237,13 +287,14 @@ def _signal(canvas, word, x, y, w, h, size):
 
 @functools.lru_cache(maxsize=4096)
 def qr_modules(payload):
-    """The QR code of ``payload`` (:func:`arcflash.output.qr.qr_matrix`) as runs of dark modules.
+    """The QR code of ``payload`` (:func:`arcflash.output.qr.qr_matrix`) as rectangles of dark modules.
 
     Returns
     -------
     tuple
-        (module count, tuple of (top row, first column, width, height) of dark rectangles covering the dark
-        modules: the runs of each row, a run merged with the identical runs directly below it).
+        (module count, read-only integer array of rows (x, y, width, height) in module units, y up from the
+        symbol's bottom edge: the dark runs of each row, a run merged with the identical runs directly
+        below it).
     """
     matrix = qr_matrix(payload)
     count = matrix.shape[0]
@@ -262,14 +313,16 @@ def qr_modules(payload):
     first = np.flatnonzero(starts)
     rows = np.diff(np.append(first, order.size))
     top, col, width = row[first], col_start[order][first], length[order][first]
-    return count, tuple(zip(top.tolist(), col.tolist(), width.tolist(), rows.tolist()))
+    rectangles = np.column_stack((col, count - top - rows, width, rows))
+    rectangles.setflags(write=False)
+    return count, rectangles
 
 
 @functools.lru_cache(maxsize=4096)
 def _qr_operators(payload):
-    """The dark rectangles of a QR code as PDF operators, in module units with y up from the bottom row."""
-    count, rectangles = qr_modules(payload)
-    return " ".join(f"{c} {count - r - rows} {length} {rows} re" for r, c, length, rows in rectangles)
+    """The dark rectangles of a QR code as PDF operators ('x y w h re ...'), in module units."""
+    _, rectangles = qr_modules(payload)
+    return ("%d %d %d %d re " * len(rectangles) % tuple(rectangles.ravel().tolist())).rstrip()
 
 
 def _qr(canvas, content, x, top, side):
@@ -284,8 +337,8 @@ def _qr(canvas, content, x, top, side):
         canvas.fill_rectangles(_qr_operators(content.qr_payload))
     else:
         path = canvas.beginPath()
-        for r, c, length, rows in rectangles:
-            path.rect(c, count - r - rows, length, rows)
+        for rx, ry, width, height in rectangles.tolist():
+            path.rect(rx, ry, width, height)
         canvas.drawPath(path, stroke=0, fill=1)
     canvas.restoreState()
 
@@ -295,13 +348,17 @@ _PLANS_KEPT = 50_000  # every label of a 10,000-bus facility in two layouts, pla
 
 
 def plan_label(content, w, h, layout, issued_on=None):
-    """:func:`_plan_label`, remembered: a label is planned to check it fits, then planned again to draw it."""
-    key = (content, w, h, repr(layout), issued_on)
-    if key not in _PLANS:
+    """:func:`_plan_label`, remembered: a label is planned to check it fits, then planned again to draw it.
+
+    Remembered by the layout object's identity (the entry holds the layout, so no other object can take its
+    identity while the entry is kept)."""
+    key = (content, w, h, id(layout), issued_on)
+    entry = _PLANS.get(key)
+    if entry is None or entry[0] is not layout:
         if len(_PLANS) >= _PLANS_KEPT:
             _PLANS.clear()
-        _PLANS[key] = _plan_label(content, w, h, layout, issued_on)
-    return _PLANS[key]
+        entry = _PLANS[key] = (layout, _plan_label(content, w, h, layout, issued_on))
+    return entry[1]
 
 
 def _plan_label(content, w, h, layout, issued_on=None):
@@ -329,13 +386,13 @@ def _plan_label(content, w, h, layout, issued_on=None):
     return fixed, texts, scale, heights, available, key_min, laid
 
 
-def draw_label(canvas, content, x, y, w, h, layout, issued_on=None):
+def draw_label(canvas, content, x, y, w, h, layout, issued_on=None, record=True):
     """Draw one label with its top-left corner at (x, y), size w × h points.
 
     Returns
     -------
     list of Placed
-        Every string drawn, with its block's box.
+        Every string drawn, with its block's box (empty when ``record`` is false: printing needs no record).
 
     Raises
     ------
@@ -352,7 +409,7 @@ def draw_label(canvas, content, x, y, w, h, layout, issued_on=None):
         canvas.setDash(4, 3)  # a flagged label does not look like a normal one
     canvas.rect(x, y - h, w, h, stroke=1, fill=0)
     canvas.setDash()
-    placed, top, heights, text_blocks = [], y, iter(heights), iter(texts)
+    placed, top, heights, text_blocks = [] if record else None, y, iter(heights), iter(texts)
     for block in layout.blocks:
         kind = block["kind"]
         if kind == "signal":
@@ -372,7 +429,7 @@ def draw_label(canvas, content, x, y, w, h, layout, issued_on=None):
         box = (x + _PAD, top - height, x + w - _PAD, top)
         _draw_pieces(canvas, pieces, scale, x + _PAD, top - 1, inner_w, placed, kind, box, laid)
         top -= height
-    return placed
+    return placed if record else []
 
 
 def unfit_labels(contents, layout):
@@ -400,32 +457,57 @@ def write_labels_pdf(contents, layout, path, issued_on=None):
 
 
 def labels_pdf_bytes(contents, layout, issued_on=None):
-    """The PDF of every label on pages of ``layout``, as bytes.
+    """The PDF of every label on pages of ``layout``, as bytes (:class:`LabelPages`)."""
+    pages = LabelPages(layout, issued_on)
+    for content in contents:
+        pages.add(content)
+    return pages.finish()
 
-    The small PDF writer of :mod:`.pdf_lite` draws them; labels whose text WinAnsiEncoding cannot hold
-    (outside cp1252) are drawn with reportlab's canvas instead.
+
+class LabelPages:
+    """A PDF of labels on pages of a layout (one or several per page), built one label at a time, so that a
+    batch can draw each label's single PDF and its place on the combined sheet together.
+
+    The small PDF writer of :mod:`.pdf_lite` draws them; when a label's text is outside what
+    WinAnsiEncoding holds (cp1252), the document is drawn again with reportlab's canvas.
     """
-    pagesize = (layout.page_width, layout.page_height)
-    try:
-        canvas = LiteCanvas(pagesize)
-        _draw_labels(canvas, contents, layout, issued_on)
-        return canvas.getvalue()
-    except UnicodeEncodeError:
-        buffer = io.BytesIO()
-        _draw_labels(Canvas(buffer, pagesize=pagesize), contents, layout, issued_on)
-        return buffer.getvalue()
 
+    def __init__(self, layout, issued_on=None):
+        self.layout, self.issued_on = layout, issued_on
+        self.pagesize = (layout.page_width, layout.page_height)
+        self.cell = _cell(layout)
+        self.contents = []
+        self.buffer = None  # reportlab's output, once the small writer has given up
+        self.canvas = self._new_canvas(LiteCanvas(self.pagesize))
 
-def _draw_labels(canvas, contents, layout, issued_on):
-    canvas.setTitle("arcflash equipment labels")
-    cell_w, cell_h = _cell(layout)
-    per_page = layout.across * layout.down
-    for number, content in enumerate(contents):
+    def _new_canvas(self, canvas):
+        canvas.setTitle("arcflash equipment labels")
+        return canvas
+
+    def add(self, content):
+        """Draw one more label (a new page when the last is full)."""
+        try:
+            self._draw(content, len(self.contents))
+        except UnicodeEncodeError:
+            self.buffer = io.BytesIO()
+            self.canvas = self._new_canvas(Canvas(self.buffer, pagesize=self.pagesize))
+            for number, earlier in enumerate(self.contents):
+                self._draw(earlier, number)
+            self._draw(content, len(self.contents))
+        self.contents.append(content)
+
+    def _draw(self, content, number):
+        layout, (cell_w, cell_h) = self.layout, self.cell
+        per_page = layout.across * layout.down
         slot = number % per_page
         if number and slot == 0:
-            canvas.showPage()
+            self.canvas.showPage()
         col, row = slot % layout.across, slot // layout.across
         x = layout.margin + col * (cell_w + layout.gutter)
         y = layout.page_height - layout.margin - row * (cell_h + layout.gutter)
-        draw_label(canvas, content, x, y, cell_w, cell_h, layout, issued_on)
-    canvas.save()
+        draw_label(self.canvas, content, x, y, cell_w, cell_h, layout, self.issued_on, record=False)
+
+    def finish(self):
+        """The document's bytes."""
+        self.canvas.save()
+        return self.buffer.getvalue() if self.buffer is not None else self.canvas.getvalue()

@@ -13,7 +13,7 @@ import functools
 import hashlib
 import json
 import re
-from dataclasses import asdict, dataclass
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
@@ -76,10 +76,14 @@ class LabelContent:
     flags: str
     study_note: str = ""
 
+    def as_dict(self):
+        """The fields as a dict {name: text} (every field is text, so no copying is needed)."""
+        return {name: getattr(self, name) for name in self.__dataclass_fields__}
+
     @functools.cached_property
     def content_hash(self):
         """First 16 hex digits of the SHA-256 of the content (stable across runs)."""
-        text = json.dumps(asdict(self), sort_keys=True, ensure_ascii=False)
+        text = json.dumps(self.as_dict(), sort_keys=True, ensure_ascii=False)
         return hashlib.sha256(text.encode("utf-8")).hexdigest()[:16]
 
     @property
@@ -445,7 +449,7 @@ def issue_labels(site, governing, out_dir, layout="label-4x6", sheet="sheet-lett
     """
     from . import ledger
     from .files import remove_leftovers, write_bytes_atomic
-    from .label_pdf import LabelFitError, labels_pdf_bytes, unfit_labels
+    from .label_pdf import LabelFitError, LabelPages, labels_pdf_bytes, unfit_labels
     from .qr import qr_matrices
 
     chosen = list(governing.index) if not buses else list(buses)
@@ -465,11 +469,13 @@ def issue_labels(site, governing, out_dir, layout="label-4x6", sheet="sheet-lett
     folder = Path(out_dir) / "labels"
     remove_leftovers(folder)
     remove_leftovers(Path(out_dir))
-    for content in contents:
+    sheet = LabelPages(combined)
+    for content in contents:  # each label drawn alone and on the sheet while its layout is at hand
         target = folder / safe_file_name(content.equipment_id, content.content_hash)
         write_bytes_atomic(target, labels_pdf_bytes([content], single))
+        sheet.add(content)
     if contents:
-        write_bytes_atomic(Path(out_dir) / "labels-sheet.pdf", labels_pdf_bytes(contents, combined))
+        write_bytes_atomic(Path(out_dir) / "labels-sheet.pdf", sheet.finish())
         by_bus = _rows(governing)
         rows = [study_values(by_bus[c.equipment_id]) for c in contents]
         ledger.record(book, contents, single.name, issued_by, study_rows=rows, snapshot=ledger.site_snapshot(site))

@@ -11,7 +11,6 @@ import datetime as dt
 import json
 import sqlite3
 import zlib
-from dataclasses import asdict
 from pathlib import Path
 
 LEDGER_NAME = "label-ledger.sqlite"
@@ -99,7 +98,7 @@ def record(path, contents, layout, issued_by=None, when=None, study_rows=None, s
                 issued_id = connection.execute(
                     "INSERT INTO issued (equipment_id, study_revision, content_hash, content, issued_at, layout, "
                     "issued_by) VALUES (?, ?, ?, ?, ?, ?, ?)",
-                    (c.equipment_id, c.study_revision, c.content_hash, json.dumps(asdict(c), ensure_ascii=False),
+                    (c.equipment_id, c.study_revision, c.content_hash, json.dumps(c.as_dict(), ensure_ascii=False),
                      stamp, layout, issued_by)).lastrowid
                 if snapshot_id is not None and study_rows is not None:
                     connection.execute("INSERT INTO issued_context (issued_id, snapshot_id, study_row) "

@@ -14,7 +14,6 @@ with reportlab's canvas instead.
 from __future__ import annotations
 
 import datetime as dt
-import re
 import zlib
 
 from reportlab.pdfbase.pdfmetrics import stringWidth
@@ -23,19 +22,26 @@ _FONTS = {"Helvetica": "F1", "Helvetica-Bold": "F2"}
 
 
 def _number(value):
-    """A PDF number: an integer as it is, a real to three decimals (no exponent below 1e16)."""
-    if isinstance(value, int):
-        return str(value)
-    return repr(round(float(value), 3))
+    """A PDF number: to three decimals, trailing zeros dropped (never an exponent)."""
+    text = ("%.3f" % value).rstrip("0").rstrip(".")
+    return "0" if text == "-0" else text
 
 
-_PRINTABLE = re.compile(rb"[ -~]*")
+#: zlib level of the content streams: level 3 takes about half the time of the default 6 for about 8 % more
+#: bytes on a label (measured on the demo's labels).
+_DEFLATE_LEVEL = 3
 
+#: Drawings repeated from label to label (:meth:`LiteCanvas.reuse`), as operators and the font they leave set.
+_REUSED = {}
+_REUSED_KEPT = 256
 
 def _string(text):
+    if text.isascii() and text.isprintable():  # the usual case: printable ASCII, only \ ( ) to escape
+        raw = text.encode("ascii")
+        if b"\\" in raw or b"(" in raw or b")" in raw:
+            raw = raw.replace(b"\\", b"\\\\").replace(b"(", b"\\(").replace(b")", b"\\)")
+        return b"(" + raw + b")"
     raw = text.encode("cp1252")
-    if _PRINTABLE.fullmatch(raw):  # the usual case: printable ASCII, only \ ( ) to escape
-        return b"(" + raw.replace(b"\\", b"\\\\").replace(b"(", b"\\(").replace(b")", b"\\)") + b")"
     out = bytearray(b"(")
     for byte in raw:
         if byte in b"()\\":
@@ -97,8 +103,7 @@ class LiteCanvas:
 
     def drawString(self, x, y, text):  # noqa: N802
         font, size = self.font
-        self.ops.append(f"BT /{font} {_number(size)} Tf {_number(x)} {_number(y)} Td ".encode("ascii")
-                        + _string(text) + b" Tj ET")
+        self.ops.append(b"BT /%s %.3f Tf %.3f %.3f Td %s Tj ET" % (font.encode("ascii"), size, x, y, _string(text)))
 
     def drawCentredString(self, x, y, text):  # noqa: N802
         name = next(k for k, v in _FONTS.items() if v == self.font[0])
@@ -119,6 +124,20 @@ class LiteCanvas:
     def fill_rectangles(self, operators):
         """Fill rectangles given as ready PDF operators ('x y w h re ...'), in the current coordinates."""
         self.ops.append(operators + " f")
+
+    def reuse(self, key, draw):
+        """Emit what ``draw(self)`` emits, remembered under ``key`` (a hashable description of everything the
+        drawing depends on): a drawing repeated on many labels is formatted once."""
+        entry = _REUSED.get(key)
+        if entry is None:
+            start = len(self.ops)
+            draw(self)
+            if len(_REUSED) >= _REUSED_KEPT:
+                _REUSED.clear()
+            entry = _REUSED[key] = (self.ops[start:], self.font)
+        else:
+            self.ops.extend(entry[0])
+        self.font = entry[1]
 
     def beginPath(self):  # noqa: N802
         return Path_()
@@ -154,7 +173,8 @@ class LiteCanvas:
         tree = add("")
         kids = []
         for ops in self.pages:
-            content = zlib.compress(b"\n".join(op if isinstance(op, bytes) else op.encode("ascii") for op in ops))
+            content = zlib.compress(b"\n".join(op if isinstance(op, bytes) else op.encode("ascii") for op in ops),
+                                    _DEFLATE_LEVEL)
             stream = add(f"<< /Length {len(content)} /Filter /FlateDecode >>\nstream\n".encode("ascii")
                          + content + b"\nendstream")
             kids.append(add(f"<< /Type /Page /Parent {tree} 0 R /MediaBox [0 0 {_number(self.width)} "

@@ -13,6 +13,8 @@ import unicodedata
 
 import pytest
 from click.testing import CliRunner
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from reportlab.pdfbase.pdfmetrics import stringWidth
 from reportlab.pdfgen.canvas import Canvas
 
@@ -180,3 +182,14 @@ def test_label_text_reads_back_whatever_its_characters(demo_labels, text):
     extracted = " ".join(PdfReader(io.BytesIO(data)).pages[0].extract_text().split())
     # NFKC: a reader may give the ohm sign U+2126 for the font's Omega glyph
     assert unicodedata.normalize("NFKC", text) in unicodedata.normalize("NFKC", extracted)
+
+
+@settings(max_examples=200, deadline=None)
+@given(text=st.text(alphabet=st.sampled_from(list("abcdefgh WXYZ12/().,-\n\u00e9")), max_size=120),
+       font=st.sampled_from(["Helvetica", "Helvetica-Bold"]), size=st.floats(6.0, 20.0),
+       width=st.floats(0.0, 300.0))
+def test_label_wrapping_breaks_lines_as_reportlab_does(text, font, size, width):
+    # the wrapping with remembered word widths gives reportlab's own simpleSplit lines, exactly
+    from reportlab.lib.utils import simpleSplit
+
+    assert label_pdf._wrap(text, font, size, width) == simpleSplit(text, font, size, width)
