@@ -11,6 +11,7 @@ import click
 
 from .cli_options import NON_NEGATIVE, POSITIVE, QUICK_FIELDS, SIGNED, in_option_words, quick_problem_words
 from .cli_options import refuse_alone, refuse_conflicts
+from .cli_selfcheck import selfcheck
 from .errors import SiteDataError
 from .models.errors import ModelRangeError
 from .output.cautions import CAUTION
@@ -84,9 +85,18 @@ def equipment(voltage_kv, bolted_ka, clearing_time_s, reduced_clearing_time_s, e
     except (ValueError, ModelRangeError) as exc:
         raise click.UsageError(in_option_words(str(exc), click.get_current_context())) from None
     if as_json:
-        click.echo(json.dumps(record, indent=2))
+        click.echo(json.dumps({**record, "model_verification": _status_words()}, indent=2))
     else:
         click.echo(equipment_report(record))
+        click.echo(_status_words())
+
+
+def _status_words(site_dir=None):
+    """The model's verification status in words (:mod:`arcflash.verification`): printed after the limits of
+    use by every command that sets PPE."""
+    from .verification import status
+
+    return status(site_dir).words
 
 
 def _load(site_dir):
@@ -196,6 +206,7 @@ def study(site_dir, out_dir, tcc_buses, no_report, quiet):
              + ["study.json (what labels and briefings check their data against)"])
     click.echo(f"Results in {out_dir}: " + ", ".join(files))
     click.echo(CAUTION)
+    click.echo(_status_words(site.path))
 
 
 @main.group("labels")
@@ -239,6 +250,7 @@ def labels_print(site_dir, out_dir, buses, changed_only, layout, sheet, issued_b
     for content in printed:
         click.echo(f"  {content.equipment_id}  {content.signal_word}  {content.energy_or_category}")
     click.echo(CAUTION)
+    click.echo(_status_words(site.path))
 
 
 def _earlier_study(study_dir, site, stale_reason, briefing=False):
@@ -286,6 +298,7 @@ def labels_diff(site_dir, since, csv_path, pdf_path):
         write_atomic(pdf_path, lambda tmp: write_changes_pdf(changes, tmp, site))
     click.echo(changes_text(changes))
     click.echo(CAUTION)
+    click.echo(_status_words(site.path))
 
 
 @labels.command("status")
@@ -408,10 +421,12 @@ def quick(kva, primary_kv, secondary_kv, z_percent, applied_v, measured_a, x_ove
     if as_json:
         row = {k: (None if isinstance(v, float) and v != v else (v.item() if hasattr(v, "item") else v))
                for k, v in result["row"].items()}
-        click.echo(json.dumps({"result": row, "assumptions": result["notes"], "caution": CAUTION}, indent=2,
+        click.echo(json.dumps({"result": row, "assumptions": result["notes"], "caution": CAUTION,
+                               "model_verification": _status_words()}, indent=2,
                               default=str))
     else:
         click.echo(quick_report(result["row"], result["notes"]))
+        click.echo(_status_words())
 
 
 @main.command("briefing")
@@ -436,6 +451,7 @@ def briefing(site_dir, bus, out, study_dir, stale_reason):
     _record_stale_use(governing, site, "briefing", study_dir, stale_reason, [bus])
     click.echo(f"Job briefing sheet of {bus} written to {out}")
     click.echo(CAUTION)
+    click.echo(_status_words(site.path))
 
 
 @main.command("site-schema")
@@ -447,6 +463,9 @@ def site_schema(out):
         write_atomic(out, lambda tmp: open(tmp, "w", encoding="utf-8").write(text))
     else:
         click.echo(text, nl=False)
+
+
+main.add_command(selfcheck)
 
 
 if __name__ == "__main__":  # pragma: no cover

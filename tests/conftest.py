@@ -2,10 +2,16 @@
 
 from __future__ import annotations
 
+import os
+import tempfile
 from pathlib import Path
 
 import pandas as pd
 from hypothesis import settings
+
+# The user-level model-verification record (arcflash.verification) lives under XDG_CONFIG_HOME: the tests
+# use an empty folder of their own, so that a record on the machine running them changes no result.
+os.environ["XDG_CONFIG_HOME"] = tempfile.mkdtemp(prefix="arcflash-test-config-")
 
 # No per-example deadline: on a loaded machine (CI, mutation runs) a slow example is not a failure.
 # Loaded here, before any test module is imported, so that every @given test sees it.

@@ -29,7 +29,7 @@ def test_readable_table_with_caution():
     assert "cal/cm2" in out and "J/cm2" in out
     assert " ft " in out and " mm)" in out  # boundary in ft-in and mm
     assert "Governing case" in out
-    assert "CAUTION" in out and "qualified persons" in out
+    assert "LIMITS OF USE" in out and "qualified persons" in out
     assert "Flags: none" in out
 
 

@@ -116,8 +116,9 @@ def _pieces(kind, content, block, key_min, issued_on):
                                  MIN_TEXT_PT, row=2))
         return pieces
     if kind == "study":
+        status = f"{content.model_status}. " if content.model_status else ""
         text = (f"Study rev {content.study_revision} of {content.study_date or 'undated'}; label issued "
-                f"{_issued_text(issued_on)}; review by {content.review_by}. Results for qualified persons; local "
+                f"{_issued_text(issued_on)}; review by {content.review_by}. {status}For qualified persons; local "
                 "codes and licensed engineering practice govern.")
         return [_Piece("study", text, False, size, MIN_TEXT_PT)]
     if kind == "qr":

@@ -75,6 +75,7 @@ class LabelContent:
     review_by: str
     flags: str
     study_note: str = ""
+    model_status: str = ""  # the model's verification status in a few words (arcflash.verification)
 
     def as_dict(self):
         """The fields as a dict {name: text} (every field is text, so no copying is needed)."""
@@ -186,7 +187,16 @@ def study_values(row):
 def labels_of(site, governing, buses=None):
     """The label content of ``buses`` (all by default) of a governing table."""
     rows = _rows(governing)
-    return [label_content(site, bus, rows[bus]) for bus in (governing.index if buses is None else buses)]
+    model_status = _model_status(site)
+    return [label_content(site, bus, rows[bus], model_status=model_status)
+            for bus in (governing.index if buses is None else buses)]
+
+
+def _model_status(site):
+    """The few words of the model's verification status that a label of ``site`` carries."""
+    from ..verification import status
+
+    return status(getattr(site, "path", None)).short
 
 
 def _rows(governing):
@@ -194,7 +204,7 @@ def _rows(governing):
     return dict(zip(governing.index, governing.to_dict("records")))
 
 
-def label_content(site, bus, row, shows=None):
+def label_content(site, bus, row, shows=None, model_status=None):
     """The label of one bus from its governing study row.
 
     Parameters
@@ -207,6 +217,9 @@ def label_content(site, bus, row, shows=None):
     shows : str, optional
         'energy' (incident energy and working distance) or 'category' (PPE
         category): never both on one label. Default: ``facility.label_shows``.
+    model_status : str, optional
+        The model's verification status in a few words; default: looked up for the site
+        (:func:`arcflash.verification.status`).
     """
     shows = shows or site.facility.label_shows
     if shows not in ("energy", "category"):
@@ -252,6 +265,7 @@ def label_content(site, bus, row, shows=None):
         review_by=_review_by(f.study_date),
         flags=_text_or(row["flags"], ""),
         study_note=_study_notes(row),
+        model_status=_model_status(site) if model_status is None else model_status,
     )
 
 

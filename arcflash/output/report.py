@@ -16,6 +16,7 @@ from reportlab.lib import colors
 from reportlab.lib.pagesizes import letter
 from reportlab.lib.styles import getSampleStyleSheet
 from reportlab.lib.units import inch
+from reportlab.pdfgen.canvas import Canvas
 from reportlab.platypus import Image, PageBreak, Paragraph, SimpleDocTemplate, Spacer, Table, TableStyle
 
 from ..models.units import mm_to_feet_inches
@@ -26,7 +27,8 @@ from .text import energy_text
 _STYLES = getSampleStyleSheet()
 _SMALL = _STYLES["BodyText"].clone("small", fontSize=7, leading=8.5)
 _BODY = _STYLES["BodyText"].clone("body", fontSize=9, leading=11.5)
-_FOOTER = "Results for qualified persons only; de-energizing is the preferred state; local codes and licensed engineering practice govern."
+_STATUS = _STYLES["BodyText"].clone("status", fontSize=11, leading=14, fontName="Helvetica-Bold")
+_FOOTER = "Limits of use: results for qualified persons only; de-energizing is the preferred state; local codes and licensed engineering practice govern."
 
 
 def _p(text, style=_SMALL):
@@ -185,7 +187,7 @@ def _method(site):
     return [Paragraph("Method and assumptions", _STYLES["Heading2"])] + [Paragraph(escape(i), _BODY) for i in items]
 
 
-def write_report(site, results, path, tcc_buses=None):
+def write_report(site, results, path, tcc_buses=None, model=None):
     """Write the study report PDF to ``path``.
 
     Parameters
@@ -195,12 +197,18 @@ def write_report(site, results, path, tcc_buses=None):
     path : str or pathlib.Path
     tcc_buses : list of str, optional
         Buses with a TCC page (default: the three with the highest energy; [] for none).
+    model : arcflash.verification.VerificationStatus, optional
+        The model's verification status (default: looked up for the site). It stands on the cover and in
+        every page's footer; a draft is watermarked on every page.
     """
+    from ..verification import status
+
     from .oneline import oneline_figure
     from .tcc import tcc_figure
 
     f = site.facility
     governing = results.governing
+    model = status(getattr(site, "path", None)) if model is None else model
     story = [Spacer(1, 1.2 * inch), Paragraph("Arc-flash hazard study", _STYLES["Title"]),
              Paragraph(escape(f.name), _STYLES["Heading2"]), Paragraph(escape(f.description), _BODY),
              Spacer(1, 12),
@@ -210,7 +218,12 @@ def write_report(site, results, path, tcc_buses=None):
              _table(["", "name", "signature", "date"],
                     [["Prepared by", "", "", ""], ["Checked by", "", "", ""], ["Approved by", "", "", ""]],
                     widths=[1.2 * inch, 2.2 * inch, 2.2 * inch, 1.2 * inch]),
-             Spacer(1, 24), Paragraph(escape(CAUTION), _BODY), PageBreak()]
+             Spacer(1, 18), Paragraph("Verification of the model", _STYLES["Heading3"]),
+             Paragraph(escape(model.words + "."), _STATUS),
+             Paragraph(escape("How to check: 'arcflash selfcheck' lists every intermediate value of the standard's "
+                              "worked examples and the coefficient rows used; 'arcflash selfcheck record' stores "
+                              "the outcome beside the site data."), _BODY),
+             Spacer(1, 18), Paragraph(escape(CAUTION), _BODY), PageBreak()]
     story += _method(site) + [PageBreak()] + _inputs(site) + [PageBreak()]
     story += [Paragraph("Results, governing case per bus, highest energy first", _STYLES["Heading2"]),
               _table(["bus", "kV", "scenario / case", "device", "t (s)", "E (cal/cm2)", "arc-flash boundary",
@@ -247,11 +260,46 @@ def write_report(site, results, path, tcc_buses=None):
 
     def footer(canvas, doc):
         canvas.saveState()
+        if model.draft:
+            _watermark(canvas)
         canvas.setFont("Helvetica", 6.5)
-        canvas.drawString(0.6 * inch, 0.4 * inch, _FOOTER)
-        canvas.drawRightString(letter[0] - 0.6 * inch, 0.25 * inch, f"{f.name} - rev {f.study_revision} - page {doc.page}")
+        canvas.drawString(0.6 * inch, 0.52 * inch, _FOOTER)
+        canvas.drawString(0.6 * inch, 0.40 * inch, model.words)
+        canvas.drawString(0.6 * inch, 0.28 * inch, f"{f.name} - study rev {f.study_revision}")
         canvas.restoreState()
 
     SimpleDocTemplate(str(path), pagesize=letter, leftMargin=0.6 * inch, rightMargin=0.6 * inch,
-                      topMargin=0.6 * inch, bottomMargin=0.7 * inch, title=f"Arc-flash study - {f.name}",
-                      ).build(flatten(story), onFirstPage=footer, onLaterPages=footer)
+                      topMargin=0.6 * inch, bottomMargin=0.8 * inch, title=f"Arc-flash study - {f.name}",
+                      ).build(flatten(story), onFirstPage=footer, onLaterPages=footer, canvasmaker=_PageCountCanvas)
+
+
+def _watermark(canvas):
+    """A light diagonal DRAFT across the page (the results are a draft while the model is not verified)."""
+    canvas.saveState()
+    canvas.setFillColor(colors.Color(0.55, 0.55, 0.55, alpha=0.18))
+    canvas.setFont("Helvetica-Bold", 96)
+    canvas.translate(letter[0] / 2, letter[1] / 2)
+    canvas.rotate(40)
+    canvas.drawCentredString(0, -30, "DRAFT")
+    canvas.restoreState()
+
+
+class _PageCountCanvas(Canvas):
+    """A canvas that holds its pages until the end, so that each can say 'page x of y'."""
+
+    def __init__(self, *args, **kwargs):
+        super().__init__(*args, **kwargs)
+        self._held = []
+
+    def showPage(self):  # noqa: N802 - reportlab's name
+        self._held.append(dict(self.__dict__))
+        self._startPage()
+
+    def save(self):
+        total = len(self._held)
+        for number, state in enumerate(self._held, start=1):
+            self.__dict__.update(state)
+            self.setFont("Helvetica", 6.5)
+            self.drawRightString(letter[0] - 0.6 * inch, 0.28 * inch, f"page {number} of {total}")
+            super().showPage()
+        super().save()

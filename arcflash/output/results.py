@@ -63,9 +63,12 @@ def write_results(site, results, out_dir, report=True, tcc_buses=None):
     dict
         Name -> path of each file written.
     """
+    from ..verification import status
+
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
     governing = governing_table(results)
+    model = status(getattr(site, "path", None))
     paths = {"results.csv": out / "results.csv", "governing.csv": out / "governing.csv",
              "steps.csv": out / "steps.csv", "results.xlsx": out / "results.xlsx"}
     write_atomic(paths["results.csv"], lambda tmp: results.rows.to_csv(tmp, index=False, float_format="%.10g"))
@@ -74,16 +77,18 @@ def write_results(site, results, out_dir, report=True, tcc_buses=None):
     write_atomic(paths["steps.csv"], lambda tmp: steps.to_csv(tmp, index=False, float_format="%.10g"))
 
     sheets = [("governing", governing.reset_index()), ("all rows", results.rows), ("openings", steps),
-              ("caution", pd.DataFrame({"caution": [CAUTION]}))]
+              ("caution", pd.DataFrame({"caution": [CAUTION, model.words]}))]
     write_atomic(paths["results.xlsx"], lambda tmp: _write_xlsx(tmp, sheets))
     if report:
         from .report import write_report
 
         paths["report.pdf"] = out / "report.pdf"
-        write_atomic(paths["report.pdf"], lambda tmp: write_report(site, results, tmp, tcc_buses=tcc_buses))
+        write_atomic(paths["report.pdf"], lambda tmp: write_report(site, results, tmp, tcc_buses=tcc_buses,
+                                                                         model=model))
     paths[STUDY_RECORD] = out / STUDY_RECORD  # last: it vouches for the governing.csv written above
     record = {"tool": "arcflash", "site": site.facility.name, "study_revision": site.facility.study_revision,
               "written_at": dt.datetime.now(dt.timezone.utc).isoformat(timespec="seconds"),
+              "model_verification": {"verified": model.verified, "words": model.words},
               "site_data": site_fingerprint(site),
               "governing_sha256": hashlib.sha256(paths["governing.csv"].read_bytes()).hexdigest()}
     write_atomic(paths[STUDY_RECORD], lambda tmp: Path(tmp).write_text(json.dumps(record, indent=2), encoding="utf-8"))

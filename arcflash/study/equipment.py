@@ -11,7 +11,7 @@ import math
 from ..models import ieee1584
 from ..models.ieee1584_tables import ENCLOSED_CONFIGURATIONS, EQUIPMENT_CLASSES
 from ..models.units import j_cm2_to_cal_cm2
-from ..output.cautions import CAUTION
+from ..cautions import CAUTION
 from ..site.slips import check_unit_slips
 
 METHOD = "IEEE 1584-2018"

@@ -66,7 +66,9 @@ def _expected(**changes):
                 site_ppe="", limited_approach=LIMITED_480, restricted_approach="1 ft 0 in (0.3 m)",
                 governing_device="CB-1 opens to end the arc", study_revision="R3", study_date="2026-06-01",
                 # NFPA 70E 130.5: the data are reviewed at intervals not over 5 years.
-                review_by="2031-06-01", flags="")
+                review_by="2031-06-01", flags="",
+                # no verification recorded (the tests' own empty configuration folder): a draft
+                model_status="DRAFT: model tables not verified")
     base.update(changes)
     return LabelContent(**base)
 

@@ -93,7 +93,7 @@ def test_labels_commands(site_copy, tmp_path):
     runner = CliRunner()
     result = runner.invoke(main, ["labels", "print", str(site_copy), "--out", str(tmp_path / "o"), "--bus", "SWG-A"])
     assert result.exit_code == 0, result.output
-    assert "1 labels printed" in result.output and "CAUTION" in result.output
+    assert "1 labels printed" in result.output and "LIMITS OF USE" in result.output
     assert (tmp_path / "o" / "labels-sheet.pdf").exists()
     status = runner.invoke(main, ["labels", "status", str(site_copy)])
     assert status.exit_code == 0 and "1 current" in status.output and "never issued" in status.output

@@ -71,7 +71,7 @@ BASE = ["quick", "--kva", "500", "--primary-kv", "4.16", "--secondary-kv", "0.48
 def test_quick_command_text_and_json():
     result = run(BASE)
     assert result.exit_code == 0, result.output
-    assert "incident energy" in result.output and "CAUTION" in result.output and "infinite" in result.output
+    assert "incident energy" in result.output and "LIMITS OF USE" in result.output and "infinite" in result.output
     record = json.loads(run(BASE + ["--json"]).output)
     assert record["result"]["bolted_ka"] > 0 and record["assumptions"]
 

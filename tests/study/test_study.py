@@ -137,7 +137,7 @@ def test_change_one_device_changes_only_its_buses(tmp_path):
 def test_study_command(tmp_path):
     result = CliRunner().invoke(main, ["study", str(DEMO), "--out", str(tmp_path), "--quiet", "--no-report"])
     assert result.exit_code == 0, result.output
-    assert "Highest incident energy" in result.output and "CAUTION" in result.output
+    assert "Highest incident energy" in result.output and "LIMITS OF USE" in result.output
     assert (tmp_path / "results.xlsx").exists() and not (tmp_path / "report.pdf").exists()
 
 
