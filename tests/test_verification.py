@@ -186,6 +186,10 @@ def test_every_ppe_output_carries_the_status(tmp_path):
     assert printed.exit_code == 0, printed.output
     label = next((tmp_path / "labels" / "labels").glob("SWG-A-*.pdf"))
     assert "DRAFT: model tables not verified" in " ".join(PdfReader(label).pages[0].extract_text().split())
+    sheet = runner.invoke(main, ["briefing", str(site), "SWG-A", "--out", str(tmp_path / "brief.pdf")])
+    assert sheet.exit_code == 0 and "not yet verified" in sheet.output
+    brief = " ".join(" ".join(p.extract_text().split()) for p in PdfReader(tmp_path / "brief.pdf").pages)
+    assert "LIMITS OF USE" in brief and "Model tables not yet verified against the printed standard" in brief
     verification.record(verification.site_record_path(site), "C. Checker", ALL_PASS, "2026-12-01")
     runner.invoke(main, ["study", str(site), "--out", str(tmp_path / "signed"), "--quiet"])
     record = json.loads((tmp_path / "signed" / "study.json").read_text(encoding="utf-8"))

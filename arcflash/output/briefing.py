@@ -10,7 +10,8 @@ from reportlab.lib.styles import getSampleStyleSheet
 from reportlab.lib.units import inch
 from reportlab.platypus import Paragraph, SimpleDocTemplate, Spacer
 
-from .cautions import CAUTION
+from ..verification import status
+from .cautions import limits_with_status
 from .text import energy_text
 from .report import _figure, _ft_in, _ppe, _settings, _table, flatten
 
@@ -100,6 +101,7 @@ def write_briefing(site, bus, row, path):
     story += [Paragraph("Energized electrical work permit - items to fill in by hand", _STYLES["Heading3"]),
               _table(["item", "entry"], [[item, ""] for item in PERMIT_ITEMS],
                      widths=[3.0 * inch, 4.2 * inch]),
-              Spacer(1, 6), Paragraph(escape(CAUTION), _BODY)]
+              Spacer(1, 6), Paragraph(escape(limits_with_status(status(getattr(site, "path", None)).words)),
+                                      _BODY)]
     SimpleDocTemplate(str(path), pagesize=letter, leftMargin=0.6 * inch, rightMargin=0.6 * inch,
                       topMargin=0.5 * inch, bottomMargin=0.5 * inch, title=f"Job briefing - {bus}").build(flatten(story))
