@@ -100,7 +100,7 @@ def write_briefing(site, bus, row, path):
         story += [Paragraph(escape(f"Study flags: {row['flags']}"), _BODY)]
     story += [Paragraph("Energized electrical work permit - items to fill in by hand", _STYLES["Heading3"]),
               _table(["item", "entry"], [[item, ""] for item in PERMIT_ITEMS],
-                     widths=[3.0 * inch, 4.2 * inch]),
+                     widths=[3.0, 4.2]),
               Spacer(1, 6), Paragraph(escape(limits_with_status(status(getattr(site, "path", None)).words)),
                                       _BODY)]
     SimpleDocTemplate(str(path), pagesize=letter, leftMargin=0.6 * inch, rightMargin=0.6 * inch,

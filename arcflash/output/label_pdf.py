@@ -24,6 +24,7 @@ from reportlab.pdfgen.canvas import Canvas
 
 from .pdf_lite import LiteCanvas
 from .qr import qr_matrix
+from .text_wrap import wrap as _wrap
 
 #: ANSI Z535.4 signal-word panels: DANGER white on safety red, WARNING black on safety orange
 #: (sRGB approximations of the Z535.1 safety colours, common practice).
@@ -135,43 +136,6 @@ def _lines(piece, scale, width):
         return None
     font = _BOLD if piece.bold else _REGULAR
     return size, _wrap(piece.text, font, size, width * piece.width - (2.0 if piece.column else 0.0))
-
-
-_WORD_WIDTHS = {}
-
-
-def _word_width(word, font, size):
-    """reportlab's width of ``word`` [pt], remembered (words repeat from label to label)."""
-    key = (word, font, size)
-    width = _WORD_WIDTHS.get(key)
-    if width is None:
-        if len(_WORD_WIDTHS) >= 200_000:
-            _WORD_WIDTHS.clear()
-        width = _WORD_WIDTHS[key] = stringWidth(word, font, size)
-    return width
-
-
-def _wrap(text, font, size, max_width):
-    """The lines of ``text`` broken at spaces to ``max_width`` points: the lines of reportlab's
-    ``simpleSplit`` (the same rule, the same widths, summed word by word in the same order), with each
-    word's width remembered."""
-    if not max_width:
-        return text.split("\n")
-    space = _word_width(" ", font, size)
-    lines = []
-    for paragraph in text.split("\n"):
-        line, used = [], -space
-        for word in paragraph.split():
-            width = _word_width(word, font, size)
-            if used + space + width <= max_width or not line:
-                line.append(word)
-                used = used + space + width
-            else:
-                lines.append(" ".join(line))
-                line, used = [word], width
-        if line:
-            lines.append(" ".join(line))
-    return lines
 
 
 def _block_height(pieces, scale, width):

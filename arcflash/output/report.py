@@ -1,9 +1,15 @@
 """The study report (PDF, reportlab; pictures by matplotlib).
 
-Sections: cover (facility, study revision and date, preparer fields); method
-and assumptions; input summary; results sorted by energy; highest-risk list;
-flags; one-line picture; TCC plots of the buses of interest; cautions. The
-caution stands in every page's footer as well.
+Sections: cover (facility, revision, date, preparer and reviewer blanks, the model's verification status,
+the limits of the results); scope and method (standards and editions, what was and was not modelled, the
+duration cap, the staged clearing sequence, the conservative choices); input tables in words and units
+(sources, transformers with how their %Z was obtained, cables, motors, devices, equipment, scenarios);
+results (the governing row of every bus, every scenario and case, study notes, flags); one-line picture;
+TCC plots; limits of use. Every page's footer carries the limits of use, the revision, the verification
+status and 'page x of y'; a draft (tables not verified) is watermarked.
+
+Tables are :class:`.pdf_table.LongTable`: cells broken into lines here and drawn as PDF operators, far
+faster than reportlab's own tables at tens of thousands of rows.
 """
 
 from __future__ import annotations
@@ -11,24 +17,28 @@ from __future__ import annotations
 import io
 from xml.sax.saxutils import escape
 
-import numpy as np
 from reportlab.lib import colors
 from reportlab.lib.pagesizes import letter
 from reportlab.lib.styles import getSampleStyleSheet
 from reportlab.lib.units import inch
 from reportlab.pdfgen.canvas import Canvas
-from reportlab.platypus import Image, PageBreak, Paragraph, SimpleDocTemplate, Spacer, Table, TableStyle
+from reportlab.platypus import Image, PageBreak, Paragraph, SimpleDocTemplate, Spacer
 
-from ..models.units import mm_to_feet_inches
 from ..study.pipeline import FLAG_NOTES
 from .cautions import CAUTION
-from .text import energy_text
+from .report_tables import (
+    both_units, cable_rows, device_rows, device_settings_words, equipment_rows, every_case_rows, governing_rows,
+    motor_rows, scenario_rows, sources_rows, transformer_rows,
+)
+from .pdf_table import LongTable
 
 _STYLES = getSampleStyleSheet()
 _SMALL = _STYLES["BodyText"].clone("small", fontSize=7, leading=8.5)
 _BODY = _STYLES["BodyText"].clone("body", fontSize=9, leading=11.5)
+_H3 = _STYLES["Heading3"].clone("h3", fontSize=10, leading=12, spaceBefore=6, spaceAfter=3)
 _STATUS = _STYLES["BodyText"].clone("status", fontSize=11, leading=14, fontName="Helvetica-Bold")
-_FOOTER = "Limits of use: results for qualified persons only; de-energizing is the preferred state; local codes and licensed engineering practice govern."
+_FOOTER = ("Limits of use: results for qualified persons only; de-energizing is the preferred state; local codes "
+           "and licensed engineering practice govern.")
 
 
 def _p(text, style=_SMALL):
@@ -36,54 +46,24 @@ def _p(text, style=_SMALL):
 
 
 def _ft_in(mm):
-    if mm is None or not np.isfinite(mm):
-        return "-"
-    feet, inches = mm_to_feet_inches(mm)
-    return f"{int(feet)}' {int(inches)}\" ({int(np.ceil(mm - 1e-9)):,} mm)"
-
-
-_TABLE_STYLE = TableStyle([
-    ("BACKGROUND", (0, 0), (-1, 0), colors.HexColor("#dde3ea")),
-    ("GRID", (0, 0), (-1, -1), 0.25, colors.HexColor("#9aa5b1")),
-    ("VALIGN", (0, 0), (-1, -1), "TOP"),
-])
-#: Rows per table piece: long tables are built in pieces (splitting one long
-#: table across pages costs time that grows with the square of its length).
-_ROWS_PER_PIECE = 40
-
-
-class _Pieces(list):
-    """Several table pieces that stand in a story as one flowable list."""
-
-
-#: Tables longer than this use plain text cells (no wrapping), which build far faster.
-_PLAIN_ABOVE_ROWS = 200
-_PLAIN_STYLE = TableStyle([("FONTSIZE", (0, 0), (-1, -1), 6.5), ("LEADING", (0, 0), (-1, -1), 8),
-                           ("BOTTOMPADDING", (0, 0), (-1, -1), 1), ("TOPPADDING", (0, 0), (-1, -1), 1)])
+    """A length in both units, rounded up (:func:`.report_tables.both_units`)."""
+    return both_units(mm)
 
 
 def flatten(story):
-    """A story whose table pieces (see :func:`_table`) are laid out one after another."""
+    """The story as a flat list of flowables (nested lists laid out one after another)."""
     flat = []
     for item in story:
-        flat.extend(item if isinstance(item, _Pieces) else [item])
+        flat.extend(flatten(item) if isinstance(item, list) else [item])
     return flat
 
 
 def _table(header, rows, widths=None):
-    plain = len(rows) > _PLAIN_ABOVE_ROWS
-    cell = (lambda c: str(c)) if plain else _p
-    head = [_p(h) for h in header]
-    pieces = _Pieces()
-    per_piece = _ROWS_PER_PIECE * (2 if plain else 1)
-    for lo in range(0, max(len(rows), 1), per_piece):
-        data = [head] + [[cell(c) for c in row] for row in rows[lo:lo + per_piece]]
-        table = Table(data, colWidths=widths, repeatRows=1)
-        table.setStyle(_TABLE_STYLE)
-        if plain:
-            table.setStyle(_PLAIN_STYLE)
-        pieces.append(table)
-    return pieces
+    """A table of text cells broken to their column widths (:class:`.pdf_table.LongTable`, split between
+    pages by whole rows); ``widths`` in inches, default equal shares of the text width."""
+    count = len(header)
+    widths = [w * inch for w in widths] if widths else [7.3 * inch / count] * count
+    return LongTable(header, rows or [["-"] * count], widths)
 
 
 def _figure(figure, width_in=7.0):
@@ -101,90 +81,120 @@ def _ppe(category):
     return {-1: "none applies (> 40)", 0: "below 1.2 cal/cm2", -2: "-"}.get(int(category), str(int(category)))
 
 
-def _results_rows(governing):
-    ordered = governing.sort_values("incident_energy_governing_cal_cm2", ascending=False, na_position="last")
-    rows = []
-    for bus, r in ordered.iterrows():
-        energy = r["incident_energy_governing_cal_cm2"]
-        rows.append([bus, f"{r['nominal_kv']:g}", f"{r['scenario']} / {r['governing_case'] or '-'}",
-                     r["device_governing"] or "-",
-                     "-" if not np.isfinite(r["clearing_time_governing_s"]) else f"{r['clearing_time_governing_s']:.3f}",
-                     "-" if not np.isfinite(energy) else energy_text(energy, 2),
-                     _ft_in(r["arc_flash_boundary_governing_mm"]), _ppe(r["ppe_category"])])
-    return rows
+def _settings(device):
+    """A device's settings in words and units (:func:`.report_tables.device_settings_words`)."""
+    return device_settings_words(device)
 
 
-def _inputs(site):
-    story = [Paragraph("Input summary", _STYLES["Heading2"])]
-    story.append(_table(["utility", "bus", "kV", "maximum", "minimum"],
-                        [[u.id, u.bus, f"{u.kv:g}", f"{u.max.fault}, X/R {u.max.x_over_r:g}",
-                          f"{u.min.fault}, X/R {u.min.x_over_r:g}"] for u in site.utilities.values()]))
-    if site.generators:
-        story += [Spacer(1, 6), _table(["generator", "bus", "kVA", "kV", "X''d %", "X/R", "running"],
-                                       [[g.id, g.bus, f"{g.kva:g}", f"{g.kv:g}", f"{g.subtransient_reactance_percent:g}",
-                                         f"{g.x_over_r:g}", "yes" if g.running else "no"]
-                                        for g in site.generators.values()])]
-    story += [Spacer(1, 6), _table(
-        ["transformer", "primary", "secondary", "kVA", "kV", "%Z", "X/R", "tol. %"],
-        [[t.id, t.primary_bus, t.secondary_bus, f"{t.kva:g}", f"{t.primary_kv:g}/{t.secondary_kv:g}",
-          f"{t.z_percent:g}" if t.z_percent else f"test {t.test.applied_v:g} V", f"{t.x_over_r:g}",
-          f"{t.z_tolerance_percent:g}"] for t in site.transformers.values()])]
-    story += [Spacer(1, 6), _table(
-        ["cable", "from", "to", "length", "sets", "conductor / impedance"],
-        [[c.id, c.from_bus, c.to_bus, c.length, str(c.sets),
-          f"{c.size} {c.material} in {c.conduit}" if c.size else f"{c.r_ohm_per_kft}+j{c.x_ohm_per_kft} ohm/kft"]
-         for c in list(site.cables.values())[:400]])]
-    if len(site.cables) > 400:
-        story.append(_p(f"... and {len(site.cables) - 400} more cables (see the site data)."))
-    story += [Spacer(1, 6), _table(["device", "kind", "branch", "at bus", "settings"],
-                                   [[d.id, d.kind, d.branch, d.at_bus, _settings(d)]
-                                    for d in list(site.devices.values())[:400]])]
-    if len(site.devices) > 400:
-        story.append(_p(f"... and {len(site.devices) - 400} more devices (see the site data)."))
+#: Standards and editions the study applies, and what each gives.
+STANDARDS = (
+    ("IEEE Std 1584-2018", "arcing current, reduced arcing current, incident energy, arc-flash boundary; range "
+                           "of the model (clause 4.2); typical gaps, enclosures and working distances (Tables 9, 10)"),
+    ("NFPA 70E, 2021 edition", "PPE categories and minimum arc ratings (Table 130.7(C)(15)(c)), shock approach "
+                               "boundaries (Table 130.4(E)(a)), label content (130.5(H))"),
+    ("IEEE C37.112-2018 / IEC 60255-151", "inverse-time relay curves, and trip progress at a changing current"),
+    ("NEC (NFPA 70) Chapter 9 Table 9", "cable resistance and reactance per 1000 ft"),
+    ("NEC 110.16(B)", "the date on equipment labels"),
+)
+
+#: What the study does not model (a reviewer checks that none of it matters at this site).
+NOT_MODELLED = (
+    "Protection of the utility upstream of the service: an arc at a bus fed straight from the utility is "
+    "cleared only by the site's own devices listed in the input tables; where none opens, the arc lasts "
+    "until the duration cap and is flagged.",
+    "Arcs that are not three-phase (IEEE 1584-2018 covers three-phase AC arcs), DC systems, systems below "
+    "208 V or above 15 kV (computed and flagged as outside the model's range).",
+    "Fault-current decrement of generators and the utility during the arc; motor contributions are held "
+    "for the whole arc unless the facility sets a cut-off.",
+    "Current limitation of fuses and current-limiting breakers beyond what their time-current curves show.",
+    "Arc-resistant switchgear ratings, remote operation and other ways of working that change the exposure.",
+)
+
+
+def _method(site, governing):
+    f = site.facility
+    cap = (f"{f.arc_duration_cap_s:g} s (IEEE 1584-2018 guidance; an arc that no device clears sooner lasts "
+           "that long, flagged)") if f.arc_duration_cap_s else "none (the facility sets no cap)"
+    motors = (f"motor contributions end after {f.motor_contribution_cycles:g} cycles" if f.motor_contribution_cycles
+              else "motor contributions last the whole arc")
+    story = [Paragraph("Scope and method", _STYLES["Heading2"]), Paragraph("Standards and editions", _H3),
+             _table(["standard", "used for"], [list(row) for row in STANDARDS], widths=[2.0, 5.3])]
+    modelled = [
+        f"{len(site.buses)} buses, {len(site.utilities)} utility sources, {len(site.generators)} generators, "
+        f"{len(site.transformers)} transformers, {len(site.cables)} cables, {len(site.impedances)} other "
+        f"impedances, {len(site.switches)} switches, {len(site.motors)} motors, {len(site.devices)} protective "
+        f"devices; {len(site.scenarios)} scenarios (see the input tables).",
+        "Bolted three-phase faults: per-unit positive-sequence network, prefault voltage factor "
+        f"{f.voltage_factor:g} pu, {f.s_base_mva:g} MVA base; the utility as an equivalent source at its "
+        "stated level; motors and running generators contribute by their subtransient reactance (1 hp taken "
+        "as 1 kVA).",
+        "Arcing current, incident energy and arc-flash boundary: IEEE 1584-2018 at each bus, for the full and "
+        "for the reduced arcing current, each with its own clearing time; the larger energy governs. Inputs "
+        "outside the model's range are computed and flagged, never clipped.",
+        "Clearing (the staged sequence): each device sees its own share of the arcing current, in its own "
+        "voltage, on the slower edge of its band. Where one source feeds the bus and the first device to open "
+        "ends the arc, its time is the clearing time. Everywhere else the arc is followed stage by stage: "
+        "after each opening the network is solved again, every device gathers trip progress (the integral of "
+        "dt/t(I), IEEE C37.112) at its new current, and the energy is summed over the stages; the governing "
+        f"device is the one whose opening ended the arc. {motors.capitalize()}.",
+        f"Arc-duration cap: {cap}.",
+        "PPE: NFPA 70E Table 130.7(C)(15)(c) arc ratings from the incident energy; above 40 cal/cm2 no PPE "
+        "category applies. Shock boundaries: NFPA 70E Table 130.4(E)(a).",
+    ]
+    conservative = [
+        "Both arcing cases, every scenario: each bus takes its largest energy over both.",
+        "Transformer %Z at the low side of its tolerance with the maximum utility level and the high side with "
+        "the minimum (unless a scenario says otherwise).",
+        "Devices on the slower (maximum) edge of their time-current band; breaker opening time added to relays.",
+        "An unknown enclosure depth counts as a typical enclosure (the larger energy); buses with no geometry "
+        "take the typical values of their voltage class (flagged).",
+        f"{motors.capitalize()}; printed energies and lengths are rounded up, never down.",
+    ]
+    story += [Paragraph("What was modelled", _H3)] + [Paragraph(escape(t), _BODY) for t in modelled]
+    story += [Paragraph("What was not modelled", _H3)] + [Paragraph(escape("- " + t), _BODY) for t in NOT_MODELLED]
+    story += [Paragraph("Conservative choices", _H3)] + [Paragraph(escape("- " + t), _BODY) for t in conservative]
     return story
 
 
-def _settings(device):
-    if device.relay is not None:
-        r = device.relay
-        text = (f"CT {r.ct_primary_a:g}:{r.ct_secondary_a:g}, pickup {r.pickup_a:g} A, {r.standard} {r.curve}, "
-                f"TD {r.time_dial:g}")
-        return text + (f", inst {r.instantaneous_a:g} A" if r.instantaneous_a else "")
-    if device.trip_unit is not None:
-        u = device.trip_unit
-        text = f"{u.rating_a:g} A, LT {u.long_time_pickup:g}x/{u.long_time_delay_s:g} s"
-        if u.short_time_pickup:
-            text += f", ST {u.short_time_pickup:g}x/{u.short_time_delay_s:g} s"
-        if u.instantaneous_pickup:
-            text += f", I {u.instantaneous_pickup:g}x"
-        return text + (f"; maintenance {device.maintenance}" if device.maintenance else "")
-    return f"curve {device.curve}"
+def _inputs(site, governing):
+    sections = [("Sources", sources_rows(site), [1.0, 0.6, 0.55, 1.1, 1.1, 1.0, 1.0, 0.95]),
+                ("Transformers", transformer_rows(site), [0.8, 1.1, 0.65, 0.8, 2.3, 0.4, 0.65, 0.6]),
+                ("Cables and other impedances", cable_rows(site), [1.0, 1.6, 0.7, 0.4, 2.2, 1.4]),
+                ("Motors", motor_rows(site), [0.9, 0.9, 0.7, 0.6, 0.6, 0.5, 0.7, 1.4]),
+                ("Protective devices and their settings", device_rows(site), [0.9, 1.0, 0.9, 0.8, 3.7]),
+                ("Equipment", equipment_rows(site, governing), [0.8, 1.3, 0.55, 1.15, 0.6, 0.45, 1.1, 1.35]),
+                ("Scenarios", scenario_rows(site), [0.75, 1.05, 0.6, 0.7, 0.6, 0.6, 0.7, 0.7, 0.6, 1.0])]
+    story = [Paragraph("Input tables", _STYLES["Heading2"])]
+    for title, (header, rows), widths in sections:
+        story += [Paragraph(title, _H3), _table(header, rows or [["-"] * len(header)], widths=widths), Spacer(1, 4)]
+    return story
 
 
-def _method(site):
-    f = site.facility
-    cap = f"{f.arc_duration_cap_s:g} s" if f.arc_duration_cap_s else "none"
-    items = [
-        "Bolted three-phase faults: per-unit positive-sequence network, prefault voltage factor "
-        f"{f.voltage_factor:g} pu, {f.s_base_mva:g} MVA base; transformer %Z at the low side of its tolerance "
-        "for the maximum utility level and the high side for the minimum; motors contribute, 1 hp taken as 1 kVA.",
-        "Arcing current, incident energy and arc-flash boundary: IEEE 1584-2018, both the full and the reduced "
-        "arcing current with their own clearing times; the larger energy governs. Inputs outside the model's "
-        "range are computed and flagged.",
-        "Clearing: each device at its own share of the arcing current in its own kV, slowest (maximum) curve of "
-        "its band. Where one source feeds the bus and its path's fastest device is the first to open, that "
-        "device ends the arc. Everywhere else the arc is followed stage by stage: after each opening the "
-        "network is solved again, every device gathers trip progress (the integral of dt/t(I), IEEE C37.112) "
-        "at its new current, and the energy is summed over the stages; the governing device is the one whose "
-        "opening ended the arc. Motor contributions "
-        + (f"end after {f.motor_contribution_cycles:g} cycles" if f.motor_contribution_cycles else
-           "last the whole arc") + f". Arc-duration cap: {cap} (IEEE 1584-2018 guidance).",
-        "PPE category by NFPA 70E (2021) Table 130.7(C)(15)(c) arc ratings from the calculated energy; shock "
-        "approach boundaries by Table 130.4(E)(a). Above 40 cal/cm2 no PPE category applies.",
-        "Coefficient tables and typical values marked 'from memory' in docs/method.md await a check against the "
-        "printed standard.",
-    ]
-    return [Paragraph("Method and assumptions", _STYLES["Heading2"])] + [Paragraph(escape(i), _BODY) for i in items]
+#: The every-scenario-and-case table stops after this many rows (the full table is results.csv).
+EVERY_CASE_ROWS = 2000
+
+
+def _results(site, results):
+    governing = results.governing
+    header, rows = governing_rows(governing)
+    story = [Paragraph("Results: the governing case of every bus, highest energy first", _STYLES["Heading2"]),
+             Paragraph("Energy at the working distance; boundaries rounded up in both units; the clearing "
+                       "sequence of the governing scenario and case; notes: see 'Study notes'.", _BODY),
+             _table(header, rows, widths=[0.8, 0.5, 1.0, 1.6, 1.0, 0.9, 1.1, 0.4])]
+    header, rows = every_case_rows(results.rows, EVERY_CASE_ROWS)
+    story += [PageBreak(), Paragraph("Results: every scenario and arcing case", _STYLES["Heading2"]),
+              _table(header, rows, widths=[1.1, 1.1, 0.6, 0.9, 1.2, 0.9, 1.5])]
+    total = 2 * len(results.rows)
+    if total > len(rows):
+        story.append(_p(f"The first {len(rows):,} of {total:,} rows (by bus); every row is in results.csv and "
+                        "results.xlsx.", _BODY))
+    story += [Spacer(1, 12), Paragraph("Study notes: labels print the numbers of their flags", _STYLES["Heading2"]),
+              _table(["note", "meaning"], [[str(k), text] for k, text in FLAG_NOTES.items()], widths=[0.5, 6.8])]
+    notes = governing["flag_notes"] if "flag_notes" in governing else [""] * len(governing)
+    flagged = [(bus, note, flags) for bus, note, flags in zip(governing.index, notes, governing["flags"]) if flags]
+    story += [Spacer(1, 12), Paragraph("Flags (governing rows)", _STYLES["Heading2"]),
+              _table(["bus", "notes", "flags"], flagged or [["-", "-", "none"]], widths=[1.2, 0.6, 5.5])]
+    return story
 
 
 def write_report(site, results, path, tcc_buses=None, model=None):
@@ -209,54 +219,36 @@ def write_report(site, results, path, tcc_buses=None, model=None):
     f = site.facility
     governing = results.governing
     model = status(getattr(site, "path", None)) if model is None else model
-    story = [Spacer(1, 1.2 * inch), Paragraph("Arc-flash hazard study", _STYLES["Title"]),
+    story = [Spacer(1, 1.0 * inch), Paragraph("Arc-flash hazard study", _STYLES["Title"]),
              Paragraph(escape(f.name), _STYLES["Heading2"]), Paragraph(escape(f.description), _BODY),
              Spacer(1, 12),
              _table(["study revision", "study date", "scenarios", "buses"],
-                    [[f.study_revision, f.study_date or "-", ", ".join(site.scenarios), str(len(site.buses))]]),
-             Spacer(1, 24),
+                    [[f.study_revision, f.study_date or "-", ", ".join(site.scenarios), str(len(site.buses))]],
+                    widths=[1.2, 1.2, 3.9, 1.0]),
+             Spacer(1, 18),
              _table(["", "name", "signature", "date"],
-                    [["Prepared by", "", "", ""], ["Checked by", "", "", ""], ["Approved by", "", "", ""]],
-                    widths=[1.2 * inch, 2.2 * inch, 2.2 * inch, 1.2 * inch]),
+                    [["Prepared by", "\n\n", "", ""], ["Reviewed by", "\n\n", "", ""],
+                     ["Approved by", "\n\n", "", ""]], widths=[1.2, 2.4, 2.4, 1.3]),
              Spacer(1, 18), Paragraph("Verification of the model", _STYLES["Heading3"]),
              Paragraph(escape(model.words + "."), _STATUS),
              Paragraph(escape("How to check: 'arcflash selfcheck' lists every intermediate value of the standard's "
                               "worked examples and the coefficient rows used; 'arcflash selfcheck record' stores "
                               "the outcome beside the site data."), _BODY),
-             Spacer(1, 18), Paragraph(escape(CAUTION), _BODY), PageBreak()]
-    story += _method(site) + [PageBreak()] + _inputs(site) + [PageBreak()]
-    story += [Paragraph("Results, governing case per bus, highest energy first", _STYLES["Heading2"]),
-              _table(["bus", "kV", "scenario / case", "device", "t (s)", "E (cal/cm2)", "arc-flash boundary",
-                      "PPE category"], _results_rows(governing))]
-    energy = governing["incident_energy_governing_cal_cm2"].fillna(-1)
-    risky = governing[(energy > 40) | energy.isin(energy.nlargest(10))]
-    story += [PageBreak(), Paragraph("Highest-risk equipment", _STYLES["Heading2"]),
-              _table(["bus", "kV", "scenario / case", "device", "t (s)", "E (cal/cm2)", "arc-flash boundary",
-                      "PPE category"], _results_rows(risky))]
-    staged = [(bus, f"{r['scenario']} / {r['governing_case']}", r["clearing_sequence_governing"])
-              for bus, r in governing.iterrows() if r.get("staged") and r["clearing_sequence_governing"]]
-    if staged:
-        story += [Spacer(1, 12), Paragraph("Opening sequences of arcs followed stage by stage (governing rows)",
-                                           _STYLES["Heading2"]),
-                  _table(["bus", "scenario / case", "openings in order: time, arcing current at the bus before -> "
-                          "after"], staged, widths=[1.1 * inch, 1.4 * inch, 4.5 * inch])]
-    story += [Spacer(1, 12), Paragraph("Study notes: labels print the numbers of their flags", _STYLES["Heading2"]),
-              _table(["note", "meaning"], [[str(k), text] for k, text in FLAG_NOTES.items()],
-                     widths=[0.5 * inch, 6.5 * inch])]
-    flagged = [(bus, r.get("flag_notes", ""), r["flags"]) for bus, r in governing.iterrows() if r["flags"]]
-    story += [Spacer(1, 12), Paragraph("Flags (governing rows)", _STYLES["Heading2"]),
-              _table(["bus", "notes", "flags"], flagged or [["-", "-", "none"]],
-                     widths=[1.2 * inch, 0.6 * inch, 5.2 * inch])]
+             Spacer(1, 12), Paragraph("Limits of the results", _STYLES["Heading3"]),
+             Paragraph(escape(CAUTION), _BODY), PageBreak()]
+    story += _method(site, governing) + [PageBreak()] + _inputs(site, governing) + [PageBreak()]
+    story += _results(site, results)
     figure = oneline_figure(site)
     story += [PageBreak(), Paragraph("One-line picture", _STYLES["Heading2"])]
     story += [_figure(figure)] if figure is not None else [_p("Omitted: too many buses to draw legibly.")]
+    energy = governing["incident_energy_governing_cal_cm2"].fillna(-1)
     if tcc_buses is None:
         tcc_buses = list(energy[energy > 0].nlargest(3).index)
     for bus in tcc_buses:
         scenario = governing.loc[bus, "scenario"]
         story += [PageBreak(), Paragraph(f"Time-current plot: {escape(bus)} ({escape(scenario)})", _STYLES["Heading2"]),
                   _figure(tcc_figure(site, bus, scenario), width_in=6.0)]
-    story += [PageBreak(), Paragraph("Cautions", _STYLES["Heading2"]), Paragraph(escape(CAUTION), _BODY)]
+    story += [PageBreak(), Paragraph("Limits of use", _STYLES["Heading2"]), Paragraph(escape(CAUTION), _BODY)]
 
     def footer(canvas, doc):
         canvas.saveState()
@@ -273,14 +265,36 @@ def write_report(site, results, path, tcc_buses=None, model=None):
                       ).build(flatten(story), onFirstPage=footer, onLaterPages=footer, canvasmaker=_PageCountCanvas)
 
 
-def _watermark(canvas):
+#: The strokes of the watermark's letters on a 4 x 6 grid (drawn as lines, not text, so that text read
+#: from the report is not interleaved with stray letters).
+_STROKES = {
+    "D": [[(0, 0), (0, 6), (2.5, 6), (4, 4.5), (4, 1.5), (2.5, 0), (0, 0)]],
+    "R": [[(0, 0), (0, 6), (3, 6), (4, 5), (4, 4), (3, 3), (0, 3)], [(2, 3), (4, 0)]],
+    "A": [[(0, 0), (2, 6), (4, 0)], [(1, 3), (3, 3)]],
+    "F": [[(4, 6), (0, 6), (0, 0)], [(0, 3), (3, 3)]],
+    "T": [[(0, 6), (4, 6)], [(2, 6), (2, 0)]],
+}
+
+
+def _watermark(canvas, word="DRAFT"):
     """A light diagonal DRAFT across the page (the results are a draft while the model is not verified)."""
     canvas.saveState()
-    canvas.setFillColor(colors.Color(0.55, 0.55, 0.55, alpha=0.18))
-    canvas.setFont("Helvetica-Bold", 96)
+    canvas.setStrokeColor(colors.Color(0.55, 0.55, 0.55, alpha=0.25))
+    canvas.setLineWidth(9)
+    canvas.setLineCap(1)
+    canvas.setLineJoin(1)
     canvas.translate(letter[0] / 2, letter[1] / 2)
     canvas.rotate(40)
-    canvas.drawCentredString(0, -30, "DRAFT")
+    unit, advance = 13.0, 6.0
+    x0 = -(len(word) * advance - 2.0) * unit / 2
+    path = canvas.beginPath()
+    for number, letter_ in enumerate(word):
+        for stroke in _STROKES[letter_]:
+            points = [(x0 + (number * advance + x) * unit, (y - 3) * unit) for x, y in stroke]
+            path.moveTo(*points[0])
+            for point in points[1:]:
+                path.lineTo(*point)
+    canvas.drawPath(path, stroke=1, fill=0)
     canvas.restoreState()
 
 

@@ -30,23 +30,83 @@ def governing_table(results):
     return table
 
 
-def _cell(value):
-    if value is None or (isinstance(value, float) and value != value):
-        return None  # NaN: an empty cell
-    return value.item() if hasattr(value, "item") else value
+#: Units of column-name endings: the heading's unit and the number format (Excel codes) of the workbook.
+_UNITS = (("_cal_cm2", "cal/cm2", "0.00"), ("_kv", "kV", "0.000"), ("_ka", "kA", "0.00"), ("_mm", "mm", "#,##0"),
+          ("_s", "s", "0.000"), ("_a", "A", "#,##0"), ("_kva", "kVA", "#,##0"))
+#: Columns whose numbers are plain ratios.
+_RATIOS = {"x_over_r": ("X/R", "0.0"), "nominal_kv": ("nominal voltage [kV]", "0.000")}
 
 
-def _write_xlsx(path, sheets):
-    """A workbook written row by row (openpyxl write-only: no cell objects held in memory)."""
-    from openpyxl import Workbook
+def _heading(name):
+    """A column name as a heading with its unit: 'incident_energy_governing_cal_cm2' ->
+    'incident energy governing [cal/cm2]'; and the column's number format."""
+    if name in _RATIOS:
+        return _RATIOS[name]
+    for ending, unit, number_format in _UNITS:
+        if name.endswith(ending):
+            return f"{name[:-len(ending)].replace('_', ' ')} [{unit}]", number_format
+    return name.replace("_", " "), "0.000"
 
-    book = Workbook(write_only=True)
-    for name, frame in sheets:
-        sheet = book.create_sheet(name)
-        sheet.append([str(c) for c in frame.columns])
-        for row in frame.itertuples(index=False, name=None):
-            sheet.append([_cell(v) for v in row])
-    book.save(path)
+
+def _sheet(name, frame):
+    """A table as a workbook sheet: headings with units, numbers formatted, yes/no for true/false, the PPE
+    category in words."""
+    from .report_tables import ppe_words
+    from .xlsx_lite import Column, Sheet
+
+    columns = []
+    for column in frame.columns:
+        values = frame[column]
+        if column == "ppe_category":
+            columns.append(Column("PPE category", [ppe_words(v) for v in values.tolist()], None, 26))
+        elif pd.api.types.is_bool_dtype(values):
+            columns.append(Column(column.replace("_", " "), ["yes" if v else "no" for v in values.tolist()], None, 9))
+        elif pd.api.types.is_numeric_dtype(values):
+            heading, number_format = _heading(column)
+            columns.append(Column(heading, [float(v) for v in values.tolist()], number_format,
+                                  max(10, min(28, len(heading) + 2))))
+        else:
+            width = 40 if column in ("flags", "clearing_sequence", "clearing_sequence_governing",
+                                     "reduced_clearing_sequence", "clearing_notes") else 14
+            columns.append(Column(column.replace("_", " "), values.tolist(), None, width))
+    return Sheet(name, columns)
+
+
+def _limits_sheet(site, model):
+    """The first sheet: what the workbook is, the limits of the results and the model's verification."""
+    from .xlsx_lite import Column, Sheet
+
+    f = site.facility
+    rows = [("facility", f.name), ("study revision", f.study_revision), ("study date", f.study_date or "-"),
+            ("limits of use", CAUTION), ("model verification", model.words),
+            ("sheets", "governing: the governing case of every bus; every case: every bus, scenario and arcing case; "
+                       "openings: device openings of arcs followed stage by stage")]
+    return Sheet("limits of use", [Column("item", [r[0] for r in rows], None, 20),
+                                   Column("text", [r[1] for r in rows], None, 120)])
+
+
+def write_csv_tables(folder, results, governing, steps):
+    """results.csv (every bus and scenario), governing.csv and steps.csv at full precision; the PPE category
+    also in words (``ppe_category_text``)."""
+    from .report_tables import ppe_words
+
+    folder = Path(folder)
+    rows = results.rows.assign(ppe_category_text=[ppe_words(v) for v in results.rows["ppe_category"].tolist()])
+    governing = governing.assign(ppe_category_text=[ppe_words(v) for v in governing["ppe_category"].tolist()])
+    write_atomic(folder / "results.csv", lambda tmp: rows.to_csv(tmp, index=False, float_format="%.10g"))
+    write_atomic(folder / "governing.csv", lambda tmp: governing.to_csv(tmp, float_format="%.10g"))
+    write_atomic(folder / "steps.csv", lambda tmp: steps.to_csv(tmp, index=False, float_format="%.10g"))
+
+
+def write_xlsx_tables(path, site, results, governing, steps, model=None):
+    """results.xlsx: the limits of use first, then one sheet per table (:mod:`.xlsx_lite`)."""
+    from ..verification import status
+    from .xlsx_lite import write_xlsx
+
+    model = status(getattr(site, "path", None)) if model is None else model
+    sheets = [_limits_sheet(site, model), _sheet("governing", governing.reset_index()),
+              _sheet("every case", results.rows), _sheet("openings", steps)]
+    write_atomic(path, lambda tmp: write_xlsx(tmp, sheets))
 
 
 #: The record of a study run: the fingerprint of the site data it used and the hash of its governing.csv.
@@ -71,14 +131,9 @@ def write_results(site, results, out_dir, report=True, tcc_buses=None):
     model = status(getattr(site, "path", None))
     paths = {"results.csv": out / "results.csv", "governing.csv": out / "governing.csv",
              "steps.csv": out / "steps.csv", "results.xlsx": out / "results.xlsx"}
-    write_atomic(paths["results.csv"], lambda tmp: results.rows.to_csv(tmp, index=False, float_format="%.10g"))
-    write_atomic(paths["governing.csv"], lambda tmp: governing.to_csv(tmp, float_format="%.10g"))
     steps = results.steps if results.steps is not None else pd.DataFrame()
-    write_atomic(paths["steps.csv"], lambda tmp: steps.to_csv(tmp, index=False, float_format="%.10g"))
-
-    sheets = [("governing", governing.reset_index()), ("all rows", results.rows), ("openings", steps),
-              ("caution", pd.DataFrame({"caution": [CAUTION, model.words]}))]
-    write_atomic(paths["results.xlsx"], lambda tmp: _write_xlsx(tmp, sheets))
+    write_csv_tables(out, results, governing, steps)
+    write_xlsx_tables(paths["results.xlsx"], site, results, governing, steps, model)
     if report:
         from .report import write_report
 
