@@ -214,7 +214,6 @@ def write_report(site, results, path, tcc_buses=None, model=None):
     from ..verification import status
 
     from .oneline import oneline_figure
-    from .tcc import tcc_figure
 
     f = site.facility
     governing = results.governing
@@ -241,13 +240,7 @@ def write_report(site, results, path, tcc_buses=None, model=None):
     figure = oneline_figure(site)
     story += [PageBreak(), Paragraph("One-line picture", _STYLES["Heading2"])]
     story += [_figure(figure)] if figure is not None else [_p("Omitted: too many buses to draw legibly.")]
-    energy = governing["incident_energy_governing_cal_cm2"].fillna(-1)
-    if tcc_buses is None:
-        tcc_buses = list(energy[energy > 0].nlargest(3).index)
-    for bus in tcc_buses:
-        scenario = governing.loc[bus, "scenario"]
-        story += [PageBreak(), Paragraph(f"Time-current plot: {escape(bus)} ({escape(scenario)})", _STYLES["Heading2"]),
-                  _figure(tcc_figure(site, bus, scenario), width_in=6.0)]
+    story += _tcc_pages(site, results, tcc_buses)
     story += [PageBreak(), Paragraph("Limits of use", _STYLES["Heading2"]), Paragraph(escape(CAUTION), _BODY)]
 
     def footer(canvas, doc):
@@ -274,6 +267,35 @@ _STROKES = {
     "F": [[(4, 6), (0, 6), (0, 0)], [(0, 3), (3, 3)]],
     "T": [[(0, 6), (4, 6)], [(2, 6), (2, 0)]],
 }
+
+
+def _tcc_pages(site, results, tcc_buses):
+    """A TCC page per bus: from the study's own page data where it kept them (``results.tcc``), else the
+    bus's governing row with its scenario's source paths found again."""
+    from ..study.pipeline import default_tcc_buses
+    from .tcc_pdf import TccPage
+
+    kept = results.tcc or {}
+    buses = list(kept) if tcc_buses is None and kept else (default_tcc_buses(results.governing)
+                                                          if tcc_buses is None else list(tcc_buses))
+    story = []
+    for bus in buses:
+        data = kept.get(bus) or _tcc_data_again(site, results, bus)
+        story += [PageBreak(), Paragraph(f"Time-current plot: {escape(bus)}", _STYLES["Heading2"]),
+                  TccPage(site, data)]
+    return story
+
+
+def _tcc_data_again(site, results, bus):
+    """The TCC page data of a bus the study kept none for: its scenario's source paths, solved again."""
+    from ..study.clearing import clearing_paths
+    from ..study.faults import solve_scenario
+    from ..study.tcc_data import PathRecord, tcc_data
+
+    row = results.governing.loc[bus]
+    scenario = site.scenario(row["scenario"])
+    paths = clearing_paths(site, scenario, solve_scenario(site, scenario.name, for_clearing=True))
+    return tcc_data(site, bus, row, PathRecord.from_paths(scenario.name, paths), results.steps)
 
 
 def _watermark(canvas, word="DRAFT"):

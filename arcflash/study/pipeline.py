@@ -22,6 +22,7 @@ from ..models.units import j_cm2_to_cal_cm2
 from .arcing import arcing_currents, equipment_table
 from .clearing import clear_arcs, clearing_paths
 from .faults import solve_scenario
+from .tcc_data import PathRecord, tcc_data
 
 #: IEEE 1584-2018 (clause 4.2 note): at 240 V or less with a bolted current under 2 kA
 #: a sustained arc is less likely; results are still reported.
@@ -42,6 +43,7 @@ class StudyResults:
     governing: pd.DataFrame
     steps: pd.DataFrame | None = None
     stages: pd.DataFrame | None = None
+    tcc: dict | None = None  # bus -> TccData of the buses with a TCC page (arcflash.study.tcc_data)
 
 
 def _staged_energy(table, stages):
@@ -114,7 +116,7 @@ def _scenario_rows(site, scenario, equipment, stated_times=None):
     stages = cleared.stages[~cleared.stages["bus"].isin(list(stated_times or {}))]
     steps = cleared.steps[~cleared.steps["bus"].isin(list(stated_times or {}))]
     _staged_energy(table, stages)
-    return table, stages, steps
+    return table, stages, steps, PathRecord.from_paths(scenario.name, paths)
 
 
 #: The kinds of study flag, numbered: a label prints the numbers of its row's flags ("STUDY NOTES 2, 5") and
@@ -192,12 +194,22 @@ def study_rows(site, progress=None, stated_times=None):
     return _study(site, progress, stated_times)[0]
 
 
+#: Buses that get a TCC page when none are named: this many with the highest energy.
+DEFAULT_TCC_PAGES = 3
+
+
+def default_tcc_buses(governing):
+    """The buses with the highest governing energy (at most :data:`DEFAULT_TCC_PAGES`, energy above zero)."""
+    energy = governing["incident_energy_governing_cal_cm2"].fillna(-1)
+    return list(energy[energy > 0].nlargest(DEFAULT_TCC_PAGES).index)
+
+
 def _study(site, progress=None, stated_times=None):
     """Rows, opening steps and stages of every scenario."""
     equipment = equipment_table(site)
-    parts, all_steps, all_stages = [], [], []
+    parts, all_steps, all_stages, records = [], [], [], {}
     for scenario in site.scenarios.values():
-        table, stages, steps = _scenario_rows(site, scenario, equipment, stated_times)
+        table, stages, steps, records[scenario.name] = _scenario_rows(site, scenario, equipment, stated_times)
         parts.append(table.reset_index())
         all_stages.append(stages.assign(scenario=scenario.name))
         all_steps.append(steps.assign(scenario=scenario.name))
@@ -210,7 +222,8 @@ def _study(site, progress=None, stated_times=None):
         frame = pd.concat([f for f in frames if len(f)] or frames[:1], ignore_index=True)
         return frame[["scenario"] + [c for c in frame.columns if c != "scenario"]]
 
-    return rows[first + [c for c in rows.columns if c not in first]], ordered(all_steps), ordered(all_stages)
+    return (rows[first + [c for c in rows.columns if c not in first]], ordered(all_steps), ordered(all_stages),
+            records)
 
 
 def governing_rows(rows):
@@ -241,15 +254,20 @@ def run_study(site, out_dir=None, progress=None, report=True, tcc_buses=None):
         Write the PDF report too (with ``out_dir``).
     tcc_buses : list of str, optional
         Buses that get a TCC page in the report (default: the three with the
-        highest energy).
+        highest energy); their page data are taken from the study (``tcc``).
 
     Returns
     -------
     StudyResults
         ``rows`` (every bus × scenario) and ``governing`` (one row per bus).
     """
-    rows, steps, stages = _study(site, progress)
-    results = StudyResults(rows=rows, governing=governing_rows(rows), steps=steps, stages=stages)
+    rows, steps, stages, records = _study(site, progress)
+    governing = governing_rows(rows)
+    pages = default_tcc_buses(governing) if tcc_buses is None else list(tcc_buses)
+    tcc = {bus: tcc_data(site, bus, governing.loc[bus], records[governing.loc[bus, "scenario"]], steps)
+           for bus in pages}
+    del records  # the path rows of every scenario are large; the pages keep what they show
+    results = StudyResults(rows=rows, governing=governing, steps=steps, stages=stages, tcc=tcc)
     if out_dir is not None:
         from ..output.results import write_results
 
