@@ -4,11 +4,15 @@ Targets, on a synthetic 10,000-bus facility, in one run: results.xlsx in at most
 files of the same tables (results.csv, governing.csv, steps.csv); the report PDF without TCC pages in at
 most 3x that CSV time. Each writer first runs once on a 100-bus facility, untimed (imports, caches).
 
+Also (issue 14): the peak memory of the whole ``arcflash study`` command with its default TCC pages on
+the synthetic 10,000-bus facility with closed ties, in a fresh process: at most 1 GB.
+
 Run:  python tests/benchmarks/bench_report.py [--buses 10000]
 """
 
 from __future__ import annotations
 
+import subprocess
 import sys
 import tempfile
 import time
@@ -40,6 +44,25 @@ def _writers(site, results, folder):
             "report": lambda: write_report(site, results, folder / "report.pdf", tcc_buses=[])}
 
 
+_PEAK = """
+import resource, sys
+from arcflash.cli import main
+try:
+    main(["study", sys.argv[1], "--out", sys.argv[2], "--quiet"], prog_name="arcflash", standalone_mode=False)
+finally:
+    print("peak", resource.getrusage(resource.RUSAGE_SELF).ru_maxrss, file=sys.stderr)
+"""
+
+
+def peak_memory_mb(buses, folder):
+    """Peak resident memory of 'arcflash study' (report with its default TCC pages) in a fresh process."""
+    site = synthetic_site(folder / "peak-site", buses, ties=max(1, buses // 500))
+    done = subprocess.run([sys.executable, "-c", _PEAK, str(site),
+                           str(folder / "peak-out")], capture_output=True, text=True, check=True,
+                          cwd=Path(__file__).resolve().parents[2])
+    return int(done.stderr.split("peak")[-1]) / 1024.0
+
+
 def main():
     buses = int(sys.argv[sys.argv.index("--buses") + 1]) if "--buses" in sys.argv else 10_000
     with tempfile.TemporaryDirectory() as scratch:
@@ -55,6 +78,10 @@ def main():
         print(f"  {name:<7}{value:7.2f} s")
     print(f"ratio xlsx / csv:   {seconds['xlsx'] / seconds['csv']:.2f}  (target at most 3)")
     print(f"ratio report / csv: {seconds['report'] / seconds['csv']:.2f}  (target at most 3)")
+    with tempfile.TemporaryDirectory() as scratch:
+        peak = peak_memory_mb(buses, Path(scratch))
+    print(f"peak memory of 'arcflash study' with its default TCC pages, closed ties: {peak:.0f} MB "
+          "(target at most 1024)")
 
 
 if __name__ == "__main__":
