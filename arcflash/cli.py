@@ -202,7 +202,11 @@ def study(site_dir, out_dir, tcc_buses, no_report, quiet):
     click.echo(f"Study of {site.facility.name}: {len(governing)} buses, {len(site.scenarios)} scenarios.")
     click.echo(f"Highest incident energy: {energy_text(governing.loc[worst, 'incident_energy_governing_cal_cm2'])} cal/cm2 "
                f"at {worst} ({governing.loc[worst, 'scenario']}); {flagged} buses flagged.")
+    from .output.report import ONE_LINE_IN_REPORT_MAX_BUSES
+
+    drawings = ["oneline.pdf"] if not no_report and len(site.buses) > ONE_LINE_IN_REPORT_MAX_BUSES else []
     files = (["results.csv", "governing.csv", "steps.csv", "results.xlsx"] + ([] if no_report else ["report.pdf"])
+             + drawings
              + ["study.json (what labels and briefings check their data against)"])
     click.echo(f"Results in {out_dir}: " + ", ".join(files))
     click.echo(CAUTION)

@@ -28,7 +28,7 @@ from ..study.pipeline import FLAG_NOTES
 from .cautions import CAUTION
 from .report_tables import (
     both_units, cable_rows, device_rows, device_settings_words, equipment_rows, every_case_rows, governing_rows,
-    motor_rows, scenario_rows, sources_rows, transformer_rows,
+    motor_rows, scenario_rows, sources_rows, switch_rows, transformer_rows,
 )
 from .pdf_table import LongTable
 
@@ -160,6 +160,7 @@ def _inputs(site, governing):
     sections = [("Sources", sources_rows(site), [1.0, 0.6, 0.55, 1.1, 1.1, 1.0, 1.0, 0.95]),
                 ("Transformers", transformer_rows(site), [0.8, 1.1, 0.65, 0.8, 2.3, 0.4, 0.65, 0.6]),
                 ("Cables and other impedances", cable_rows(site), [1.0, 1.6, 0.7, 0.4, 2.2, 1.4]),
+                ("Switches and ties", switch_rows(site), [1.0, 0.8, 1.8, 0.8, 1.45, 1.45]),
                 ("Motors", motor_rows(site), [0.9, 0.9, 0.7, 0.6, 0.6, 0.5, 0.7, 1.4]),
                 ("Protective devices and their settings", device_rows(site), [0.9, 1.0, 0.9, 0.8, 3.7]),
                 ("Equipment", equipment_rows(site, governing), [0.8, 1.3, 0.55, 1.15, 0.6, 0.45, 1.1, 1.35]),
@@ -213,8 +214,6 @@ def write_report(site, results, path, tcc_buses=None, model=None):
     """
     from ..verification import status
 
-    from .oneline import oneline_figure
-
     f = site.facility
     governing = results.governing
     model = status(getattr(site, "path", None)) if model is None else model
@@ -237,11 +236,22 @@ def write_report(site, results, path, tcc_buses=None, model=None):
              Paragraph(escape(CAUTION), _BODY), PageBreak()]
     story += _method(site, governing) + [PageBreak()] + _inputs(site, governing) + [PageBreak()]
     story += _results(site, results)
-    figure = oneline_figure(site)
-    story += [PageBreak(), Paragraph("One-line picture", _STYLES["Heading2"])]
-    story += [_figure(figure)] if figure is not None else [_p("Omitted: too many buses to draw legibly.")]
+    if len(site.buses) <= ONE_LINE_IN_REPORT_MAX_BUSES:
+        story += oneline_story(site)
+    else:
+        story += [PageBreak(), Paragraph("One-line diagram", _STYLES["Heading2"]),
+                  Paragraph(escape(f"The one-line diagram of these {len(site.buses):,} buses is a drawing set of its "
+                                   "own: oneline.pdf, beside this report."), _BODY)]
     story += _tcc_pages(site, results, tcc_buses)
     story += [PageBreak(), Paragraph("Limits of use", _STYLES["Heading2"]), Paragraph(escape(CAUTION), _BODY)]
+
+    build_pdf(path, story, site, model, f"Arc-flash study - {f.name}")
+
+
+def build_pdf(path, story, site, model, title):
+    """Lay ``story`` out on letter pages into ``path``, every page with the footer (limits of use, the
+    model's verification status, facility and revision, page x of y) and, for a draft, the watermark."""
+    f = site.facility
 
     def footer(canvas, doc):
         canvas.saveState()
@@ -254,8 +264,34 @@ def write_report(site, results, path, tcc_buses=None, model=None):
         canvas.restoreState()
 
     SimpleDocTemplate(str(path), pagesize=letter, leftMargin=0.6 * inch, rightMargin=0.6 * inch,
-                      topMargin=0.6 * inch, bottomMargin=0.8 * inch, title=f"Arc-flash study - {f.name}",
+                      topMargin=0.6 * inch, bottomMargin=0.8 * inch, title=title,
                       ).build(flatten(story), onFirstPage=footer, onLaterPages=footer, canvasmaker=_PageCountCanvas)
+
+
+def oneline_story(site, diagram=None):
+    """The one-line diagram's sheets, each on its own page."""
+    from .oneline_pdf import OneLine
+
+    story = []
+    for number, sheet in enumerate((diagram or OneLine(site)).sheets(), start=1):
+        story += [PageBreak(), Paragraph("One-line diagram" if number == 1 else "One-line diagram (continued)",
+                                         _STYLES["Heading2"]), sheet]
+    return story
+
+
+#: Sites with more buses than this get their one-line diagram in its own file, oneline.pdf, beside the
+#: report (a drawing set of hundreds of sheets), and the report says so.
+ONE_LINE_IN_REPORT_MAX_BUSES = 2000
+
+
+def write_oneline(site, path, model=None):
+    """The one-line diagram alone, as a PDF with the report's footer (for sites above
+    :data:`ONE_LINE_IN_REPORT_MAX_BUSES` buses)."""
+    from ..verification import status
+
+    model = status(getattr(site, "path", None)) if model is None else model
+    story = [Paragraph(f"One-line diagram of {escape(site.facility.name)}", _STYLES["Title"])]
+    build_pdf(path, story + oneline_story(site), site, model, f"One-line diagram - {site.facility.name}")
 
 
 #: The strokes of the watermark's letters on a 4 x 6 grid (drawn as lines, not text, so that text read

@@ -119,6 +119,17 @@ def cable_rows(site):
     return header, rows
 
 
+def switch_rows(site):
+    """Switches, breakers without settings of their own, and ties: where they are and how they normally stand."""
+    header = ["switch", "kind", "from -> to", "normally", "closed in scenarios", "opened in scenarios"]
+    rows = []
+    for w in site.switches.values():
+        closes = [s.name for s in site.scenarios.values() if w.id in s.close]
+        opens = [s.name for s in site.scenarios.values() if w.id in s.open]
+        rows.append([w.id, w.kind, f"{w.from_bus} -> {w.to_bus}", w.normally, _list(closes), _list(opens)])
+    return header, rows
+
+
 def motor_rows(site):
     """Motors and what each contributes to a fault."""
     header = ["motor", "bus", "size", "voltage", "X''d", "X/R", "contributes", "off in scenarios"]

@@ -135,11 +135,14 @@ def write_results(site, results, out_dir, report=True, tcc_buses=None):
     write_csv_tables(out, results, governing, steps)
     write_xlsx_tables(paths["results.xlsx"], site, results, governing, steps, model)
     if report:
-        from .report import write_report
+        from .report import ONE_LINE_IN_REPORT_MAX_BUSES, write_oneline, write_report
 
         paths["report.pdf"] = out / "report.pdf"
         write_atomic(paths["report.pdf"], lambda tmp: write_report(site, results, tmp, tcc_buses=tcc_buses,
                                                                          model=model))
+        if len(site.buses) > ONE_LINE_IN_REPORT_MAX_BUSES:
+            paths["oneline.pdf"] = out / "oneline.pdf"
+            write_atomic(paths["oneline.pdf"], lambda tmp: write_oneline(site, tmp, model))
     paths[STUDY_RECORD] = out / STUDY_RECORD  # last: it vouches for the governing.csv written above
     record = {"tool": "arcflash", "site": site.facility.name, "study_revision": site.facility.study_revision,
               "written_at": dt.datetime.now(dt.timezone.utc).isoformat(timespec="seconds"),

@@ -93,7 +93,7 @@ def test_results_tables(written):
     assert every.count(" reduced ") >= len(results.rows) - 5
     for scenario in site.scenarios:
         assert scenario in every
-    notes = _section(pages, "Study notes", "One-line picture")
+    notes = _section(pages, "Study notes", "One-line diagram")
     assert "de-energised in the governing scenario" in notes and "Flags (governing rows)" in notes
 
 

@@ -113,7 +113,7 @@ def test_result_files_and_report(study):
     for bus in site.buses:
         assert bus in text
     assert " ".join(CAUTION.split()[:12]) in flat
-    assert "Prepared by" in text and "One-line picture" in text
+    assert "Prepared by" in text and "One-line diagram" in text
 
 
 def test_change_one_device_changes_only_its_buses(tmp_path):
