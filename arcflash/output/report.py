@@ -181,7 +181,7 @@ def _results(site, results):
     story = [Paragraph("Results: the governing case of every bus, highest energy first", _STYLES["Heading2"]),
              Paragraph("Energy at the working distance; boundaries rounded up in both units; the clearing "
                        "sequence of the governing scenario and case; notes: see 'Study notes'.", _BODY),
-             _table(header, rows, widths=[0.8, 0.5, 1.0, 1.6, 1.0, 0.9, 1.1, 0.4])]
+             _table(header, rows, widths=[0.75, 0.45, 0.95, 1.3, 0.9, 0.8, 1.05, 0.75, 0.35])]
     header, rows = every_case_rows(results.rows, EVERY_CASE_ROWS)
     story += [PageBreak(), Paragraph("Results: every scenario and arcing case", _STYLES["Heading2"]),
               _table(header, rows, widths=[1.1, 1.1, 0.6, 0.9, 1.2, 0.9, 1.5])]

@@ -172,7 +172,8 @@ def _trip_words(u):
 
 _MAINTENANCE_WORDS = {"instantaneous_pickup": ("instantaneous", " x the long-time pickup"),
                       "instantaneous_a": ("instantaneous", " A secondary"),
-                      "short_time_pickup": ("short-time pickup", " x"), "short_time_delay_s": ("short-time delay", " s"),
+                      "short_time_pickup": ("short-time pickup", " x"),
+                      "short_time_delay_s": ("short-time delay", " s"),
                       "pickup_a": ("inverse-time pickup", " A secondary"), "time_dial": ("time dial", "")}
 
 
@@ -254,7 +255,7 @@ def scenario_rows(site):
 def governing_rows(governing):
     """Per bus, highest energy first: the governing row with the working distance beside the energy."""
     header = ["bus", "voltage", "scenario / case", "incident energy at working distance", "arc-flash boundary",
-              "PPE category", "clearing", "notes"]
+              "PPE category", "clearing", "shock: limited (fixed parts) / restricted approach", "notes"]
     ordered = governing.sort_values("incident_energy_governing_cal_cm2", ascending=False, na_position="last")
     rows = []
     notes = ordered["flag_notes"] if "flag_notes" in ordered else [""] * len(ordered)
@@ -262,11 +263,15 @@ def governing_rows(governing):
                  else [""] * len(ordered))
     energies = energies_at(ordered["incident_energy_governing_cal_cm2"], ordered["working_distance_mm"])
     boundaries = lengths_in_both_units(ordered["arc_flash_boundary_governing_mm"])
-    for r, note, sequence, energy, boundary in zip(ordered.itertuples(), notes, sequences, energies, boundaries):
+    shock = [f"{limited} / {restricted}" for limited, restricted in zip(
+        lengths_in_both_units(ordered["limited_approach_fixed_mm"]),
+        lengths_in_both_units(ordered["restricted_approach_mm"]))]
+    for r, note, sequence, energy, boundary, approach in zip(ordered.itertuples(), notes, sequences, energies,
+                                                             boundaries, shock):
         device, time_s = r.device_governing, r.clearing_time_governing_s
         clearing = sequence or (f"{device} opens at {time_s:.3f} s" if device and np.isfinite(time_s) else "-")
         rows.append([r.Index, _g(r.nominal_kv, "kV"), f"{r.scenario} / {r.governing_case or '-'}", energy, boundary,
-                     ppe_words(r.ppe_category), clearing, note or "-"])
+                     ppe_words(r.ppe_category), clearing, approach, note or "-"])
     return header, rows
 
 

@@ -89,6 +89,7 @@ def test_results_tables(written):
     assert "none applies (above 40 cal/cm2)" in governing and "category 2" in governing
     assert " mm / " in governing and " ft " in governing
     assert "tie-closed / " in governing and "opens at" in governing
+    assert "1,067 mm / 3 ft 6 in / 305 mm / 1 ft 0 in" in governing  # NFPA 70E Table 130.4(E)(a), 151-750 V
     every = _section(pages, "Results: every scenario and arcing case", "Study notes")
     assert every.count(" reduced ") >= len(results.rows) - 5
     for scenario in site.scenarios:
