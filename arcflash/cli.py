@@ -102,10 +102,13 @@ def _status_words(site_dir=None):
 def _load(site_dir):
     """Load a site or exit 2 listing every problem (no traceback)."""
     try:
-        return load_site(site_dir)
+        site = load_site(site_dir)
     except SiteDataError as exc:
         click.echo(str(exc), err=True)
         sys.exit(2)
+    for warning in site.warnings:
+        click.echo(f"warning: {warning}", err=True)
+    return site
 
 
 @main.command("faults")

@@ -240,7 +240,7 @@ def _known(value):
 def scenario_rows(site):
     """Scenarios: what each changes from the normal state."""
     header = ["scenario", "description", "utility level", "transformer %Z", "closes", "opens", "switches on",
-              "switches off", "motors", "maintenance settings on"]
+              "switches off", "motors", "energy-reducing maintenance switching on"]
     rows = []
     for s in site.scenarios.values():
         z = s.transformer_z or ("low" if s.utility == "max" else "high")
@@ -248,7 +248,7 @@ def scenario_rows(site):
         rows.append([s.name, s.description or "-", s.utility + "imum", f"{z} side of its tolerance",
                      _list(s.close), _list(s.open), _list(s.generators_running),
                      _list(s.generators_stopped + [f"utility {u}" for u in s.utilities_off]), motors,
-                     _list(s.maintenance_mode)])
+                     _list(s.energy_reducing_maintenance_switching)])
     return header, rows
 
 

@@ -45,13 +45,13 @@ def tcc_figure(site, bus, scenario=None, reference_kv=None):
     currents = np.logspace(0, 6, 600)
     table = faults.devices[faults.devices["fault_bus"] == bus].set_index("device")
     ratio = arcs.loc[bus, "arcing_current_ka"] / faults.buses.loc[bus, "bolted_ka"]
-    maintenance = set(chosen.maintenance_mode)
+    maintenance = set(chosen.energy_reducing_maintenance_switching)
     for device in devices_protecting(site, chosen, bus):
         curve = device_curve(site, device, maintenance=device in maintenance)
         device_kv = site.buses[site.devices[device].at_bus].nominal_kv
         times = curve.clearing_time_s(currents)
         shown = np.isfinite(times)
-        label = device + (" (maintenance)" if device in maintenance else "")
+        label = device + (" (energy-reducing maintenance switching on)" if device in maintenance else "")
         line, = axes.plot(currents[shown] * device_kv / ref, times[shown], label=label)
         if device in table.index:
             amps = table.loc[device, "current_ka"] * ratio * 1000.0

@@ -188,9 +188,9 @@ def _protection_checks(elements, origin, invalid):
             problems.append(_at(origin, "devices", ident, "curve", device.curve,
                                 f"a {device.kind} curve (this one is a {curves[device.curve].kind})"))
     for name, scenario in elements["scenarios"].items():
-        for ident in scenario.maintenance_mode:
+        for ident in scenario.energy_reducing_maintenance_switching:
             if ident in devices and not devices[ident].maintenance:
-                problems.append(_at(origin, "scenarios", name, "maintenance_mode", ident,
+                problems.append(_at(origin, "scenarios", name, scenario.switching_key, ident,
                                     "a device with 'maintenance:' settings"))
     for ident, bus in elements["buses"].items():
         for device in bus.arc_not_cleared_by:
@@ -204,11 +204,13 @@ def _scenario_checks(facility, elements, origin, invalid):
     lists = {
         "close": ("switches",), "open": ("switches",),
         "generators_running": ("generators",), "generators_stopped": ("generators",),
-        "utilities_off": ("utilities",), "motors_off": ("motors",), "maintenance_mode": ("devices",),
+        "utilities_off": ("utilities",), "motors_off": ("motors",),
+        "energy_reducing_maintenance_switching": ("devices",),
     }
     for name, scenario in elements["scenarios"].items():
         for field, sections in lists.items():
             for ident in getattr(scenario, field):
+                field = scenario.switching_key if field == "energy_reducing_maintenance_switching" else field
                 if ident not in invalid and not any(ident in elements[s] for s in sections):
                     problems.append(_at(origin, "scenarios", name, field, ident,
                                         f"the id of one of the site's {' or '.join(sections)}"))

@@ -42,6 +42,8 @@ class Site:
     curves: dict
     scenarios: dict
     origin: dict = field(repr=False)
+    #: Things the site data say in a way still read but to be changed (earlier names), each with its place.
+    warnings: list = field(default_factory=list, repr=False)
 
     @property
     def default_scenario(self):
@@ -315,4 +317,17 @@ def load_site(path):
         problems += checks.cross_check(facility, elements, origin, invalid)
     if problems:
         raise SiteDataError(sorted(problems, key=lambda p: p.field not in FILE_FIELDS))
-    return Site(path=Path(path), facility=facility, origin=origin, **elements)
+    return Site(path=Path(path), facility=facility, origin=origin, warnings=_earlier_names(elements, origin),
+                **elements)
+
+
+def _earlier_names(elements, origin):
+    """Warnings for keys read under an earlier name, each at its file and line."""
+    warnings = []
+    for name, scenario in elements["scenarios"].items():
+        if scenario.maintenance_mode is not None:
+            file, line = origin[("scenarios", name)]
+            warnings.append(f"{file}:{line}: scenarios[{name}].maintenance_mode: read, but that is the earlier "
+                            "name; write energy_reducing_maintenance_switching (the energy-reducing maintenance "
+                            "switching of NEC 240.87(B)(3))")
+    return warnings

@@ -4,7 +4,7 @@ A relay-breaker carries ``relay:`` settings, a breaker with an electronic trip
 unit ``trip_unit:``, a thermal-magnetic breaker or fuse the id of a digitised
 ``curve`` from the site's ``curves:`` section or a device-library file. Each
 may carry ``maintenance:``, a partial set of alternate settings that a
-scenario's ``maintenance_mode`` switches on.
+scenario's ``energy_reducing_maintenance_switching`` (NEC 240.87(B)(3)) switches on.
 """
 
 from __future__ import annotations

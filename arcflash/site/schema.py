@@ -457,7 +457,25 @@ class Scenario(_Element):
     utilities_off: list[Identifier] = []
     motors: Literal["on", "off"] = "on"
     motors_off: list[Identifier] = []
-    maintenance_mode: list[Identifier] = Field([], description="Devices whose maintenance settings are on.")
+    energy_reducing_maintenance_switching: list[Identifier] = Field(
+        [], description="Devices whose energy-reducing maintenance switching (NEC 240.87(B)(3)) is on in this "
+                        "scenario: their 'maintenance:' settings apply.")
+    maintenance_mode: list[Identifier] | None = Field(
+        None, description="The earlier name of energy_reducing_maintenance_switching: still read, with a warning.")
+
+    @model_validator(mode="after")
+    def _earlier_name(self):
+        if self.maintenance_mode is not None:
+            if self.energy_reducing_maintenance_switching:
+                raise field_error("maintenance_mode", "only one of maintenance_mode (its earlier name) and "
+                                                      "energy_reducing_maintenance_switching")
+            object.__setattr__(self, "energy_reducing_maintenance_switching", list(self.maintenance_mode))
+        return self
+
+    @property
+    def switching_key(self):
+        """The key the site data used for the energy-reducing maintenance switching (for messages)."""
+        return "maintenance_mode" if self.maintenance_mode is not None else "energy_reducing_maintenance_switching"
 
 
 class SiteFile(_Element):

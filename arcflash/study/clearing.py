@@ -17,7 +17,8 @@ source paths.
 - A device that does not trip at its current is noted; a path that no
   device interrupts lasts until the arc-duration cap (2 s by default,
   IEEE 1584-2018 guidance), flagged; so does any duration above the cap.
-- Scenario ``maintenance_mode`` switches on a device's maintenance settings.
+- A scenario's ``energy_reducing_maintenance_switching`` (NEC 240.87(B)(3)) switches on a device's
+  maintenance settings.
 
 That one-stage answer is taken only where it is exact (one source, the
 governing device on a bridge, no other device opening first; see

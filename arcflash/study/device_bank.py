@@ -74,7 +74,7 @@ class DeviceBank:
     """
 
     def __init__(self, site, scenario, device_ids):
-        maintenance = set(scenario.maintenance_mode)
+        maintenance = set(scenario.energy_reducing_maintenance_switching)
         devices = [site.devices[d] for d in device_ids]
         self.kind = np.array([2 if d.curve else (0 if d.relay is not None else 1) for d in devices], dtype=np.int8)
         self.row = np.zeros(len(devices), dtype=np.intp)  # position within its kind's parameter arrays

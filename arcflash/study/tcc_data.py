@@ -80,7 +80,7 @@ def tcc_data(site, bus, row, record, steps=None):
     """The TCC page of ``bus`` from its governing study row, the path record of that row's scenario and the
     study's opening steps (``StudyResults.steps``; devices that opened in the governing case's sequence)."""
     scenario = site.scenario(row["scenario"])
-    maintenance = set(scenario.maintenance_mode)
+    maintenance = set(scenario.energy_reducing_maintenance_switching)
     case = str(row["governing_case"] or "")
     opened = {}
     if steps is not None and len(steps):

@@ -97,7 +97,7 @@ def main():
             for b, d in zip(buses, devices):
                 paths.setdefault(net.bus_ids[b], {}).setdefault(bus, []).append(net.device_ids[d])
         live = [b for b in faults.buses.index[faults.buses["energized"]] if b in paths]
-        curves = {d: device_curve(site, d, maintenance=d in scenario.maintenance_mode) for d in net.device_ids}
+        curves = {d: device_curve(site, d, maintenance=d in scenario.energy_reducing_maintenance_switching) for d in net.device_ids}
         for bus in rng.choice(live, size=args.sample // (2 * len(SCENARIOS)), replace=False):
             rows = faults.devices[faults.devices["fault_bus"] == bus]
             currents = dict(zip(rows["device"], rows["current_ka"]))
