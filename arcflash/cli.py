@@ -60,7 +60,10 @@ def main():
 @click.option("--clearing-time-s", type=POSITIVE, required=True,
               help="Arc duration at the full arcing current, from the protective device [s].")
 @click.option("--reduced-clearing-time-s", type=POSITIVE, default=None,
-              help="Arc duration at the reduced arcing current [s]; default: the full-current time.")
+              help="Arc duration at the reduced arcing current, from the device's curve [s]; required unless "
+                   "--accept-same-reduced-time.")
+@click.option("--accept-same-reduced-time", "accept_same_time", is_flag=True,
+              help="Use the full-current time for the reduced current too (reported as not conservative).")
 @click.option("--class", "equipment_class", type=click.Choice(sorted(EQUIPMENT_CLASSES)), default=None,
               help="Equipment class supplying typical gap, distance, enclosure and configuration.")
 @click.option("--config", type=click.Choice(CONFIGURATIONS, case_sensitive=False), default=None,
@@ -72,15 +75,16 @@ def main():
 @click.option("--depth-mm", type=POSITIVE, default=None, help="Enclosure depth [mm].")
 @click.option("--strict", is_flag=True, help="Refuse inputs outside the range of the model instead of flagging.")
 @click.option("--json", "as_json", is_flag=True, help="Print the result as JSON.")
-def equipment(voltage_kv, bolted_ka, clearing_time_s, reduced_clearing_time_s, equipment_class, config,
-              gap_mm, working_distance_mm, height_mm, width_mm, depth_mm, strict, as_json):
-    """Incident energy and arc-flash boundary of one piece of equipment."""
+def equipment(voltage_kv, bolted_ka, clearing_time_s, reduced_clearing_time_s, accept_same_time, equipment_class,
+              config, gap_mm, working_distance_mm, height_mm, width_mm, depth_mm, strict, as_json):
+    """Incident energy, arc-flash boundary, PPE category and shock boundaries of one piece of equipment."""
+    refuse_conflicts(click.get_current_context(), ["reduced_clearing_time_s"], ["accept_same_time"])
     try:
         record = assess_equipment(
             voltage_kv, bolted_ka, clearing_time_s, reduced_clearing_time_s,
             equipment_class=equipment_class, config=config, gap_mm=gap_mm,
             working_distance_mm=working_distance_mm, height_mm=height_mm, width_mm=width_mm,
-            depth_mm=depth_mm, strict=strict,
+            depth_mm=depth_mm, strict=strict, accept_same_time=accept_same_time,
         )
     except (ValueError, ModelRangeError) as exc:
         raise click.UsageError(in_option_words(str(exc), click.get_current_context())) from None
@@ -353,6 +357,8 @@ def transformer_test(kva, primary_kv, secondary_kv, applied_v, measured_a, r_per
     click.echo(f"rated current, primary:      {r['rated_primary_a']:.1f} A")
     click.echo(f"rated current, secondary:    {r['rated_secondary_a']:.1f} A")
     click.echo(f"infinite-bus fault current:  {r['infinite_bus_ka']:.2f} kA (I_FLA x 100 / %Z, no source impedance)")
+    click.echo(CAUTION)
+    click.echo(_status_words())
 
 
 @main.command("quick")
@@ -372,7 +378,9 @@ def transformer_test(kva, primary_kv, secondary_kv, applied_v, measured_a, r_per
 @click.option("--cable-material", type=click.Choice(["copper", "aluminum"]), default="copper")
 @click.option("--cable-conduit", type=click.Choice(["pvc", "aluminum", "steel"]), default="steel")
 @click.option("--cable-sets", type=click.IntRange(1, 50), default=1)
-@click.option("--class", "equipment_class", default=None, help="Equipment class (typical gap, distance, enclosure).")
+@click.option("--class", "equipment_class", type=click.Choice(sorted(EQUIPMENT_CLASSES)), default=None,
+              help="Equipment class (typical gap, distance, enclosure); required: the same nameplate gives "
+                   "different energies in different equipment.")
 @click.option("--config", default=None, help="Electrode configuration (overrides the class).")
 @click.option("--gap-mm", type=POSITIVE, default=None)
 @click.option("--working-distance-mm", type=POSITIVE, default=None)
@@ -380,14 +388,18 @@ def transformer_test(kva, primary_kv, secondary_kv, applied_v, measured_a, r_per
 @click.option("--width-mm", type=POSITIVE, default=None, help="Enclosure width [mm].")
 @click.option("--depth-mm", type=POSITIVE, default=None, help="Enclosure depth [mm].")
 @click.option("--clearing-time-s", type=POSITIVE, default=None, help="Stated clearing time of the upstream device [s].")
-@click.option("--reduced-clearing-time-s", type=POSITIVE, default=None, help="Its time at the reduced arcing current [s].")
+@click.option("--reduced-clearing-time-s", type=POSITIVE, default=None,
+              help="Its time at the reduced arcing current [s]; required with --clearing-time-s unless "
+                   "--accept-same-reduced-time.")
+@click.option("--accept-same-reduced-time", "accept_same_time", is_flag=True,
+              help="With --clearing-time-s: use it for the reduced current too (reported as not conservative).")
 @click.option("--library", type=click.Path(dir_okay=False, exists=True), default=None, help="Device-library YAML file.")
 @click.option("--curve", default=None, help="Upstream device: a curve id of the library.")
 @click.option("--json", "as_json", is_flag=True, help="Print the result as JSON.")
 def quick(kva, primary_kv, secondary_kv, z_percent, applied_v, measured_a, x_over_r, z_tolerance_percent, utility_ka,
           utility_x_over_r, cable_length, cable_size, cable_material, cable_conduit, cable_sets, equipment_class,
           config, gap_mm, working_distance_mm, height_mm, width_mm, depth_mm, clearing_time_s, reduced_clearing_time_s,
-          library, curve, as_json):
+          accept_same_time, library, curve, as_json):
     """Quick assessment of one piece of equipment from nameplate data."""
     import tempfile
 
@@ -396,7 +408,11 @@ def quick(kva, primary_kv, secondary_kv, z_percent, applied_v, measured_a, x_ove
 
     ctx = click.get_current_context()
     refuse_conflicts(ctx, ["z_percent"], ["applied_v", "measured_a"])
-    refuse_conflicts(ctx, ["curve"], ["clearing_time_s", "reduced_clearing_time_s"])
+    refuse_conflicts(ctx, ["curve"], ["clearing_time_s", "reduced_clearing_time_s", "accept_same_time"])
+    refuse_conflicts(ctx, ["reduced_clearing_time_s"], ["accept_same_time"])
+    if equipment_class is None:
+        raise click.UsageError("--class: required (the same nameplate gives different energies in different "
+                               f"equipment); expected one of: {', '.join(sorted(EQUIPMENT_CLASSES))}")
     refuse_alone(ctx, "measured_a", ["applied_v"])
     refuse_alone(ctx, "cable_size", ["cable_length"])
     refuse_alone(ctx, "cable_length", ["cable_size"])
@@ -420,7 +436,7 @@ def quick(kva, primary_kv, secondary_kv, z_percent, applied_v, measured_a, x_ove
                 x_over_r=x_over_r, z_tolerance_percent=z_tolerance_percent, utility_ka=utility_ka,
                 utility_x_over_r=utility_x_over_r, cable=cable, equipment=equipment,
                 clearing_time_s=clearing_time_s, reduced_clearing_time_s=reduced_clearing_time_s,
-                curve=curve, library=library)
+                curve=curve, library=library, accept_same_time=accept_same_time)
     except SiteDataError as exc:
         raise click.UsageError(quick_problem_words(exc.problems, click.get_current_context())) from None
     except ValueError as exc:
@@ -428,11 +444,12 @@ def quick(kva, primary_kv, secondary_kv, z_percent, applied_v, measured_a, x_ove
     if as_json:
         row = {k: (None if isinstance(v, float) and v != v else (v.item() if hasattr(v, "item") else v))
                for k, v in result["row"].items()}
-        click.echo(json.dumps({"result": row, "assumptions": result["notes"], "caution": CAUTION,
+        click.echo(json.dumps({"result": row, "assumptions": result["notes"],
+                               "not_conservative": result["not_conservative"], "caution": CAUTION,
                                "model_verification": _status_words()}, indent=2,
                               default=str))
     else:
-        click.echo(quick_report(result["row"], result["notes"]))
+        click.echo(quick_report(result["row"], result["notes"], result["not_conservative"]))
         click.echo(_status_words())
 
 

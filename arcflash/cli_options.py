@@ -90,7 +90,8 @@ def quick_problem_words(problems, ctx):
 
 
 def _given(ctx, names):
-    return [n for n in names if ctx.params.get(n) is not None]
+    """The parameters of ``names`` the user gave (a flag counts when set)."""
+    return [n for n in names if ctx.params.get(n) not in (None, False)]
 
 
 def refuse_conflicts(ctx, first, second):
@@ -104,6 +105,6 @@ def refuse_conflicts(ctx, first, second):
 
 def refuse_alone(ctx, name, needs):
     """UsageError when option ``name`` is given without any of ``needs`` (parameter names)."""
-    if ctx.params.get(name) is not None and not _given(ctx, needs):
+    if ctx.params.get(name) not in (None, False) and not _given(ctx, needs):
         words = option_names(ctx)
         raise click.UsageError(f"{words[name]} needs {' or '.join(words[n] for n in needs)}")

@@ -47,7 +47,7 @@ def test_json_output():
 
 def test_equipment_class_supplies_typical_values():
     result = run(["equipment", "--class", "panelboard-shallow", "--voltage-kv", "0.208", "--bolted-ka", "10",
-                  "--clearing-time-s", "0.025", "--json"])
+                  "--clearing-time-s", "0.025", "--reduced-clearing-time-s", "0.025", "--json"])
     assert result.exit_code == 0, result.output
     inputs = json.loads(result.output)["inputs"]
     # IEEE 1584-2018 Tables 9 and 10 (from memory): panelboard gap 25 mm, working distance 457.2 mm.
@@ -57,19 +57,44 @@ def test_equipment_class_supplies_typical_values():
 
 def test_explicit_value_overrides_class():
     result = run(["equipment", "--class", "switchgear-lv", "--gap-mm", "40", "--voltage-kv", "0.48",
-                  "--bolted-ka", "30", "--clearing-time-s", "0.05", "--json"])
+                  "--bolted-ka", "30", "--clearing-time-s", "0.05", "--accept-same-reduced-time", "--json"])
     assert json.loads(result.output)["inputs"]["gap_mm"] == 40.0
 
 
-def test_missing_reduced_time_is_noted():
-    result = run(D2[:-2])
-    assert result.exit_code == 0
-    assert "No clearing time was given for the reduced arcing current" in result.output
+def test_a_missing_reduced_time_is_refused_unless_accepted_and_then_disclosed():
+    refused = run(D2[:-2])
+    assert refused.exit_code == 2
+    assert "--reduced-clearing-time-s: expected the clearing time at the reduced arcing current" in refused.output
+    assert "--accept-same-reduced-time" in refused.output
+    accepted = run(D2[:-2] + ["--accept-same-reduced-time"])
+    assert accepted.exit_code == 0, accepted.output
+    assert "NOT CONSERVATIVE (accepted by you): the full-current clearing time was used" in " ".join(
+        accepted.output.split())
+    both = run(D2 + ["--accept-same-reduced-time"])
+    assert both.exit_code == 2 and "--reduced-clearing-time-s and --accept-same-reduced-time conflict" in both.output
+    record = json.loads(run(D2[:-2] + ["--accept-same-reduced-time", "--json"]).output)
+    assert record["not_conservative"] and record["reduced_case"]["clearing_time_s"] == 0.0613
+
+
+def test_equipment_gives_ppe_category_rating_and_shock_boundaries_like_the_study():
+    text = " ".join(run(D2).output.split())
+    # NFPA 70E Table 130.4(E)(a), 151-750 V: limited 3 ft 6 in (fixed parts), 10 ft 0 in (movable),
+    # restricted 1 ft 0 in
+    assert "limited approach 3 ft 6 in (1.0 m) fixed parts, 10 ft 0 in (3.0 m) movable conductors" in text
+    assert "restricted approach 1 ft 0 in (0.3 m)" in text
+    governing = json.loads(run(D2 + ["--json"]).output)["governing"]
+    energy = governing["incident_energy_cal_cm2"]
+    # NFPA 70E Table 130.7(C)(15)(c): category 1 up to 4, 2 up to 8, 3 up to 25, 4 up to 40 cal/cm2
+    expected = next(c for c, top in ((1, 4.0), (2, 8.0), (3, 25.0), (4, 40.0)) if energy <= top)
+    assert governing["ppe_category"] == expected and governing["ppe_category_text"] == f"category {expected}"
+    assert f"PPE category: category {expected}" in text
+    assert governing["minimum_arc_rating_cal_cm2"] >= energy
+    assert governing["restricted_approach_mm"] == pytest.approx(304.8)
 
 
 def test_out_of_range_is_flagged_in_output():
     result = run(["equipment", "--class", "switchgear-lv", "--voltage-kv", "0.48", "--bolted-ka", "120",
-                  "--clearing-time-s", "0.05"])
+                  "--clearing-time-s", "0.05", "--reduced-clearing-time-s", "0.05"])
     assert result.exit_code == 0
     assert "FLAGS" in result.output and "bolted_ka outside 0.5–106 kA" in result.output
 
@@ -83,7 +108,7 @@ def test_out_of_range_is_flagged_in_output():
 ])
 def test_bad_input_exits_2_with_message(args, message):
     base = ["equipment", "--class", "switchgear-lv", "--voltage-kv", "0.48", "--bolted-ka", "45",
-            "--clearing-time-s", "0.05"]
+            "--clearing-time-s", "0.05", "--reduced-clearing-time-s", "0.05"]
     result = run(base + args)
     assert result.exit_code == 2
     assert message in result.output
@@ -92,7 +117,7 @@ def test_bad_input_exits_2_with_message(args, message):
 
 def test_missing_geometry_without_class():
     result = run(["equipment", "--voltage-kv", "0.48", "--bolted-ka", "45", "--clearing-time-s", "0.05",
-                  "--config", "VCB"])
+                  "--reduced-clearing-time-s", "0.05", "--config", "VCB"])
     assert result.exit_code == 2
     assert "missing --gap-mm, --working-distance-mm, --height-mm, --width-mm" in result.output
 

@@ -16,9 +16,9 @@ from click.testing import CliRunner
 from arcflash.cli import main
 
 EQUIPMENT = ["equipment", "--class", "switchgear-lv", "--voltage-kv", "0.48", "--bolted-ka", "45",
-             "--clearing-time-s", "0.05"]
+             "--clearing-time-s", "0.05", "--reduced-clearing-time-s", "0.05"]
 QUICK = ["quick", "--kva", "500", "--primary-kv", "4.16", "--secondary-kv", "0.48", "--z-percent", "5",
-         "--x-over-r", "5", "--class", "switchgear-lv", "--clearing-time-s", "0.1"]
+         "--x-over-r", "5", "--class", "switchgear-lv", "--clearing-time-s", "0.1", "--reduced-clearing-time-s", "0.1"]
 TEST = ["transformer-test", "--kva", "1500", "--primary-kv", "13.8", "--secondary-kv", "0.48", "--applied-v", "632"]
 ROOT = Path(__file__).resolve().parents[1]
 DEMO = str(ROOT / "site_data" / "fenwick_ridge")
@@ -83,7 +83,7 @@ def test_a_number_that_is_not_finite_and_positive_is_refused(value, words):
 @pytest.mark.parametrize("option, value, words", [
     ("--cable-length", "200 yd", "--cable-length = '200 yd': expected a unit among ft, m, km"),
     ("--cable-size", "7/0", "--cable-size = '7/0': expected a conductor size"),
-    ("--class", "switchboard-xyz", "--class = 'switchboard-xyz': expected one of"),
+    ("--class", "switchboard-xyz", "Invalid value for '--class': 'switchboard-xyz' is not one of"),
     ("--z-percent", "0.0575", "--z-percent: expected 0.5-25 %"),
 ])
 def test_a_value_the_built_site_refuses_names_the_option(option, value, words):
@@ -105,7 +105,7 @@ def test_conflicting_options_are_refused_naming_both(args, first, second):
     (QUICK + ["--cable-size", "4/0"], "--cable-size", "--cable-length"),
     (without(QUICK, "--z-percent") + ["--measured-a", "30"], "--measured-a", "--applied-v"),
     (TEST + ["--measured-temp-c", "20"], "--measured-temp-c", "--r-percent"),
-    (without(QUICK, "--clearing-time-s") + ["--curve", "TM-100"], "--curve", "--library"),
+    (without(without(QUICK, "--clearing-time-s"), "--reduced-clearing-time-s") + ["--curve", "TM-100"], "--curve", "--library"),
 ])
 def test_an_option_without_the_one_it_needs_is_refused(args, option, needs):
     error = refused(args)
@@ -160,7 +160,7 @@ def test_an_output_path_that_cannot_be_written_is_named(tmp_path, command):
 def test_a_device_library_that_is_not_one_is_refused(tmp_path, content, words):
     library = tmp_path / "library.yaml"
     library.write_bytes(content)
-    error = refused(without(QUICK, "--clearing-time-s") + ["--library", str(library), "--curve", "TM-100"])
+    error = refused(without(without(QUICK, "--clearing-time-s"), "--reduced-clearing-time-s") + ["--library", str(library), "--curve", "TM-100"])
     assert words in error and ("--library" in error or "--curve" in error)
 
 

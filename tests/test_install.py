@@ -80,6 +80,7 @@ def test_the_console_script_runs_outside_the_source_tree(installed, tmp_path):
     _run([str(arcflash), "labels", "print", "site_data/fenwick_ridge", "--out", "mine", "--study", "study_out",
           "--bus", "SWG-B", "--layout", str(layout)], work, env)
     quick = _run([str(arcflash), "quick", "--kva", "500", "--primary-kv", "4.16", "--secondary-kv", "0.48",
-                  "--z-percent", "5", "--x-over-r", "5", "--class", "switchgear-lv", "--clearing-time-s", "0.1"],
+                  "--z-percent", "5", "--x-over-r", "5", "--class", "switchgear-lv", "--clearing-time-s", "0.1",
+                  "--reduced-clearing-time-s", "0.1"],
                  work, env)
     assert "incident energy" in quick and "LIMITS OF USE" in quick

@@ -198,7 +198,7 @@ def test_every_ppe_output_carries_the_status(tmp_path):
     assert "verified against the printed standard (IEEE Std 1584-2018) by C. Checker on 2026-12-01" in first
     assert "DRAFT" not in first
     quick = runner.invoke(main, ["equipment", "--voltage-kv", "0.48", "--bolted-ka", "20", "--clearing-time-s",
-                                 "0.1", "--class", "switchgear-lv"])
+                                 "0.1", "--reduced-clearing-time-s", "0.1", "--class", "switchgear-lv"])
     assert "not yet verified" in quick.output  # no site: the (empty) user-level record applies
 
 

@@ -143,3 +143,27 @@ def shock_boundary_text(nominal_kv):
     for key, text, m in zip(("limited_movable", "limited_fixed", "restricted"), imperial, metric):
         out[key] = text if m is None else f"{text} ({m:.1f} m)"
     return out
+
+
+#: PPE category codes of :func:`ppe_category` (and the study's tables) that are not a category, in words.
+PPE_CATEGORY_WORDS = {-2: "not computed", -1: "none applies (above 40 cal/cm2)",
+                      0: "none needed (below 1.2 cal/cm2)"}
+
+
+def ppe_category_words(category):
+    """A PPE category code in words: 'category 2', 'none applies (above 40 cal/cm2)', ...
+
+    Parameters
+    ----------
+    category : int or float
+        Code from :func:`ppe_category` (NaN or None: not computed) [-]
+
+    Examples
+    --------
+    >>> ppe_category_words(2), ppe_category_words(-1)
+    ('category 2', 'none applies (above 40 cal/cm2)')
+    """
+    if category is None or (isinstance(category, float) and not np.isfinite(category)):
+        return PPE_CATEGORY_WORDS[-2]
+    code = int(category)
+    return PPE_CATEGORY_WORDS.get(code, f"category {code}")

@@ -4,23 +4,15 @@ out."""
 
 from __future__ import annotations
 
-import math
-
 import numpy as np
 
+from ..models.nfpa70e import ppe_category_words
 from ..models.units import mm_to_feet_inches
 from .text import energy_text
 
-#: PPE category codes of the study tables (arcflash.models.nfpa70e.ppe_category), in words.
-PPE_WORDS = {-2: "not computed", -1: "none applies (above 40 cal/cm2)", 0: "none needed (below 1.2 cal/cm2)"}
-
-
 def ppe_words(category):
-    """A PPE category code in words: 'category 2', 'none applies (above 40 cal/cm2)', ..."""
-    if category is None or (isinstance(category, float) and not math.isfinite(category)):
-        return PPE_WORDS[-2]
-    code = int(category)
-    return PPE_WORDS.get(code, f"category {code}")
+    """A PPE category code in words (:func:`arcflash.models.nfpa70e.ppe_category_words`)."""
+    return ppe_category_words(category)
 
 
 def both_units(mm):

@@ -170,6 +170,7 @@ class TccPage(Flowable):
             canvas.setDash(list(pattern), 0) if pattern else canvas.setDash()
             canvas.line(x0, y + 2.5, x0 + 30, y + 2.5)
             canvas.setDash()
-            words = f"{device.device} ({device.kv:g} kV)" + (", energy-reducing maintenance switching on" if device.maintenance else "")
+            words = f"{device.device} ({device.kv:g} kV)"
+            words += ", energy-reducing maintenance switching on" if device.maintenance else ""
             canvas.drawString(x0 + 36, y, words)
             y -= 10

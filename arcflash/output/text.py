@@ -71,6 +71,26 @@ def _row(label, *values, width=30):
     return f"  {label:<{width}}" + "".join(f"{v:>24}" for v in values)
 
 
+def _rating_words(governing):
+    """The minimum arc rating of a governing record in words."""
+    if governing["minimum_arc_rating_cal_cm2"] is not None:
+        return f"{governing['minimum_arc_rating_cal_cm2']:.1f} cal/cm2"
+    if governing["ppe_category"] == -1:
+        return "none applies: above 40 cal/cm2 de-energize, or work only under an engineered plan"
+    if governing["ppe_category"] == 0:
+        return "none required (below 1.2 cal/cm2): non-melting natural-fibre clothing"
+    return "not computed"
+
+
+def _not_conservative(disclosures):
+    """The lines that disclose choices the user accepted that can under-state the hazard."""
+    if not disclosures:
+        return []
+    lines = ["NOT CONSERVATIVE - choices you accepted that can under-state the hazard:"]
+    lines += [textwrap.fill(d, 78, initial_indent="  ! ", subsequent_indent="    ") for d in disclosures]
+    return lines + [""]
+
+
 def equipment_report(record):
     """Render one equipment result (the dict of :func:`arcflash.cli` ``--json``).
 
@@ -120,8 +140,14 @@ def equipment_report(record):
         f"  incident energy {energy_text(gov['incident_energy_cal_cm2'], 2)} cal/cm2 "
         f"({energy_text(gov['incident_energy_j_cm2'], 2)} J/cm2) at {i['working_distance_mm']:g} mm",
         f"  arc-flash boundary {feet_inches(gov['arc_flash_boundary_mm'])}",
+        f"  PPE category: {gov['ppe_category_text']}",
+        f"  minimum arc rating of clothing: {_rating_words(gov)}",
+        f"  limited approach {gov['shock_boundaries']['limited_fixed']} fixed parts, "
+        f"{gov['shock_boundaries']['limited_movable']} movable conductors; "
+        f"restricted approach {gov['shock_boundaries']['restricted']} (NFPA 70E Table 130.4(E)(a))",
         "",
     ]
+    lines += _not_conservative(record.get("not_conservative"))
     if record["notes"]:
         lines.append("Notes")
         lines += [textwrap.fill(n, 78, initial_indent="  - ", subsequent_indent="    ") for n in record["notes"]]
@@ -197,8 +223,9 @@ def clearing_report(facility_name, scenario, table):
     return "\n".join(lines)
 
 
-def quick_report(row, notes):
-    """A quick assessment as text: currents, time, energy, boundary, PPE, shock boundaries, caution."""
+def quick_report(row, notes, not_conservative=None):
+    """A quick assessment as text: currents, time, energy, boundary, PPE, shock boundaries, the choices made
+    (conservative ones, and any the user accepted that are not), caution."""
     from ..models.nfpa70e import shock_boundary_text
 
     shock = shock_boundary_text(float(row["nominal_kv"]))
@@ -221,6 +248,7 @@ def quick_report(row, notes):
         f"  {'restricted approach':<30}{shock['restricted']}",
         "",
     ]
+    lines += _not_conservative(not_conservative)
     if notes:
         lines.append("Conservative choices made")
         lines += [textwrap.fill(n, 78, initial_indent="  - ", subsequent_indent="    ") for n in notes]

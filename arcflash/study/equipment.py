@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import math
 
-from ..models import ieee1584
+from ..models import ieee1584, nfpa70e
 from ..models.ieee1584_tables import ENCLOSED_CONFIGURATIONS, EQUIPMENT_CLASSES
 from ..models.units import j_cm2_to_cal_cm2
 from ..cautions import CAUTION
@@ -74,9 +74,54 @@ def resolve_equipment(equipment_class=None, config=None, gap_mm=None, working_di
     return values
 
 
+#: What a field tool prints when the user accepted the full-current clearing time for the reduced arcing
+#: current: on an inverse-time curve the smaller current clears later, so this can under-state the energy.
+SAME_TIME_NOT_CONSERVATIVE = (
+    "NOT CONSERVATIVE (accepted by you): the full-current clearing time was used for the reduced arcing "
+    "current. A device on an inverse-time curve clears the smaller current later, so the energy may be "
+    "higher than shown; read the reduced-current time from the device's time-current curve.")
+
+
+def reduced_clearing_time(clearing_time_s, reduced_clearing_time_s, accept_same_time):
+    """The clearing time at the reduced arcing current by the field tools' rule, and what to disclose.
+
+    The user states it, or explicitly accepts the full-current time (disclosed as not conservative);
+    anything else is refused.
+
+    Parameters
+    ----------
+    clearing_time_s : float
+        Arc duration at the full arcing current [s]
+    reduced_clearing_time_s : float or None
+        Arc duration at the reduced arcing current, if stated [s]
+    accept_same_time : bool
+        The user accepts the full-current time for the reduced current [-]
+
+    Returns
+    -------
+    tuple
+        (reduced clearing time [s], list of not-conservative disclosures)
+
+    Raises
+    ------
+    ValueError
+        Neither stated nor accepted, or both; the message names the inputs.
+    """
+    if reduced_clearing_time_s is not None and accept_same_time:
+        raise ValueError("reduced_clearing_time_s and accept_same_time: give one of them, not both")
+    if reduced_clearing_time_s is not None:
+        return float(reduced_clearing_time_s), []
+    if not accept_same_time:
+        raise ValueError(
+            "reduced_clearing_time_s: expected the clearing time at the reduced arcing current (read it from the "
+            "device's time-current curve: on an inverse curve the smaller current clears later), or "
+            "accept_same_time to use the full-current time, which is then reported as not conservative")
+    return float(clearing_time_s), [SAME_TIME_NOT_CONSERVATIVE]
+
+
 def assess_equipment(voltage_kv, bolted_ka, clearing_time_s, reduced_clearing_time_s=None, *,
                      equipment_class=None, config=None, gap_mm=None, working_distance_mm=None,
-                     height_mm=None, width_mm=None, depth_mm=None, strict=False):
+                     height_mm=None, width_mm=None, depth_mm=None, strict=False, accept_same_time=False):
     """Arc-flash result of one piece of equipment as a plain record.
 
     Parameters
@@ -88,31 +133,28 @@ def assess_equipment(voltage_kv, bolted_ka, clearing_time_s, reduced_clearing_ti
     clearing_time_s : float
         Arc duration at the full arcing current [s]
     reduced_clearing_time_s : float, optional
-        Arc duration at the reduced arcing current; when not given the full
-        duration is used and a note says so [s]
+        Arc duration at the reduced arcing current; required unless ``accept_same_time`` [s]
     equipment_class, config, gap_mm, working_distance_mm, height_mm, width_mm, depth_mm
         See :func:`resolve_equipment`.
     strict : bool
         Raise :class:`~arcflash.models.errors.ModelRangeError` instead of flagging [-]
+    accept_same_time : bool
+        Use the full-current time for the reduced current too; disclosed as not conservative [-]
 
     Returns
     -------
     dict
-        JSON-ready record: method, inputs, full_case, reduced_case, governing,
-        enclosure_correction, flags, notes, caution.
+        JSON-ready record: method, inputs, full_case, reduced_case, governing (with the PPE category in
+        words, minimum arc rating and shock approach boundaries, as the study gives them), enclosure_correction,
+        flags, notes, not_conservative, caution.
     """
     check_unit_slips(voltage_kv=voltage_kv, bolted_ka=bolted_ka, gap_mm=gap_mm,
                      working_distance_mm=working_distance_mm, height_mm=height_mm, width_mm=width_mm,
                      depth_mm=depth_mm)
     eq = resolve_equipment(equipment_class, config, gap_mm, working_distance_mm, height_mm, width_mm, depth_mm)
     notes = []
-    if reduced_clearing_time_s is None:
-        reduced_clearing_time_s = clearing_time_s
-        notes.append(
-            "No clearing time was given for the reduced arcing current; the full-current "
-            "clearing time was used. A protective device is often slower at the lower current: "
-            "read it from the device's time-current curve."
-        )
+    reduced_clearing_time_s, not_conservative = reduced_clearing_time(clearing_time_s, reduced_clearing_time_s,
+                                                                      accept_same_time)
     if eq["config"] in ENCLOSED_CONFIGURATIONS and eq["depth_mm"] is None:
         notes.append("Enclosure depth unknown: the enclosure is taken as typical (not shallow), the larger energy.")
     r = ieee1584.evaluate(
@@ -129,11 +171,23 @@ def assess_equipment(voltage_kv, bolted_ka, clearing_time_s, reduced_clearing_ti
             "arc_flash_boundary_mm": _number(boundary),
         }
 
+    energy = float(r.governing_incident_energy_cal_cm2)
+    shock = nfpa70e.shock_boundaries(voltage_kv)
+    category = int(nfpa70e.ppe_category(energy)) if math.isfinite(energy) else -2
     governing = {
         "case": "reduced" if bool(r.reduced_governs) else "full",
         "incident_energy_j_cm2": _number(r.governing_incident_energy_j_cm2),
-        "incident_energy_cal_cm2": _number(r.governing_incident_energy_cal_cm2),
+        "incident_energy_cal_cm2": _number(energy),
         "arc_flash_boundary_mm": _number(r.governing_arc_flash_boundary_mm),
+        "working_distance_mm": _number(eq["working_distance_mm"]),
+        "ppe_category": category,
+        "ppe_category_text": nfpa70e.ppe_category_words(category),
+        "minimum_arc_rating_cal_cm2": (_number(nfpa70e.minimum_arc_rating_cal_cm2(energy))
+                                       if 0 < category and math.isfinite(energy) else None),
+        "limited_approach_movable_mm": _number(shock["limited_movable_mm"]),
+        "limited_approach_fixed_mm": _number(shock["limited_fixed_mm"]),
+        "restricted_approach_mm": _number(shock["restricted_mm"]),
+        "shock_boundaries": nfpa70e.shock_boundary_text(voltage_kv),
     }
     reason = str(r.out_of_range_reason)
     return {
@@ -146,6 +200,7 @@ def assess_equipment(voltage_kv, bolted_ka, clearing_time_s, reduced_clearing_ti
         "enclosure_correction": float(r.enclosure_correction),
         "flags": [part for part in reason.split("; ") if part],
         "notes": notes,
+        "not_conservative": not_conservative,
         "caution": CAUTION,
     }
 

@@ -183,19 +183,36 @@ def quick_assessment(folder, **inputs):
     dict
         ``row`` (the study row of the equipment: currents, times, energies,
         boundaries, PPE, shock boundaries, flags), ``notes`` (the
-        conservative choices made) and ``site``.
+        conservative choices made), ``not_conservative`` (choices the user
+        accepted that can under-state the hazard) and ``site``.
+
+    Raises
+    ------
+    ValueError
+        A stated clearing time without the reduced-current time or the
+        explicit ``accept_same_time`` (see
+        :func:`arcflash.study.equipment.reduced_clearing_time`).
     """
     from .pipeline import study_rows
 
+    from .equipment import reduced_clearing_time
+
+    inputs = dict(inputs)
+    accept_same_time = inputs.pop("accept_same_time", False)
     clearing = inputs.get("clearing_time_s")
-    reduced = inputs.get("reduced_clearing_time_s")
+    not_conservative, stated = [], None
+    if inputs.get("curve") is None and clearing is not None:
+        # a stated time: the reduced-current time is stated too, or the full-current time is accepted for it
+        reduced, not_conservative = reduced_clearing_time(clearing, inputs.get("reduced_clearing_time_s"),
+                                                          accept_same_time)
+    elif accept_same_time:
+        raise ValueError("accept_same_time: only with a stated clearing time (a curve gives the reduced-current "
+                         "time itself)")
     site, notes, target = quick_site(folder, **inputs)
-    stated = None
     if inputs.get("curve") is None:
-        if reduced is None:
-            reduced = clearing
-            notes.append("no clearing time for the reduced arcing current: the full-current time used")
         stated = {target: (clearing, reduced)}
     rows = study_rows(site, stated_times=stated)
     row = rows[rows["bus"] == target].iloc[0]
-    return {"row": row, "notes": notes, "site": site}
+    if inputs.get("curve") is not None:
+        notes.append("clearing times at both arcing currents read from the device's curve (its slower edge)")
+    return {"row": row, "notes": notes, "not_conservative": not_conservative, "site": site}

@@ -55,7 +55,8 @@ def test_quick_assessment_matches_the_study(tmp_path):
 
 def test_quick_states_its_conservative_choices(tmp_path):
     result = quick_assessment(tmp_path, kva=500, primary_kv=4.16, secondary_kv=0.48, z_percent=5.0, x_over_r=5.0,
-                              equipment={"equipment_class": "switchgear-lv"}, clearing_time_s=0.2)
+                              equipment={"equipment_class": "switchgear-lv"}, clearing_time_s=0.2,
+                              reduced_clearing_time_s=0.3)
     assert any("infinite" in note for note in result["notes"])
     assert any("low side" in note for note in result["notes"])
 
@@ -65,7 +66,7 @@ def run(args):
 
 
 BASE = ["quick", "--kva", "500", "--primary-kv", "4.16", "--secondary-kv", "0.48", "--z-percent", "5",
-        "--x-over-r", "5", "--class", "switchgear-lv", "--clearing-time-s", "0.1"]
+        "--x-over-r", "5", "--class", "switchgear-lv", "--clearing-time-s", "0.1", "--reduced-clearing-time-s", "0.1"]
 
 
 def test_quick_command_text_and_json():
@@ -120,7 +121,8 @@ def test_quick_assessment_caps_the_arc_at_2_s(tmp_path):
     # The 2 s arc-duration guidance of IEEE 1584-2018 (docs/method.md; the exact clause is from memory), the same
     # cap as a facility's default: a stated 5 s clearing time is counted as 2 s, and the row says so.
     result = quick_assessment(tmp_path, kva=500, primary_kv=4.16, secondary_kv=0.48, z_percent=5.0, x_over_r=5.0,
-                              equipment={"equipment_class": "switchgear-lv"}, clearing_time_s=5.0)
+                              equipment={"equipment_class": "switchgear-lv"}, clearing_time_s=5.0,
+                              reduced_clearing_time_s=5.0)
     row = result["row"]
     assert row["clearing_time_governing_s"] == 2.0
     assert result["site"].facility.arc_duration_cap_s == 2.0
@@ -145,3 +147,41 @@ def test_briefing_category_edge_at_40_cal(tmp_path):
         write_briefing(site, "SWG-A", row, path)
         text = " ".join(" ".join(page.extract_text() for page in PdfReader(path).pages).split())
         assert expected in text, energy
+
+
+def test_quick_needs_the_equipment_class_and_lists_them():
+    k = BASE.index("--class")
+    result = run(BASE[:k] + BASE[k + 2:])
+    assert result.exit_code == 2
+    assert "--class: required" in result.output
+    for name in ("switchgear-lv", "mcc-lv-deep", "panelboard-shallow", "switchgear-15kv"):
+        assert name in result.output
+
+
+def test_quick_reduced_time_is_stated_read_from_the_curve_or_accepted_and_disclosed():
+    assert BASE[-2] == "--reduced-clearing-time-s"
+    stated_only = BASE[:-2]
+    refused = run(stated_only)
+    assert refused.exit_code == 2, refused.output
+    assert "--reduced-clearing-time-s: expected the clearing time at the reduced arcing current" in refused.output
+    accepted = run(stated_only + ["--accept-same-reduced-time"])
+    assert accepted.exit_code == 0, accepted.output
+    flat = " ".join(accepted.output.split())
+    assert "NOT CONSERVATIVE - choices you accepted" in flat and "inverse-time curve" in flat
+    # the conservative choices no longer claim the full-current time for the reduced case
+    assert "full-current time used" not in flat
+    record = json.loads(run(stated_only + ["--accept-same-reduced-time", "--json"]).output)
+    assert record["not_conservative"] and record["result"]["reduced_clearing_time_s"] == 0.1
+    assert stated_only[-2] == "--clearing-time-s"
+    curve = stated_only[:-2]
+    from_curve = run(curve + ["--library", LIBRARY, "--curve", "TM-100"])
+    assert from_curve.exit_code == 0, from_curve.output
+    assert "read from the device's curve" in " ".join(from_curve.output.split())
+    both = run(curve + ["--library", LIBRARY, "--curve", "TM-100", "--accept-same-reduced-time"])
+    assert both.exit_code == 2 and "--curve" in both.output and "--accept-same-reduced-time" in both.output
+
+
+def test_transformer_test_prints_the_limits_of_use():
+    result = run(["transformer-test", "--kva", "1500", "--primary-kv", "13.8", "--secondary-kv", "0.48",
+                  "--applied-v", "632"])
+    assert result.exit_code == 0 and "LIMITS OF USE" in result.output and "not yet verified" in result.output
