@@ -461,19 +461,34 @@ def quick(kva, primary_kv, secondary_kv, z_percent, applied_v, measured_a, x_ove
               help="Folder of an earlier 'arcflash study' run (its governing.csv); default: run the study now.")
 @click.option("--accept-stale-study", "stale_reason", default=None, metavar="REASON",
               help="Use a --study that no longer matches the site data; the reason is recorded in the ledger.")
-def briefing(site_dir, bus, out, study_dir, stale_reason):
-    """Job briefing sheet for one piece of equipment: hazard, boundaries to scale, PPE, permit blanks."""
+@click.option("--scenario", default=None,
+              help="Brief this scenario (e.g. the one with energy-reducing maintenance switching on) instead of the "
+                   "worst one; the study is run now.")
+def briefing(site_dir, bus, out, study_dir, stale_reason, scenario):
+    """Job briefing sheet for one piece of equipment: signal word, hazard, boundaries to scale from the front,
+    PPE, the clearing device, and the energized-work items (none above 40 cal/cm2)."""
     from .output.briefing import write_briefing
     from .study.pipeline import run_study
 
+    refuse_conflicts(click.get_current_context(), ["scenario"], ["study_dir"])
     site = _load(site_dir)
     if bus not in site.buses:
         raise click.UsageError(f"unknown bus {bus!r}")
-    governing = (_earlier_study(study_dir, site, stale_reason, briefing=True) if study_dir
-                 else run_study(site).governing)
-    write_atomic(out, lambda tmp: write_briefing(site, bus, governing.loc[bus], tmp))
-    _record_stale_use(governing, site, "briefing", study_dir, stale_reason, [bus])
-    click.echo(f"Job briefing sheet of {bus} written to {out}")
+    if scenario is not None:
+        try:
+            chosen = site.scenario(scenario).name
+        except KeyError as exc:
+            raise click.UsageError(f"--scenario: {exc.args[0]}") from None
+        rows = run_study(site).rows
+        row = rows[(rows["bus"] == bus) & (rows["scenario"] == chosen)].iloc[0]
+    else:
+        governing = (_earlier_study(study_dir, site, stale_reason, briefing=True) if study_dir
+                     else run_study(site).governing)
+        row = governing.loc[bus]
+    write_atomic(out, lambda tmp: write_briefing(site, bus, row, tmp))
+    if study_dir:
+        _record_stale_use(governing, site, "briefing", study_dir, stale_reason, [bus])
+    click.echo(f"Job briefing sheet of {bus} ({row['scenario']}) written to {out}")
     click.echo(CAUTION)
     click.echo(_status_words(site.path))
 

@@ -144,6 +144,9 @@ class Facility(_Element):
     arc_duration_cap_s: Positive | None = Field(
         2.0, description="Longest arc duration considered (IEEE 1584-2018 guidance: 2 s); null for none.")
     device_library: list[str] = Field([], description="Device-library YAML files (with 'curves:'), relative paths.")
+    permit_form: str | None = Field(
+        None, description="The site's own energized electrical work permit form (name or place), named on "
+                          "briefing sheets.")
     label_shows: Literal["energy", "category"] = Field(
         "energy", description="Labels show the incident energy with its working distance, or the PPE category.")
     site_ppe: list[PpeBand] = Field(

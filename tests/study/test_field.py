@@ -139,7 +139,7 @@ def test_briefing_category_edge_at_40_cal(tmp_path):
 
     site = arcflash.load_site(DEMO)
     row = run_study(site).governing.loc["SWG-A"].copy()
-    for energy, expected in ((40.0, "PPE category 4"), (40.01, "none applies")):
+    for energy, expected in ((40.0, "WARNING"), (40.01, "DANGER")):
         row["incident_energy_governing_cal_cm2"] = energy
         row["ppe_category"] = int(nfpa70e.ppe_category(energy))
         row["minimum_arc_rating_cal_cm2"] = float(nfpa70e.minimum_arc_rating_cal_cm2(energy))
@@ -147,6 +147,8 @@ def test_briefing_category_edge_at_40_cal(tmp_path):
         write_briefing(site, "SWG-A", row, path)
         text = " ".join(" ".join(page.extract_text() for page in PdfReader(path).pages).split())
         assert expected in text, energy
+        assert ("category 4" in text) == (energy == 40.0) and ("none applies (above 40 cal/cm2)" in text) == (
+            energy > 40.0)
 
 
 def test_quick_needs_the_equipment_class_and_lists_them():
