@@ -191,9 +191,22 @@ def clearing(site_dir, scenario, csv_path):
 @click.option("--tcc-bus", "tcc_buses", multiple=True, help="Bus with a TCC page in the report (repeatable).")
 @click.option("--no-report", is_flag=True, help="Write the result tables only.")
 @click.option("--quiet", is_flag=True, help="No progress bar.")
-def study(site_dir, out_dir, tcc_buses, no_report, quiet):
+@click.option("--uncertainty", "samples", type=click.IntRange(2, 100_000), default=None,
+              help="Also run this many Latin-hypercube samples of the inputs within their tolerances "
+                   "(facility.tolerances) and write uncertainty.csv and drivers.csv.")
+@click.option("--seed", type=int, default=0, help="Seed of the samples (the same seed, the same result).")
+@click.option("--workers", type=click.IntRange(1, 256), default=None,
+              help="Run the samples on a local Dask cluster of this many processes (default: in this process).")
+@click.option("--scheduler", default=None, metavar="ADDRESS",
+              help="Run the samples on an existing dask.distributed scheduler (tcp://host:8786).")
+def study(site_dir, out_dir, tcc_buses, no_report, quiet, samples, seed, workers, scheduler):
     """Run the facility study: every scenario, both arcing cases, the governing case per bus."""
     from .study.pipeline import run_study
+
+    ctx = click.get_current_context()
+    refuse_conflicts(ctx, ["workers"], ["scheduler"])
+    for name in ("workers", "scheduler"):
+        refuse_alone(ctx, name, ["samples"])
 
     site = _load(site_dir)
     unknown = [b for b in tcc_buses if b not in site.buses]
@@ -216,8 +229,37 @@ def study(site_dir, out_dir, tcc_buses, no_report, quiet):
              + drawings
              + ["study.json (what labels and briefings check their data against)"])
     click.echo(f"Results in {out_dir}: " + ", ".join(files))
+    if samples:
+        _uncertainty(site, out_dir, samples, seed, workers, scheduler, quiet)
     click.echo(CAUTION)
     click.echo(_status_words(site.path))
+
+
+def _uncertainty(site, out_dir, samples, seed, workers, scheduler, quiet):
+    """Run and write the uncertainty of a study (``study --uncertainty N``)."""
+    import math as _math
+    from pathlib import Path
+
+    from .study.uncertainty import uncertainty
+
+    chunk = 50
+    with click.progressbar(length=_math.ceil(samples / chunk), label="Sample chunks", file=sys.stderr,
+                           hidden=quiet) as bar:
+        done = [0]
+
+        def step(number):
+            bar.update(number - done[0])
+            done[0] = number
+
+        result = uncertainty(site, samples, seed, chunk_size=chunk, workers=workers, scheduler=scheduler,
+                             progress=step)
+    out = Path(out_dir)
+    write_atomic(out / "uncertainty.csv", lambda tmp: result.bands.to_csv(tmp, float_format="%.10g"))
+    write_atomic(out / "drivers.csv", lambda tmp: result.drivers.to_csv(tmp, index=False, float_format="%.6g"))
+    widest = result.bands["incident_energy_p95_cal_cm2"].idxmax()
+    click.echo(f"Uncertainty: {samples} samples of {len(result.inputs)} inputs (seed {seed}); highest P95 "
+               f"{energy_text(result.bands.loc[widest, 'incident_energy_p95_cal_cm2'])} cal/cm2 at {widest}. "
+               f"Written: uncertainty.csv, drivers.csv")
 
 
 @main.group("labels")

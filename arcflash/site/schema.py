@@ -128,6 +128,26 @@ class PpeBand(_Element):
         return self
 
 
+class Tolerances(_Element):
+    """How far each input may lie from its stated value, by kind (an element may state its own): the inputs
+    an uncertainty run (:func:`arcflash.uncertainty`) samples. Zero (or ``as_stated``) leaves an input as
+    stated."""
+
+    utility_level: Literal["between_min_and_max", "as_stated"] = Field(
+        "between_min_and_max", description="A utility's fault level anywhere between its stated minimum and "
+                                           "maximum (uniform), or as each scenario states it.")
+    transformer_z: Literal["within_tolerance", "as_stated"] = Field(
+        "within_tolerance", description="A transformer's %Z anywhere within its z_tolerance_percent (uniform), or "
+                                        "as each scenario takes it.")
+    cable_length_percent: Annotated[float, Field(ge=0, lt=100)] = Field(
+        10.0, description="Cable lengths within this many percent of the stated length (common practice for "
+                          "estimated routes; a cable may state its own length_tolerance_percent).")
+    gap_tolerance_mm: Annotated[float, Field(ge=0)] = Field(
+        0.0, description="Gaps within this many millimetres of the stated or typical gap (a bus may state its own).")
+    working_distance_tolerance_mm: Annotated[float, Field(ge=0)] = Field(
+        0.0, description="Working distances within this many millimetres (a bus may state its own).")
+
+
 class Facility(_Element):
     """Facility and study settings."""
 
@@ -155,6 +175,8 @@ class Facility(_Element):
     motor_contribution_cycles: Positive | None = Field(
         None, description="Motor fault contributions end after this many cycles while an arc is cleared; "
                           "null (default): they last the whole arc (conservative).")
+    tolerances: Tolerances = Field(default_factory=Tolerances,
+                                   description="How far inputs may lie from their stated values (uncertainty runs).")
 
     @field_validator("site_ppe", mode="before")
     @classmethod
@@ -205,6 +227,10 @@ class Bus(_Element):
     depth_mm: Positive | None = None
     arc_not_cleared_by: list[Identifier] = Field(
         [], description="Devices that do not clear an arc here (e.g. the main, for its line side).")
+    gap_tolerance_mm: Annotated[float, Field(ge=0)] | None = Field(
+        None, description="How far the gap may lie from its value [mm]; default facility.tolerances.gap_mm.")
+    working_distance_tolerance_mm: Annotated[float, Field(ge=0)] | None = Field(
+        None, description="How far the working distance may lie [mm]; default facility.tolerances.working_distance_mm.")
 
     @field_validator("equipment_class")
     @classmethod
@@ -364,6 +390,9 @@ class Cable(_Branch):
     conduit: Literal[CONDUITS] | None = None  # type: ignore[valid-type]
     r_ohm_per_kft: NonNegative | None = None
     x_ohm_per_kft: NonNegative | None = None
+    length_tolerance_percent: Annotated[float, Field(ge=0, lt=100)] | None = Field(
+        None, description="How far the length may lie from the stated one [%]; default "
+                          "facility.tolerances.cable_length_percent.")
 
     @property
     def length_ft(self):

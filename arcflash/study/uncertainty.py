@@ -1,0 +1,284 @@
+"""How sure is each number: the study run on Latin-hypercube samples of its uncertain inputs.
+
+The inputs sampled (``facility.tolerances``, an element may state its own): each utility's fault level
+between its stated minimum and maximum, each transformer's %Z within its tolerance, each cable's length
+within its tolerance, each bus's gap and working distance within theirs; every one uniform over its range.
+One Latin-hypercube design (``scipy.stats.qmc.LatinHypercube``) of all the inputs is drawn from the seed
+before any work is split, so the results are the same, bit for bit, however the samples are split into
+chunks and wherever the chunks run (in-process, a local Dask cluster, a dask.distributed scheduler).
+
+Each sample is a copy of the site with its inputs set, run through the whole study (faults, staged
+clearing, both arcing cases, the governing case over the scenarios, or in the one scenario asked for).
+Per bus: P5, P50, P95 and the largest incident energy and arc-flash boundary, the probability that the
+energy exceeds the upper edge of the plain study's PPE category (40 cal/cm² above category 4), and the
+inputs that drive the spread: the Spearman rank correlation of each input with the bus's energy (a
+global sensitivity measure that needs no special sampling design; a Sobol analysis would need its own
+design of several times as many runs).
+
+Not yet: a sample axis through the fault solve and clearing (each sample is a study of its own), motor
+running fractions and positions inside device bands as inputs.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from ..models import nfpa70e
+
+
+@dataclass(frozen=True)
+class UncertainInput:
+    """One sampled input: its name ('utilities[U1].level'), where it sits, and its range."""
+
+    name: str
+    section: str
+    ident: str
+    field: str
+    low: float
+    high: float
+    unit: str
+
+
+def uncertain_inputs(site):
+    """The inputs of ``site`` that its tolerances let vary (ranges of zero width are left out)."""
+    from .arcing import equipment_table
+
+    t = site.facility.tolerances
+    found = []
+    if t.utility_level == "between_min_and_max":
+        for u in site.utilities.values():
+            low, high = u.fault_mva("min"), u.fault_mva("max")
+            if high > low:
+                found.append(UncertainInput(f"utilities[{u.id}].level", "utilities", u.id, "level", low, high, "MVA"))
+    if t.transformer_z == "within_tolerance":
+        for x in site.transformers.values():
+            z, tol = x.z_percent_used, x.z_tolerance_percent / 100.0
+            if tol > 0:
+                found.append(UncertainInput(f"transformers[{x.id}].z_percent", "transformers", x.id, "z_percent",
+                                            z * (1 - tol), z * (1 + tol), "%"))
+    for c in site.cables.values():
+        tol = (c.length_tolerance_percent if c.length_tolerance_percent is not None
+               else t.cable_length_percent) / 100.0
+        if tol > 0:
+            found.append(UncertainInput(f"cables[{c.id}].length", "cables", c.id, "length", c.length_ft * (1 - tol),
+                                        c.length_ft * (1 + tol), "ft"))
+    equipment = equipment_table(site)
+    for ident, bus in site.buses.items():
+        for field, own, default in (("gap_mm", bus.gap_tolerance_mm, t.gap_tolerance_mm),
+                                    ("working_distance_mm", bus.working_distance_tolerance_mm,
+                                     t.working_distance_tolerance_mm)):
+            tol = own if own is not None else default
+            value = float(equipment.loc[ident, field])
+            if tol > 0:
+                low = max(value - tol, 1.0)
+                found.append(UncertainInput(f"buses[{ident}].{field}", "buses", ident, field, low, value + tol, "mm"))
+    return found
+
+
+def sample_design(inputs, samples, seed):
+    """The Latin-hypercube design: one row per sample, one column per input, in the inputs' units."""
+    from scipy.stats import qmc
+
+    if not inputs:
+        return np.zeros((samples, 0))
+    unit = qmc.LatinHypercube(d=len(inputs), seed=np.random.default_rng(seed)).random(samples)
+    low = np.array([i.low for i in inputs])
+    high = np.array([i.high for i in inputs])
+    return low + unit * (high - low)
+
+
+def _quantity(text_value, unit):
+    from ..site.schema import Quantity
+
+    quantity = Quantity(f"{text_value!r} {unit}")
+    quantity.value, quantity.unit = float(text_value), unit
+    return quantity
+
+
+def sample_site(site, inputs, values):
+    """A copy of ``site`` with each input set to its value in this sample."""
+    from .arcing import equipment_table
+
+    sections = {name: dict(getattr(site, name)) for name in ("utilities", "transformers", "cables", "buses")}
+    equipment = None
+    for item, value in zip(inputs, values):
+        element = sections[item.section][item.ident]
+        if item.section == "utilities":
+            level = element.max.model_copy(update={"fault": _quantity(float(value), "MVA")})
+            element = element.model_copy(update={"max": level, "min": level})
+        elif item.section == "transformers":
+            element = element.model_copy(update={"z_percent": float(value), "test": None, "z_tolerance_percent": 0.0})
+        elif item.section == "cables":
+            element = element.model_copy(update={"length": _quantity(float(value), "ft")})
+        else:
+            if equipment is None:
+                equipment = equipment_table(site)
+            fixed = {f: (getattr(element, f) if getattr(element, f) is not None else equipment.loc[item.ident, f])
+                     for f in ("config", "gap_mm", "working_distance_mm", "height_mm", "width_mm", "depth_mm")}
+            fixed = {k: (None if isinstance(v, float) and math.isnan(v) else v) for k, v in fixed.items()}
+            element = element.model_copy(update={**fixed, item.field: float(value)})
+        sections[item.section][item.ident] = element
+    return dataclasses.replace(site, **sections)
+
+
+def run_chunk(site, inputs, rows, scenario=None):
+    """Governing incident energy [cal/cm²], arc-flash boundary [mm] and the bolted current of that row [kA]
+    of every bus for each row of the design (arrays samples × buses, buses in the site's order)."""
+    from .arcing import equipment_table
+    from .pipeline import _finish, _scenario_rows, governing_rows
+
+    buses = list(site.buses)
+    energy = np.full((len(rows), len(buses)), np.nan)
+    boundary = np.full((len(rows), len(buses)), np.nan)
+    bolted = np.full((len(rows), len(buses)), np.nan)
+    chosen = [site.scenario(scenario)] if scenario is not None else list(site.scenarios.values())
+    for k, values in enumerate(rows):
+        sampled = sample_site(site, inputs, values)
+        equipment = equipment_table(sampled)
+        parts = [_scenario_rows(sampled, s, equipment)[0].reset_index().assign(scenario=s.name) for s in chosen]
+        governing = governing_rows(_finish(pd.concat(parts, ignore_index=True))).reindex(buses)
+        energy[k] = governing["incident_energy_governing_cal_cm2"].to_numpy(float)
+        boundary[k] = governing["arc_flash_boundary_governing_mm"].to_numpy(float)
+        bolted[k] = governing["bolted_ka"].to_numpy(float)
+    return energy, boundary, bolted
+
+
+@dataclass(frozen=True)
+class UncertaintyResult:
+    """Per bus: the band of energy and boundary, the chance of exceeding the plain study's category, the
+    drivers; and the samples themselves."""
+
+    bands: pd.DataFrame
+    drivers: pd.DataFrame
+    energy_cal_cm2: np.ndarray
+    boundary_mm: np.ndarray
+    bolted_ka: np.ndarray
+    design: np.ndarray
+    inputs: list
+
+
+def _category_edge(energy):
+    """The upper edge of the PPE category of an energy (40 cal/cm² above category 4, NaN when none)."""
+    category = int(nfpa70e.ppe_category(energy)) if np.isfinite(energy) else -2
+    edges = {0: nfpa70e.BOUNDARY_ENERGY_CAL_CM2, **nfpa70e.PPE_CATEGORY_ARC_RATING_CAL_CM2}
+    return float(edges.get(category, nfpa70e.NO_CATEGORY_ABOVE_CAL_CM2))
+
+
+def summarize(site, plain_governing, energy, boundary, design, inputs, top=3):
+    """Bands per bus and the top drivers of each bus's energy (Spearman rank correlation)."""
+    from scipy.stats import rankdata
+
+    buses = list(site.buses)
+    with np.errstate(invalid="ignore"):
+        quantiles = np.nanpercentile(energy, [5, 50, 95], axis=0)
+        bounds = np.nanpercentile(boundary, [5, 50, 95], axis=0)
+    plain = plain_governing.reindex(buses)["incident_energy_governing_cal_cm2"].to_numpy(float)
+    edge = np.array([_category_edge(e) for e in plain])
+    exceed = np.nanmean(np.where(np.isfinite(energy), energy > edge, np.nan), axis=0)
+    bands = pd.DataFrame({
+        "incident_energy_plain_cal_cm2": plain,
+        "incident_energy_p5_cal_cm2": quantiles[0], "incident_energy_p50_cal_cm2": quantiles[1],
+        "incident_energy_p95_cal_cm2": quantiles[2], "incident_energy_max_cal_cm2": np.nanmax(energy, axis=0),
+        "arc_flash_boundary_p5_mm": bounds[0], "arc_flash_boundary_p50_mm": bounds[1],
+        "arc_flash_boundary_p95_mm": bounds[2], "arc_flash_boundary_max_mm": np.nanmax(boundary, axis=0),
+        "category_edge_cal_cm2": edge, "probability_above_category_edge": exceed,
+    }, index=pd.Index(buses, name="bus"))
+    rows = []
+    if inputs and len(design) > 2:
+        ranked_inputs = rankdata(design, axis=0)
+        for b, bus in enumerate(buses):
+            column = energy[:, b]
+            if not np.isfinite(column).all() or np.ptp(column) == 0:
+                continue
+            ranked = rankdata(column)
+            rho = np.array([np.corrcoef(ranked_inputs[:, i], ranked)[0, 1] if np.ptp(design[:, i]) > 0 else 0.0
+                            for i in range(len(inputs))])
+            for i in np.argsort(-np.abs(rho))[:top]:
+                rows.append((bus, inputs[i].name, float(rho[i])))
+    drivers = pd.DataFrame(rows, columns=["bus", "input", "spearman_rho"])
+    return bands, drivers
+
+
+def uncertainty(site, samples=1000, seed=0, scenario=None, chunk_size=50, workers=None, scheduler=None,
+                progress=None):
+    """The study on ``samples`` Latin-hypercube samples of the site's uncertain inputs.
+
+    Parameters
+    ----------
+    site : Site
+    samples : int
+        Number of samples [-]
+    seed : int
+        Seed of the design: the same seed gives the same result, bit for bit, whatever the split [-]
+    scenario : str, optional
+        One scenario; default every scenario, the governing one per bus and sample [-]
+    chunk_size : int
+        Samples per task [-]
+    workers : int, optional
+        Run the chunks on a local Dask cluster of this many worker processes [-]
+    scheduler : str, optional
+        Address of an existing dask.distributed scheduler to run the chunks on [-]
+    progress : callable, optional
+        Called with the number of chunks done each time one finishes [-]
+
+    Returns
+    -------
+    UncertaintyResult
+    """
+    from .pipeline import run_study
+
+    if samples < 1:
+        raise ValueError(f"samples: expected at least 1, got {samples}")
+    inputs = uncertain_inputs(site)
+    design = sample_design(inputs, samples, seed)
+    chunks = [design[lo:lo + chunk_size] for lo in range(0, samples, chunk_size)]
+    parts = _run_chunks(site, inputs, chunks, scenario, workers, scheduler, progress)
+    energy = np.concatenate([p[0] for p in parts])
+    boundary = np.concatenate([p[1] for p in parts])
+    bolted = np.concatenate([p[2] for p in parts])
+    plain = run_study(site).governing if scenario is None else _scenario_governing(site, scenario)
+    bands, drivers = summarize(site, plain, energy, boundary, design, inputs)
+    return UncertaintyResult(bands, drivers, energy, boundary, bolted, design, inputs)
+
+
+def _scenario_governing(site, scenario):
+    from .pipeline import governing_rows, study_rows
+
+    rows = study_rows(site)
+    return governing_rows(rows[rows["scenario"] == site.scenario(scenario).name])
+
+
+def _run_chunks(site, inputs, chunks, scenario, workers, scheduler, progress):
+    """Each chunk's (energy, boundary), in order: in-process, or as Dask tasks on a cluster."""
+    if workers is None and scheduler is None:
+        parts = []
+        for number, chunk in enumerate(chunks, start=1):
+            parts.append(run_chunk(site, inputs, chunk, scenario))
+            if progress:
+                progress(number)
+        return parts
+    from distributed import Client, LocalCluster, as_completed
+
+    cluster = None if scheduler is not None else LocalCluster(n_workers=workers, threads_per_worker=1,
+                                                              processes=True, dashboard_address=None)
+    try:
+        with Client(scheduler if scheduler is not None else cluster) as client:
+            shared = client.scatter((site, inputs), broadcast=True)
+            futures = [client.submit(_chunk_task, shared, chunk, scenario, pure=False) for chunk in chunks]
+            for number, _ in enumerate(as_completed(futures), start=1):
+                if progress:
+                    progress(number)
+            return client.gather(futures)
+    finally:
+        if cluster is not None:
+            cluster.close()
+
+
+def _chunk_task(shared, chunk, scenario):
+    site, inputs = shared
+    return run_chunk(site, inputs, chunk, scenario)

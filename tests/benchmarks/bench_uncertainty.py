@@ -1,0 +1,59 @@
+"""Benchmark: uncertainty runs (issue 16: how sure is each number).
+
+Targets: 1,000 samples of the demo facility in at most 20x the time of one plain study of it; 1,000 samples
+of a synthetic 1,000-bus facility on a local Dask cluster of 2 workers at least 1.6x faster than on 1 worker
+(peak memory per worker, also a target, is not measured here yet). Ratios are taken in one run; ``--samples`` makes the runs shorter (the
+time per sample is what the targets compare: each sample is a study of its own until the sample axis
+through the fault solve lands).
+
+Run:  python tests/benchmarks/bench_uncertainty.py [--samples 40] [--buses 1000]
+"""
+
+from __future__ import annotations
+
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
+
+import arcflash  # noqa: E402
+from arcflash.study.uncertainty import uncertainty  # noqa: E402
+from tests.synthetic import synthetic_site  # noqa: E402
+
+DEMO = Path(__file__).resolve().parents[2] / "site_data" / "fenwick_ridge"
+
+
+def _argument(name, default):
+    return int(sys.argv[sys.argv.index(name) + 1]) if name in sys.argv else default
+
+
+def _timed(function):
+    start = time.perf_counter()
+    value = function()
+    return time.perf_counter() - start, value
+
+
+def main():
+    samples = _argument("--samples", 40)
+    buses = _argument("--buses", 1000)
+    site = arcflash.load_site(DEMO)
+    arcflash.run_study(site)  # warm
+    plain_s, _ = _timed(lambda: arcflash.run_study(site))
+    sampled_s, _ = _timed(lambda: uncertainty(site, samples=samples, seed=1))
+    per_1000 = sampled_s / samples * 1000
+    print(f"demo: one study {plain_s:.2f} s; {samples} samples {sampled_s:.1f} s "
+          f"({sampled_s / samples:.2f} s per sample; 1,000 samples about {per_1000:.0f} s)")
+    print(f"ratio 1,000 samples / one study: {per_1000 / plain_s:.0f}  (target at most 20)")
+    with tempfile.TemporaryDirectory() as folder:
+        big = arcflash.load_site(synthetic_site(Path(folder) / "site", buses))
+        n = max(4, samples // 10)
+        one_s, _ = _timed(lambda: uncertainty(big, samples=n, seed=1, chunk_size=2, workers=1))
+        two_s, _ = _timed(lambda: uncertainty(big, samples=n, seed=1, chunk_size=2, workers=2))
+    print(f"synthetic {buses} buses, {n} samples: 1 worker {one_s:.1f} s, 2 workers {two_s:.1f} s")
+    print(f"ratio 1 worker / 2 workers: {one_s / two_s:.2f}  (target at least 1.6)")
+
+
+if __name__ == "__main__":
+    main()
