@@ -201,6 +201,7 @@ def clearing(site_dir, scenario, csv_path):
               help="Run the samples on an existing dask.distributed scheduler (tcp://host:8786).")
 def study(site_dir, out_dir, tcc_buses, no_report, quiet, samples, seed, workers, scheduler):
     """Run the facility study: every scenario, both arcing cases, the governing case per bus."""
+    from .output.report import ONE_LINE_IN_REPORT_MAX_BUSES
     from .study.pipeline import run_study
 
     ctx = click.get_current_context()
@@ -222,8 +223,6 @@ def study(site_dir, out_dir, tcc_buses, no_report, quiet, samples, seed, workers
     click.echo(f"Study of {site.facility.name}: {len(governing)} buses, {len(site.scenarios)} scenarios.")
     click.echo(f"Highest incident energy: {energy_text(governing.loc[worst, 'incident_energy_governing_cal_cm2'])} cal/cm2 "
                f"at {worst} ({governing.loc[worst, 'scenario']}); {flagged} buses flagged.")
-    from .output.report import ONE_LINE_IN_REPORT_MAX_BUSES
-
     drawings = ["oneline.pdf"] if not no_report and len(site.buses) > ONE_LINE_IN_REPORT_MAX_BUSES else []
     files = (["results.csv", "governing.csv", "steps.csv", "results.xlsx"] + ([] if no_report else ["report.pdf"])
              + drawings
@@ -237,13 +236,12 @@ def study(site_dir, out_dir, tcc_buses, no_report, quiet, samples, seed, workers
 
 def _uncertainty(site, out_dir, samples, seed, workers, scheduler, quiet):
     """Run and write the uncertainty of a study (``study --uncertainty N``)."""
-    import math as _math
     from pathlib import Path
 
     from .study.uncertainty import uncertainty
 
     chunk = 50
-    with click.progressbar(length=_math.ceil(samples / chunk), label="Sample chunks", file=sys.stderr,
+    with click.progressbar(length=-(-samples // chunk), label="Sample chunks", file=sys.stderr,
                            hidden=quiet) as bar:
         done = [0]
 

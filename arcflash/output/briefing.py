@@ -21,7 +21,8 @@ from ..verification import status
 from .cautions import limits_with_status
 from .label_pdf import _signal
 from .labels import DANGER_ABOVE_CAL_CM2, DANGER_STATEMENT
-from .report import _ft_in, _settings, _table, flatten
+from .report import _table, flatten
+from .report_tables import both_units, device_settings_words
 from .text import energy_text
 
 _STYLES = getSampleStyleSheet()
@@ -140,7 +141,7 @@ class BoundaryPlan(Flowable):
             canvas.setDash(list(dash), 0) if dash else canvas.setDash()
             canvas.line(key_x, key_y + 2.5, key_x + 26, key_y + 2.5)
             canvas.setDash()
-            canvas.drawString(key_x + 32, key_y, f"{label}: {_ft_in(radius_mm)}")
+            canvas.drawString(key_x + 32, key_y, f"{label}: {both_units(radius_mm)}")
             key_y -= 13
         canvas.drawString(key_x, key_y - 4, "Thick line: the front face, where the exposed energized")
         canvas.drawString(key_x, key_y - 13, "parts are; the boundaries are measured from it.")
@@ -160,7 +161,7 @@ def write_briefing(site, bus, row, path):
     """
     f = site.facility
     device = row["device_governing"]
-    settings = _settings(site.devices[device]) if device in site.devices else "no protective device found"
+    settings = device_settings_words(site.devices[device]) if device in site.devices else "no protective device found"
     energy = float(row["incident_energy_governing_cal_cm2"])
     word = signal_word(energy)
     danger = word == "DANGER"
@@ -181,8 +182,8 @@ def write_briefing(site, bus, row, path):
                 "minimum arc rating"],
                [[f"{row['nominal_kv'] * 1000:g} V" if row["nominal_kv"] < 1 else f"{row['nominal_kv']:g} kV",
                  "not computed" if not math.isfinite(energy) else
-                 f"{energy_text(energy)} cal/cm2 at {_ft_in(row['working_distance_mm'])}",
-                 _ft_in(row["arc_flash_boundary_governing_mm"]), category, rating]],
+                 f"{energy_text(energy)} cal/cm2 at {both_units(row['working_distance_mm'])}",
+                 both_units(row["arc_flash_boundary_governing_mm"]), category, rating]],
                widths=[1.0, 2.0, 1.5, 1.7, 1.1]),
         Spacer(1, 4),
         _table(["governing protective device", "settings", "clearing time"],

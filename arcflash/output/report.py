@@ -14,7 +14,6 @@ faster than reportlab's own tables at tens of thousands of rows.
 
 from __future__ import annotations
 
-import io
 from xml.sax.saxutils import escape
 
 from reportlab.lib import colors
@@ -22,15 +21,15 @@ from reportlab.lib.pagesizes import letter
 from reportlab.lib.styles import getSampleStyleSheet
 from reportlab.lib.units import inch
 from reportlab.pdfgen.canvas import Canvas
-from reportlab.platypus import Image, PageBreak, Paragraph, SimpleDocTemplate, Spacer
+from reportlab.platypus import PageBreak, Paragraph, SimpleDocTemplate, Spacer
 
 from ..study.pipeline import FLAG_NOTES
 from .cautions import CAUTION
-from .report_tables import (
-    both_units, cable_rows, device_rows, device_settings_words, equipment_rows, every_case_rows, governing_rows,
-    motor_rows, scenario_rows, sources_rows, switch_rows, transformer_rows,
-)
 from .pdf_table import LongTable
+from .report_tables import (
+    cable_rows, device_rows, equipment_rows, every_case_rows, governing_rows, motor_rows, scenario_rows, sources_rows,
+    switch_rows, transformer_rows,
+)
 
 _STYLES = getSampleStyleSheet()
 _SMALL = _STYLES["BodyText"].clone("small", fontSize=7, leading=8.5)
@@ -43,11 +42,6 @@ _FOOTER = ("Limits of use: results for qualified persons only; de-energizing is 
 
 def _p(text, style=_SMALL):
     return Paragraph(escape(str(text)), style)
-
-
-def _ft_in(mm):
-    """A length in both units, rounded up (:func:`.report_tables.both_units`)."""
-    return both_units(mm)
 
 
 def flatten(story):
@@ -64,26 +58,6 @@ def _table(header, rows, widths=None):
     count = len(header)
     widths = [w * inch for w in widths] if widths else [7.3 * inch / count] * count
     return LongTable(header, rows or [["-"] * count], widths)
-
-
-def _figure(figure, width_in=7.0):
-    import matplotlib.pyplot as plt
-
-    buffer = io.BytesIO()
-    figure.savefig(buffer, format="png", dpi=130)
-    plt.close(figure)
-    buffer.seek(0)
-    w, h = figure.get_size_inches()
-    return Image(buffer, width=width_in * inch, height=width_in * inch * h / w)
-
-
-def _ppe(category):
-    return {-1: "none applies (> 40)", 0: "below 1.2 cal/cm2", -2: "-"}.get(int(category), str(int(category)))
-
-
-def _settings(device):
-    """A device's settings in words and units (:func:`.report_tables.device_settings_words`)."""
-    return device_settings_words(device)
 
 
 #: Standards and editions the study applies, and what each gives.
