@@ -20,6 +20,7 @@ from dataclasses import dataclass, field
 
 import pandas as pd
 
+from ..models.nfpa70e import ppe_category_words
 from . import ledger
 from .labels import labels_of, study_values
 
@@ -189,8 +190,7 @@ def _category(value):
 
 
 def _category_words(value):
-    return {None: "unknown", -1: "none applies (above 40 cal/cm2)", -2: "not computed", 0: "none needed"}.get(
-        value, f"category {value}")
+    return "unknown" if value is None else ppe_category_words(value)
 
 
 def _value(value):
