@@ -169,37 +169,48 @@ def _category_edge(energy):
     return float(edges.get(category, nfpa70e.NO_CATEGORY_ABOVE_CAL_CM2))
 
 
+def _standardized(columns):
+    """Columns scaled to mean 0 and (population) standard deviation 1; constant columns to 0."""
+    centred = columns - columns.mean(axis=0)
+    spread = centred.std(axis=0)
+    return np.divide(centred, spread, out=np.zeros_like(centred), where=spread > 0)
+
+
 def summarize(site, plain_governing, energy, boundary, design, inputs, top=3):
     """Bands per bus and the top drivers of each bus's energy (Spearman rank correlation)."""
     from scipy.stats import rankdata
 
+    import warnings
+
     buses = list(site.buses)
-    with np.errstate(invalid="ignore"):
-        quantiles = np.nanpercentile(energy, [5, 50, 95], axis=0)
-        bounds = np.nanpercentile(boundary, [5, 50, 95], axis=0)
     plain = plain_governing.reindex(buses)["incident_energy_governing_cal_cm2"].to_numpy(float)
     edge = np.array([_category_edge(e) for e in plain])
-    exceed = np.nanmean(np.where(np.isfinite(energy), energy > edge, np.nan), axis=0)
+    with warnings.catch_warnings():  # a bus de-energised in every sample has NaN statistics, not a warning
+        warnings.simplefilter("ignore", RuntimeWarning)
+        quantiles = np.nanpercentile(energy, [5, 50, 95], axis=0)
+        bounds = np.nanpercentile(boundary, [5, 50, 95], axis=0)
+        exceed = np.nanmean(np.where(np.isfinite(energy), energy > edge, np.nan), axis=0)
+        largest, farthest = np.nanmax(energy, axis=0), np.nanmax(boundary, axis=0)
     bands = pd.DataFrame({
         "incident_energy_plain_cal_cm2": plain,
         "incident_energy_p5_cal_cm2": quantiles[0], "incident_energy_p50_cal_cm2": quantiles[1],
-        "incident_energy_p95_cal_cm2": quantiles[2], "incident_energy_max_cal_cm2": np.nanmax(energy, axis=0),
+        "incident_energy_p95_cal_cm2": quantiles[2], "incident_energy_max_cal_cm2": largest,
         "arc_flash_boundary_p5_mm": bounds[0], "arc_flash_boundary_p50_mm": bounds[1],
-        "arc_flash_boundary_p95_mm": bounds[2], "arc_flash_boundary_max_mm": np.nanmax(boundary, axis=0),
+        "arc_flash_boundary_p95_mm": bounds[2], "arc_flash_boundary_max_mm": farthest,
         "category_edge_cal_cm2": edge, "probability_above_category_edge": exceed,
     }, index=pd.Index(buses, name="bus"))
     rows = []
     if inputs and len(design) > 2:
-        ranked_inputs = rankdata(design, axis=0)
-        for b, bus in enumerate(buses):
-            column = energy[:, b]
-            if not np.isfinite(column).all() or np.ptp(column) == 0:
-                continue
-            ranked = rankdata(column)
-            rho = np.array([np.corrcoef(ranked_inputs[:, i], ranked)[0, 1] if np.ptp(design[:, i]) > 0 else 0.0
-                            for i in range(len(inputs))])
-            for i in np.argsort(-np.abs(rho))[:top]:
-                rows.append((bus, inputs[i].name, float(rho[i])))
+        # Spearman's rho: the correlation of ranks; ranks standardized once, then one product per block of buses
+        ranked = _standardized(rankdata(design, axis=0))
+        names = [i.name for i in inputs]
+        for lo in range(0, len(buses), 512):
+            block = energy[:, lo:lo + 512]
+            usable = np.isfinite(block).all(axis=0) & (np.ptp(np.nan_to_num(block), axis=0) > 0)
+            rho = ranked.T @ _standardized(rankdata(np.nan_to_num(block), axis=0)) / len(design)
+            for j in np.flatnonzero(usable):
+                order = np.argsort(-np.abs(rho[:, j]), kind="stable")[:top]
+                rows += [(buses[lo + j], names[i], float(rho[i, j])) for i in order]
     drivers = pd.DataFrame(rows, columns=["bus", "input", "spearman_rho"])
     return bands, drivers
 

@@ -81,6 +81,13 @@ def test_one_input_against_its_closed_form(tmp_path):
         allowed = _bolted_ka(level + 400.0 / samples) - _bolted_ka(level - 400.0 / samples)
         assert np.percentile(bolted, q) == pytest.approx(_bolted_ka(level), abs=allowed)
     assert bolted.min() >= _bolted_ka(100.0) - 1e-9 and bolted.max() <= _bolted_ka(500.0) + 1e-9
+    # the driver of the bus's energy, against scipy's own Spearman correlation (an independent computation)
+    from scipy.stats import spearmanr
+
+    driver = result.drivers[result.drivers["bus"] == "LV"].iloc[0]
+    column = result.energy_cal_cm2[:, list(site.buses).index("LV")]
+    assert driver["input"] == "utilities[U].level"
+    assert driver["spearman_rho"] == pytest.approx(spearmanr(result.design[:, 0], column).statistic, abs=1e-12)
 
 
 def test_the_same_seed_gives_the_same_result_whatever_the_split(tmp_path):
