@@ -35,7 +35,7 @@ import pandas as pd
 import scipy.sparse as sp
 from scipy.sparse.csgraph import breadth_first_order
 
-from .device_bank import DeviceBank, DeviceCurve, device_curve  # noqa: F401 (re-exported)
+from .device_bank import DeviceBank, DeviceCurve, device_bank, device_curve  # noqa: F401 (re-exported)
 
 #: A path whose devices all carry less than this share of the bolted current is negligible [-].
 NEGLIGIBLE_PATH_SHARE = 0.01
@@ -199,7 +199,7 @@ def clearing_paths(site, scenario, faults):
         no_device=bare.any(axis=0), energized=reached.any(axis=0), meshed=meshed_any,
         notes=[(bare[number], f"no protective device between source {source} and this bus")
                for number, (source, _) in enumerate(sources)],
-        bank=DeviceBank(site, scenario, net.device_ids), cap_s=site.facility.arc_duration_cap_s,
+        bank=device_bank(site, scenario, net.device_ids), cap_s=site.facility.arc_duration_cap_s,
         source_bus=np.array([b for _, b in sources], dtype=np.intp),
         on_loop=non_bridge_branches(net), sources_reaching=reached.sum(axis=0), excluded=excluded_by_bus,
         line_side=line_side,

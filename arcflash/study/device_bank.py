@@ -175,8 +175,14 @@ class DeviceBank:
         """Smallest current at which each device clears within ``within_s`` (``inf``: never) [A].
 
         Bisection on the logarithm of the current: clearing times never
-        increase with current.
+        increase with current. Remembered per bank and duration (a copy is returned).
         """
+        known = self.__dict__.setdefault("_thresholds", {})
+        if within_s not in known:
+            known[within_s] = self._threshold_a(within_s)
+        return known[within_s].copy()
+
+    def _threshold_a(self, within_s):
         n = self.kind.size
         device = np.arange(n)
         lo, hi = np.full(n, -3.0), np.full(n, 8.0)  # 1 mA .. 100 MA
@@ -190,3 +196,23 @@ class DeviceBank:
 
     def _units(self, current, rows):
         return trip_unit_time_batch_s(current, self.units, rows, band="max")
+
+
+_BANKS = {}
+_BANKS_KEPT = 64
+
+
+def device_bank(site, scenario, device_ids):
+    """The :class:`DeviceBank` of a scenario, remembered: samples of an uncertainty run (and repeated studies)
+    share the site's devices, so the bank and its thresholds are built once. The key holds the identity of
+    every device, curve and setting it is built from (an element replaced in the site gives a new bank);
+    the entry keeps them alive, so no identity is reused while it is kept."""
+    maintenance = frozenset(scenario.energy_reducing_maintenance_switching)
+    parts = tuple(site.devices[d] for d in device_ids) + tuple(site.curves.values())
+    key = (tuple(device_ids), tuple(map(id, parts)), maintenance, site.facility.frequency_hz)
+    entry = _BANKS.get(key)
+    if entry is None:
+        if len(_BANKS) >= _BANKS_KEPT:
+            _BANKS.clear()
+        entry = _BANKS[key] = (parts, DeviceBank(site, scenario, device_ids))
+    return entry[1]

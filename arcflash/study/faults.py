@@ -199,10 +199,10 @@ def solve_scenario(site, scenario=None, for_clearing=False):
     net = build_network(site, chosen)
     floor = None
     if for_clearing and net.device_ids:
-        from .clearing import DeviceBank
+        from .device_bank import device_bank
 
         cap = site.facility.arc_duration_cap_s
-        floor = DeviceBank(site, chosen, net.device_ids).threshold_a(cap if cap is not None else np.inf) / 1000.0
+        floor = device_bank(site, chosen, net.device_ids).threshold_a(cap if cap is not None else np.inf) / 1000.0
     solution = solve_faults(
         net.base_kv, net.branch_from, net.branch_to, net.branch_z_pu, net.shunt_bus, net.shunt_z_pu,
         net.source_bus, net.device_branch, net.device_kv, voltage_factor=site.facility.voltage_factor,

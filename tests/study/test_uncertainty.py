@@ -133,3 +133,24 @@ def test_study_command_writes_the_bands_and_drivers(tmp_path):
     assert "utilities[U].level" in drivers
     alone = runner.invoke(main, ["study", str(site.path), "--out", str(tmp_path / "x"), "--workers", "2"])
     assert alone.exit_code == 2 and "--workers needs --uncertainty" in alone.output
+
+
+def test_a_remembered_device_bank_follows_the_site_it_was_built_from():
+    # the bank (device curves and their clearing thresholds) is shared by the samples of a run; a device
+    # replaced in the site gives a bank of its own
+    from arcflash.study.device_bank import device_bank
+
+    site = arcflash.load_site(DEMO)
+    scenario = site.scenarios["normal"]
+    ids = list(site.devices)
+    first = device_bank(site, scenario, ids)
+    assert device_bank(site, scenario, ids) is first
+    assert device_bank(site, site.scenarios["maintenance-a"], ids) is not first
+    changed = dict(site.devices)
+    unit = changed["FDR-A2"].trip_unit.model_copy(update={"instantaneous_pickup": 40.0})
+    changed["FDR-A2"] = changed["FDR-A2"].model_copy(update={"trip_unit": unit})
+    other = type(site)(**{**site.__dict__, "devices": changed})
+    again = device_bank(other, scenario, ids)
+    assert again is not first
+    k = ids.index("FDR-A2")
+    assert again.threshold_a(0.05)[k] > first.threshold_a(0.05)[k]  # a higher instantaneous pickup
