@@ -215,8 +215,14 @@ def study(site_dir, out_dir, tcc_buses, no_report, quiet, samples, seed, workers
         raise click.UsageError(f"--tcc-bus: unknown bus {unknown[0]!r}")
     with click.progressbar(length=len(site.scenarios), label="Scenarios", file=sys.stderr,
                            hidden=quiet) as bar:
-        results = run_study(site, out_dir, progress=lambda name: bar.update(1), report=not no_report,
-                            tcc_buses=list(tcc_buses) or None)
+        results = run_study(site, None if samples else out_dir, progress=lambda name: bar.update(1),
+                            report=not no_report, tcc_buses=list(tcc_buses) or None)
+    if samples:  # the bands go into the tables and the report: run them before writing
+        from .output.results import write_results
+
+        result = _uncertainty(site, results.governing, samples, seed, workers, scheduler, quiet)
+        write_results(site, results, out_dir, report=not no_report, tcc_buses=list(tcc_buses) or None,
+                      uncertainty=result)
     governing = results.governing
     worst = governing["incident_energy_governing_cal_cm2"].idxmax()
     flagged = int((governing["flags"] != "").sum())
@@ -227,17 +233,17 @@ def study(site_dir, out_dir, tcc_buses, no_report, quiet, samples, seed, workers
     files = (["results.csv", "governing.csv", "steps.csv", "results.xlsx"] + ([] if no_report else ["report.pdf"])
              + drawings
              + ["study.json (what labels and briefings check their data against)"])
-    click.echo(f"Results in {out_dir}: " + ", ".join(files))
+    click.echo(f"Results in {out_dir}: " + ", ".join(files + (["uncertainty.csv", "drivers.csv"] if samples else [])))
     if samples:
-        _uncertainty(site, out_dir, samples, seed, workers, scheduler, quiet)
+        widest = result.bands["incident_energy_p95_cal_cm2"].idxmax()
+        click.echo(f"Uncertainty: {samples} samples of {len(result.inputs)} inputs (seed {seed}); highest P95 "
+                   f"{energy_text(result.bands.loc[widest, 'incident_energy_p95_cal_cm2'])} cal/cm2 at {widest}.")
     click.echo(CAUTION)
     click.echo(_status_words(site.path))
 
 
-def _uncertainty(site, out_dir, samples, seed, workers, scheduler, quiet):
-    """Run and write the uncertainty of a study (``study --uncertainty N``)."""
-    from pathlib import Path
-
+def _uncertainty(site, governing, samples, seed, workers, scheduler, quiet):
+    """The uncertainty run of ``study --uncertainty N``, with a progress bar of chunks."""
     from .study.uncertainty import uncertainty
 
     chunk = 50
@@ -249,15 +255,8 @@ def _uncertainty(site, out_dir, samples, seed, workers, scheduler, quiet):
             bar.update(number - done[0])
             done[0] = number
 
-        result = uncertainty(site, samples, seed, chunk_size=chunk, workers=workers, scheduler=scheduler,
-                             progress=step)
-    out = Path(out_dir)
-    write_atomic(out / "uncertainty.csv", lambda tmp: result.bands.to_csv(tmp, float_format="%.10g"))
-    write_atomic(out / "drivers.csv", lambda tmp: result.drivers.to_csv(tmp, index=False, float_format="%.6g"))
-    widest = result.bands["incident_energy_p95_cal_cm2"].idxmax()
-    click.echo(f"Uncertainty: {samples} samples of {len(result.inputs)} inputs (seed {seed}); highest P95 "
-               f"{energy_text(result.bands.loc[widest, 'incident_energy_p95_cal_cm2'])} cal/cm2 at {widest}. "
-               f"Written: uncertainty.csv, drivers.csv")
+        return uncertainty(site, samples, seed, chunk_size=chunk, workers=workers, scheduler=scheduler,
+                           progress=step, plain=governing)
 
 
 @main.group("labels")

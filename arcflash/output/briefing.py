@@ -205,7 +205,8 @@ def write_briefing(site, bus, row, path):
                          widths=[3.0, 4.3])]
     story += [Spacer(1, 6), Paragraph(escape(limits_with_status(status(getattr(site, "path", None)).words)), _BODY)]
     SimpleDocTemplate(str(path), pagesize=letter, leftMargin=0.6 * inch, rightMargin=0.6 * inch,
-                      topMargin=0.5 * inch, bottomMargin=0.5 * inch, title=f"Job briefing - {bus}").build(flatten(story))
+                      topMargin=0.5 * inch, bottomMargin=0.5 * inch,
+                      title=f"Job briefing - {bus}").build(flatten(story))
     plan = next(item for item in story if isinstance(item, BoundaryPlan))
     x, y, scale = plan.front
     return {"front_x_pt": x, "front_y_pt": y, "points_per_mm": scale}

@@ -1,6 +1,7 @@
 """The one-line diagram of the report, drawn as vector graphics in neutral colours and split into sheets.
 
-Layout: the site's buses as a tree from its sources, each bus a bar at its depth; a bus stands in the column of its first child, so every column holds one branch drop per row band
+Layout: the site's buses as a tree from its sources, each bus a bar at its depth; a bus stands in the
+column of its first child, so every column holds one branch drop per row band
 and every label has its own column. A branch drops vertically from its parent's bar to its child's, with
 its symbols on the drop: the protective device at either end (IEEE 315 / IEC 60617 style: circuit breaker
 as a square, fuse as a rectangle crossed by the line), a transformer as two overlapping circles, a switch

@@ -172,7 +172,7 @@ def _results(site, results):
     return story
 
 
-def write_report(site, results, path, tcc_buses=None, model=None):
+def write_report(site, results, path, tcc_buses=None, model=None, uncertainty=None):
     """Write the study report PDF to ``path``.
 
     Parameters
@@ -185,6 +185,8 @@ def write_report(site, results, path, tcc_buses=None, model=None):
     model : arcflash.verification.VerificationStatus, optional
         The model's verification status (default: looked up for the site). It stands on the cover and in
         every page's footer; a draft is watermarked on every page.
+    uncertainty : arcflash.study.uncertainty.UncertaintyResult, optional
+        Adds the pages of the bands per bus and their drivers.
     """
     from ..verification import status
 
@@ -210,6 +212,11 @@ def write_report(site, results, path, tcc_buses=None, model=None):
              Paragraph(escape(CAUTION), _BODY), PageBreak()]
     story += _method(site, governing) + [PageBreak()] + _inputs(site, governing) + [PageBreak()]
     story += _results(site, results)
+    if uncertainty is not None:
+        from .uncertainty_pdf import uncertainty_story
+
+        story += uncertainty_story(uncertainty, uncertainty.samples, uncertainty.seed, (_STYLES["Heading2"], _BODY),
+                                   _table)
     if len(site.buses) <= ONE_LINE_IN_REPORT_MAX_BUSES:
         story += oneline_story(site)
     else:

@@ -113,10 +113,13 @@ def write_xlsx_tables(path, site, results, governing, steps, model=None):
 STUDY_RECORD = "study.json"
 
 
-def write_results(site, results, out_dir, report=True, tcc_buses=None):
+def write_results(site, results, out_dir, report=True, tcc_buses=None, uncertainty=None):
     """Write ``results.csv`` (every bus × scenario), ``governing.csv``, ``steps.csv`` (device openings of
     arcs followed stage by stage), ``results.xlsx``, ``report.pdf`` and, last, ``study.json`` (the
     fingerprint of the site data and the hash of governing.csv, see :mod:`arcflash.site.fingerprint`).
+
+    With ``uncertainty`` (:func:`arcflash.uncertainty`): ``uncertainty.csv`` and ``drivers.csv``, the
+    percentile columns in the governing table, and the report's pages of the bands.
 
     Returns
     -------
@@ -128,6 +131,11 @@ def write_results(site, results, out_dir, report=True, tcc_buses=None):
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
     governing = governing_table(results)
+    if uncertainty is not None:  # the bands beside each bus's governing row, and their own files
+        governing = governing.join(uncertainty.bands.drop(columns=["incident_energy_plain_cal_cm2"]))
+        write_atomic(out / "uncertainty.csv", lambda tmp: uncertainty.bands.to_csv(tmp, float_format="%.10g"))
+        write_atomic(out / "drivers.csv", lambda tmp: uncertainty.drivers.to_csv(tmp, index=False,
+                                                                                 float_format="%.6g"))
     model = status(getattr(site, "path", None))
     paths = {"results.csv": out / "results.csv", "governing.csv": out / "governing.csv",
              "steps.csv": out / "steps.csv", "results.xlsx": out / "results.xlsx"}
@@ -139,7 +147,7 @@ def write_results(site, results, out_dir, report=True, tcc_buses=None):
 
         paths["report.pdf"] = out / "report.pdf"
         write_atomic(paths["report.pdf"], lambda tmp: write_report(site, results, tmp, tcc_buses=tcc_buses,
-                                                                         model=model))
+                                                                         model=model, uncertainty=uncertainty))
         if len(site.buses) > ONE_LINE_IN_REPORT_MAX_BUSES:
             paths["oneline.pdf"] = out / "oneline.pdf"
             write_atomic(paths["oneline.pdf"], lambda tmp: write_oneline(site, tmp, model))

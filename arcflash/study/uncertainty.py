@@ -160,6 +160,8 @@ class UncertaintyResult:
     bolted_ka: np.ndarray
     design: np.ndarray
     inputs: list
+    samples: int = 0
+    seed: int = 0
 
 
 def _category_edge(energy):
@@ -216,7 +218,7 @@ def summarize(site, plain_governing, energy, boundary, design, inputs, top=3):
 
 
 def uncertainty(site, samples=1000, seed=0, scenario=None, chunk_size=50, workers=None, scheduler=None,
-                progress=None):
+                progress=None, plain=None):
     """The study on ``samples`` Latin-hypercube samples of the site's uncertain inputs.
 
     Parameters
@@ -236,6 +238,8 @@ def uncertainty(site, samples=1000, seed=0, scenario=None, chunk_size=50, worker
         Address of an existing dask.distributed scheduler to run the chunks on [-]
     progress : callable, optional
         Called with the number of chunks done each time one finishes [-]
+    plain : pandas.DataFrame, optional
+        The plain study's governing rows when already at hand (every scenario) [-]
 
     Returns
     -------
@@ -252,9 +256,12 @@ def uncertainty(site, samples=1000, seed=0, scenario=None, chunk_size=50, worker
     energy = np.concatenate([p[0] for p in parts])
     boundary = np.concatenate([p[1] for p in parts])
     bolted = np.concatenate([p[2] for p in parts])
-    plain = run_study(site).governing if scenario is None else _scenario_governing(site, scenario)
+    if scenario is not None:
+        plain = _scenario_governing(site, scenario)
+    elif plain is None:
+        plain = run_study(site).governing
     bands, drivers = summarize(site, plain, energy, boundary, design, inputs)
-    return UncertaintyResult(bands, drivers, energy, boundary, bolted, design, inputs)
+    return UncertaintyResult(bands, drivers, energy, boundary, bolted, design, inputs, samples, seed)
 
 
 def _scenario_governing(site, scenario):

@@ -123,9 +123,16 @@ def test_widening_a_tolerance_never_narrows_a_band(tmp_path, narrow, wide):
 def test_study_command_writes_the_bands_and_drivers(tmp_path):
     runner = CliRunner()
     site = _small(tmp_path)
-    result = runner.invoke(main, ["study", str(site.path), "--out", str(tmp_path / "out"), "--no-report", "--quiet",
+    result = runner.invoke(main, ["study", str(site.path), "--out", str(tmp_path / "out"), "--quiet",
                                   "--uncertainty", "8", "--seed", "2"])
     assert result.exit_code == 0, result.output
+    from pypdf import PdfReader
+
+    report = " ".join(" ".join(p.extract_text() for p in PdfReader(tmp_path / "out" / "report.pdf").pages).split())
+    assert "How sure is each number" in report and "8 Latin-hypercube samples (seed 2)" in report
+    assert "utilities[U].level (+1.00)" in report
+    governing = (tmp_path / "out" / "governing.csv").read_text(encoding="utf-8").splitlines()[0]
+    assert "incident_energy_p95_cal_cm2" in governing and "probability_above_category_edge" in governing
     assert "Uncertainty: 8 samples of 1 inputs (seed 2)" in result.output
     bands = (tmp_path / "out" / "uncertainty.csv").read_text(encoding="utf-8")
     assert "incident_energy_p95_cal_cm2" in bands and "probability_above_category_edge" in bands
