@@ -20,8 +20,7 @@ import numpy as np
 import yaml
 
 from ..models.nfpa70e import BOUNDARY_ENERGY_CAL_CM2, NO_CATEGORY_ABOVE_CAL_CM2, shock_boundary_text
-from ..models.units import mm_to_feet_inches
-from .text import energy_text
+from .text import energy_text, length_text
 
 #: Energies above this get the DANGER panel: no PPE category applies there (NFPA 70E Table
 #: 130.7(C)(15)(c): category 4 PPE has a minimum arc rating of 40 cal/cm², so it covers exactly
@@ -91,15 +90,6 @@ class LabelContent:
     def qr_payload(self):
         """What the QR code holds: equipment id, study revision and content hash."""
         return f"arcflash-label|{self.equipment_id}|{self.study_revision}|{self.content_hash}"
-
-
-def _length(mm):
-    """A length in millimetres and in feet and inches, both from the same value, both rounded up (one rule:
-    a printed length is never shorter than the computed one)."""
-    if mm is None or not np.isfinite(mm):
-        return "not computed"
-    feet, inches = mm_to_feet_inches(mm)
-    return f"{np.ceil(mm - 1e-9):,.0f} mm / {int(feet)} ft {int(inches)} in"
 
 
 def _site_ppe(bands, energy, rating, bus):
@@ -229,7 +219,7 @@ def label_content(site, bus, row, shows=None, model_status=None):
     shock = shock_boundary_text(float(row["nominal_kv"]))
     known = np.isfinite(energy)
     danger = known and energy > DANGER_ABOVE_CAL_CM2
-    at_distance = f"{energy_text(energy)} cal/cm2 at {_length(float(row['working_distance_mm']))}"
+    at_distance = f"{energy_text(energy)} cal/cm2 at {length_text(float(row['working_distance_mm']))}"
     rating = "not applicable"
     if danger:
         hazard = DANGER_STATEMENT
@@ -252,7 +242,7 @@ def label_content(site, bus, row, shows=None, model_status=None):
         signal_word="DANGER" if danger or not known else "WARNING",
         hazard=hazard,
         nominal_voltage=_voltage(float(row["nominal_kv"])),
-        arc_flash_boundary=_length(float(row["arc_flash_boundary_governing_mm"])),
+        arc_flash_boundary=length_text(float(row["arc_flash_boundary_governing_mm"])),
         shows=shows,
         energy_or_category=shown,
         minimum_arc_rating=rating,

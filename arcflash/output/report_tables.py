@@ -8,7 +8,7 @@ import numpy as np
 
 from ..models.nfpa70e import ppe_category_words
 from ..models.units import mm_to_feet_inches
-from .text import energy_text
+from .text import energy_text, length_text
 
 def ppe_words(category):
     """A PPE category code in words (:func:`arcflash.models.nfpa70e.ppe_category_words`)."""
@@ -16,11 +16,9 @@ def ppe_words(category):
 
 
 def both_units(mm):
-    """A length in millimetres and in feet and inches, both rounded up ('1,067 mm / 3 ft 6 in')."""
-    if mm is None or not np.isfinite(mm):
-        return "-"
-    feet, inches = mm_to_feet_inches(mm)
-    return f"{np.ceil(mm - 1e-9):,.0f} mm / {int(feet)} ft {int(inches)} in"
+    """A length in both units, both rounded up ('1,067 mm / 3 ft 6 in'), '-' when missing
+    (:func:`.text.length_text`)."""
+    return length_text(mm, "-")
 
 
 def lengths_in_both_units(values_mm):

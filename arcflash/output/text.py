@@ -10,6 +10,28 @@ from ..models.units import mm_to_feet_inches
 from .cautions import CAUTION
 
 
+def length_text(length_mm, missing="not computed"):
+    """A length in millimetres and in feet and inches, both from the same value, both rounded up (one rule:
+    a printed length is never shorter than the computed one).
+
+    Parameters
+    ----------
+    length_mm : float or None
+        The length [mm]
+    missing : str
+        What a missing length (None or NaN) prints as [-]
+
+    Examples
+    --------
+    >>> length_text(457.2), length_text(1066.8), length_text(None, "-")
+    ('458 mm / 1 ft 6 in', '1,067 mm / 3 ft 6 in', '-')
+    """
+    if length_mm is None or not math.isfinite(length_mm):
+        return missing
+    feet, inches = mm_to_feet_inches(length_mm)
+    return f"{math.ceil(length_mm - 1e-9):,.0f} mm / {int(feet)} ft {int(inches)} in"
+
+
 def energy_text(incident_energy_cal_cm2, decimals=1):
     """An incident energy rounded **up** to the given decimals: the printed value is never below the computed one.
 
