@@ -69,7 +69,7 @@ def cell_lines(text, width_pt, font=FONT):
     return lines or [""]
 
 
-class LongTable(Flowable):
+class RowTable(Flowable):
     """A table of text cells with fixed column widths, split by whole rows, header repeated on each page.
 
     Parameters
@@ -123,8 +123,8 @@ class LongTable(Flowable):
             return []  # not even one row fits: the table starts on the next page
         if cut == stop:
             return [self]
-        return [LongTable(None, None, self.widths, self.laid, (start, cut)),
-                LongTable(None, None, self.widths, self.laid, (cut, stop))]
+        return [RowTable(None, None, self.widths, self.laid, (start, cut)),
+                RowTable(None, None, self.widths, self.laid, (cut, stop))]
 
     def draw(self):
         canvas = self.canv

@@ -8,7 +8,7 @@ results (the governing row of every bus, every scenario and case, study notes, f
 TCC plots; limits of use. Every page's footer carries the limits of use, the revision, the verification
 status and 'page x of y'; a draft (tables not verified) is watermarked.
 
-Tables are :class:`.pdf_table.LongTable`: cells broken into lines here and drawn as PDF operators, far
+Tables are :class:`.pdf_table.RowTable`: cells broken into lines here and drawn as PDF operators, far
 faster than reportlab's own tables at tens of thousands of rows.
 """
 
@@ -25,7 +25,7 @@ from reportlab.platypus import PageBreak, Paragraph, SimpleDocTemplate, Spacer
 
 from ..study.pipeline import FLAG_NOTES
 from .cautions import CAUTION
-from .pdf_table import LongTable
+from .pdf_table import RowTable
 from .report_tables import (
     cable_rows, device_rows, equipment_rows, every_case_rows, governing_rows, motor_rows, scenario_rows, sources_rows,
     switch_rows, transformer_rows,
@@ -53,11 +53,11 @@ def flatten(story):
 
 
 def _table(header, rows, widths=None):
-    """A table of text cells broken to their column widths (:class:`.pdf_table.LongTable`, split between
+    """A table of text cells broken to their column widths (:class:`.pdf_table.RowTable`, split between
     pages by whole rows); ``widths`` in inches, default equal shares of the text width."""
     count = len(header)
     widths = [w * inch for w in widths] if widths else [7.3 * inch / count] * count
-    return LongTable(header, rows or [["-"] * count], widths)
+    return RowTable(header, rows or [["-"] * count], widths)
 
 
 #: Standards and editions the study applies, and what each gives.
