@@ -14,6 +14,7 @@ with reportlab's canvas instead.
 from __future__ import annotations
 
 import datetime as dt
+import functools
 import zlib
 
 from reportlab.pdfbase.pdfmetrics import stringWidth
@@ -35,22 +36,23 @@ _DEFLATE_LEVEL = 3
 _REUSED = {}
 _REUSED_KEPT = 256
 
+@functools.lru_cache(maxsize=65536)
 def _string(text):
+    """A PDF literal string of ``text`` in WinAnsiEncoding, as ASCII text (other bytes as octal escapes),
+    remembered (label texts repeat from label to label); UnicodeEncodeError outside cp1252."""
     if text.isascii() and text.isprintable():  # the usual case: printable ASCII, only \ ( ) to escape
-        raw = text.encode("ascii")
-        if b"\\" in raw or b"(" in raw or b")" in raw:
-            raw = raw.replace(b"\\", b"\\\\").replace(b"(", b"\\(").replace(b")", b"\\)")
-        return b"(" + raw + b")"
-    raw = text.encode("cp1252")
-    out = bytearray(b"(")
-    for byte in raw:
+        if "\\" in text or "(" in text or ")" in text:
+            text = text.replace("\\", "\\\\").replace("(", "\\(").replace(")", "\\)")
+        return "(" + text + ")"
+    out = ["("]
+    for byte in text.encode("cp1252"):
         if byte in b"()\\":
-            out += b"\\" + bytes([byte])
+            out.append("\\" + chr(byte))
         elif byte < 32 or byte > 126:
-            out += f"\\{byte:03o}".encode("ascii")
+            out.append(f"\\{byte:03o}")
         else:
-            out.append(byte)
-    return bytes(out + b")")
+            out.append(chr(byte))
+    return "".join(out) + ")"
 
 
 def _rgb(color):
@@ -103,7 +105,7 @@ class LiteCanvas:
 
     def drawString(self, x, y, text):  # noqa: N802
         font, size = self.font
-        self.ops.append(b"BT /%s %.3f Tf %.3f %.3f Td %s Tj ET" % (font.encode("ascii"), size, x, y, _string(text)))
+        self.ops.append("BT /%s %.3f Tf %.3f %.3f Td %s Tj ET" % (font, size, x, y, _string(text)))
 
     def drawCentredString(self, x, y, text):  # noqa: N802
         name = next(k for k, v in _FONTS.items() if v == self.font[0])
@@ -173,8 +175,7 @@ class LiteCanvas:
         tree = add("")
         kids = []
         for ops in self.pages:
-            content = zlib.compress(b"\n".join(op if isinstance(op, bytes) else op.encode("ascii") for op in ops),
-                                    _DEFLATE_LEVEL)
+            content = zlib.compress("\n".join(ops).encode("ascii"), _DEFLATE_LEVEL)
             stream = add(f"<< /Length {len(content)} /Filter /FlateDecode >>\nstream\n".encode("ascii")
                          + content + b"\nendstream")
             kids.append(add(f"<< /Type /Page /Parent {tree} 0 R /MediaBox [0 0 {_number(self.width)} "
@@ -183,8 +184,7 @@ class LiteCanvas:
                              f"/Count {len(kids)} >>").encode("ascii")
         objects[catalog - 1] = f"<< /Type /Catalog /Pages {tree} 0 R >>".encode("ascii")
         stamp = dt.datetime.now(dt.timezone.utc).strftime("D:%Y%m%d%H%M%SZ")
-        info = add(b"<< /Title " + _string(self.title) + f" /Producer (arcflash) /CreationDate ({stamp}) >>"
-                   .encode("ascii"))
+        info = add(f"<< /Title {_string(self.title)} /Producer (arcflash) /CreationDate ({stamp}) >>")
         out = bytearray(b"%PDF-1.4\n%\xe2\xe3\xcf\xd3\n")
         offsets = []
         for number, body in enumerate(objects, start=1):

@@ -149,7 +149,7 @@ class RowTable(Flowable):
                         text = strings.get(line)
                         if text is None:
                             try:
-                                text = strings[line] = _string(line).decode("latin-1")
+                                text = strings[line] = _string(line)
                             except UnicodeEncodeError:
                                 fallback.append((lefts[column] + PAD_X, y, line, BOLD if offset else FONT))
                                 y -= LEADING_PT
