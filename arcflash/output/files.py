@@ -3,9 +3,30 @@
 from __future__ import annotations
 
 import contextlib
+import itertools
 import os
 import tempfile
 from pathlib import Path
+
+
+_NUMBERS = itertools.count()
+
+
+def _create_beside(path):
+    """Create a new temporary file in ``path``'s folder, ``.<name>.<process>-<number>.part<suffix>``, with
+    the usual mode of a new file (0666 less the umask, as the final file gets); (handle, name)."""
+    for _ in range(1000):
+        temporary = os.path.join(path.parent, f".{path.stem}.{os.getpid()}-{next(_NUMBERS)}.part{path.suffix}")
+        try:
+            return os.open(temporary, os.O_WRONLY | os.O_CREAT | os.O_EXCL | getattr(os, "O_BINARY", 0), 0o666), \
+                temporary
+        except FileExistsError:  # left by an earlier process of the same number: take the next
+            continue
+    handle, temporary = tempfile.mkstemp(prefix=f".{path.stem}.", suffix=f".part{path.suffix}", dir=path.parent)
+    umask = os.umask(0)
+    os.umask(umask)
+    os.chmod(temporary, 0o666 & ~umask)  # mkstemp makes the file private; give it the usual mode
+    return handle, temporary
 
 
 @contextlib.contextmanager
@@ -14,14 +35,11 @@ def _beside(path):
     without an error; otherwise removed. Errors name ``path``, never the temporary file."""
     try:
         path.parent.mkdir(parents=True, exist_ok=True)
-        handle, temporary = tempfile.mkstemp(prefix=f".{path.stem}.", suffix=f".part{path.suffix}", dir=path.parent)
+        handle, temporary = _create_beside(path)
     except OSError as exc:  # name the file the user asked for, not a temporary one
         raise OSError(exc.errno, exc.strerror, str(path)) from exc
     try:
         yield handle, temporary
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(temporary, 0o666 & ~umask)  # mkstemp makes the file private; give it the usual mode
         os.replace(temporary, path)
     except BaseException as exc:
         if os.path.exists(temporary):
