@@ -20,7 +20,7 @@ from ..models.nfpa70e import ppe_category_words
 from ..verification import status
 from .cautions import limits_with_status
 from .label_pdf import _signal
-from .labels import DANGER_ABOVE_CAL_CM2, DANGER_STATEMENT
+from .labels import DANGER_STATEMENT, signal_word
 from .report import _table, flatten
 from .report_tables import both_units, device_settings_words
 from .text import energy_text
@@ -50,11 +50,6 @@ NO_PERMIT_ABOVE_40 = ("No energized work under a PPE category: above 40 cal/cm2 
 
 #: Assumed plan size of equipment whose enclosure is not known (a common section) [mm].
 _UNKNOWN_SIZE_MM = 600.0
-
-
-def signal_word(energy_cal_cm2):
-    """The label's signal word for an energy: DANGER above 40 cal/cm² or when not computed, else WARNING."""
-    return "WARNING" if np.isfinite(energy_cal_cm2) and energy_cal_cm2 <= DANGER_ABOVE_CAL_CM2 else "DANGER"
 
 
 class SignalBanner(Flowable):

@@ -92,6 +92,13 @@ class LabelContent:
         return f"arcflash-label|{self.equipment_id}|{self.study_revision}|{self.content_hash}"
 
 
+def signal_word(energy_cal_cm2):
+    """The signal word for an incident energy: DANGER above 40 cal/cm² (no PPE category applies) or when not
+    computed, WARNING otherwise (ANSI Z535.4 words; the edge of :data:`DANGER_ABOVE_CAL_CM2`)."""
+    known = energy_cal_cm2 is not None and np.isfinite(energy_cal_cm2)
+    return "WARNING" if known and energy_cal_cm2 <= DANGER_ABOVE_CAL_CM2 else "DANGER"
+
+
 def _site_ppe(bands, energy, rating, bus):
     """The text of the first site PPE band covering ``energy``; ValueError if none does or it is under-rated."""
     if not bands:
@@ -239,7 +246,7 @@ def label_content(site, bus, row, shows=None, model_status=None):
     return LabelContent(
         equipment_id=str(bus),
         description=site.buses[bus].description,
-        signal_word="DANGER" if danger or not known else "WARNING",
+        signal_word=signal_word(energy),
         hazard=hazard,
         nominal_voltage=_voltage(float(row["nominal_kv"])),
         arc_flash_boundary=length_text(float(row["arc_flash_boundary_governing_mm"])),

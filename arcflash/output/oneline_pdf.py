@@ -24,6 +24,7 @@ from reportlab.lib.units import inch
 from reportlab.platypus import Flowable
 
 from .pdf_table import text_width
+from .text_wrap import wrap
 
 #: Column width and row height of the grid [pt]; columns and bus rows per sheet.
 COLUMN_PT, ROW_PT = 74.0, 80.0
@@ -157,22 +158,15 @@ class OneLineSheet(Flowable):
         return x, y
 
     def _text(self, x, y, text, bold=False, limit=COLUMN_PT - 10.0):
-        """Draw ``text`` at (x, y), in at most two lines within ``limit`` points; record its box."""
-        font = _BOLD if bold else _FONT
-        lines = [text]
-        if text_width(text, font, _SIZE) > limit:
-            words, lines = text.split(" "), [""]
-            for word in words:
-                trial = (lines[-1] + " " + word).strip()
-                if text_width(trial, font, _SIZE) <= limit or not lines[-1]:
-                    lines[-1] = trial
-                else:
-                    lines.append(word)
-        size = _SIZE
-        while max(text_width(line, font, size) for line in lines) > limit and size > 4.5:
+        """Draw ``text`` at (x, y) within ``limit`` points: broken at spaces, made smaller (not below 4.5 pt)
+        until it takes at most two lines that fit; never cut. Record each line's box."""
+        font, size = (_BOLD if bold else _FONT), _SIZE
+        lines = wrap(text, font, size, limit)
+        while (len(lines) > 2 or max(text_width(line, font, size) for line in lines) > limit) and size > 4.5:
             size -= 0.25
+            lines = wrap(text, font, size, limit)
         self.canv.setFont(font, size)
-        for number, line in enumerate(lines[:2]):
+        for number, line in enumerate(lines):
             self.canv.drawString(x, y - number * (size + 1), line)
             width = text_width(line, font, size)
             self.placed.append(TextBox(line, (x, y - number * (size + 1) - 0.22 * size, x + width,

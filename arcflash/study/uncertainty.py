@@ -164,11 +164,14 @@ class UncertaintyResult:
     seed: int = 0
 
 
-def _category_edge(energy):
-    """The upper edge of the PPE category of an energy (40 cal/cm² above category 4, NaN when none)."""
-    category = int(nfpa70e.ppe_category(energy)) if np.isfinite(energy) else -2
+def _category_edges(energy):
+    """The upper edge of the PPE category of each energy [cal/cm²]: 1.2 below category 1, the category's
+    arc rating for 1 to 4, and 40 above category 4 or where the plain study computed none."""
+    energy = np.asarray(energy, dtype=float)
+    category = np.where(np.isfinite(energy), nfpa70e.ppe_category(np.nan_to_num(energy)), -2)
     edges = {0: nfpa70e.BOUNDARY_ENERGY_CAL_CM2, **nfpa70e.PPE_CATEGORY_ARC_RATING_CAL_CM2}
-    return float(edges.get(category, nfpa70e.NO_CATEGORY_ABOVE_CAL_CM2))
+    table = np.array([edges.get(c, nfpa70e.NO_CATEGORY_ABOVE_CAL_CM2) for c in range(-2, 5)])
+    return table[category + 2]
 
 
 def _standardized(columns):
@@ -186,7 +189,7 @@ def summarize(site, plain_governing, energy, boundary, design, inputs, top=3):
 
     buses = list(site.buses)
     plain = plain_governing.reindex(buses)["incident_energy_governing_cal_cm2"].to_numpy(float)
-    edge = np.array([_category_edge(e) for e in plain])
+    edge = _category_edges(plain)
     with warnings.catch_warnings():  # a bus de-energised in every sample has NaN statistics, not a warning
         warnings.simplefilter("ignore", RuntimeWarning)
         quantiles = np.nanpercentile(energy, [5, 50, 95], axis=0)
