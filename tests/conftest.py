@@ -19,6 +19,19 @@ settings.register_profile("arcflash", max_examples=60, deadline=None)
 settings.load_profile("arcflash")
 
 REFERENCE_DIR = Path(__file__).parent / "reference"
+#: The demo facility and its device library.
+DEMO = Path(__file__).resolve().parents[1] / "site_data" / "fenwick_ridge"
+
+
+def demo_copy(folder):
+    """A copy of the demo facility at ``folder/site`` with its device library beside it, without the label
+    ledger or verification record a run in the checkout may have left in site_data/ [-]."""
+    import shutil
+
+    left = shutil.ignore_patterns("label-ledger.sqlite", "model-verification.json")
+    shutil.copytree(DEMO, Path(folder) / "site", ignore=left)
+    shutil.copytree(DEMO.parent / "libraries", Path(folder) / "libraries", ignore=left)
+    return Path(folder) / "site"
 
 
 def load_reference(name):

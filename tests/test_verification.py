@@ -9,7 +9,6 @@ from __future__ import annotations
 
 import io
 import json
-import shutil
 
 import numpy as np
 import pytest
@@ -24,8 +23,7 @@ from arcflash.models import ieee1584_tables as tables
 from arcflash.models.ieee1584 import evaluate
 from arcflash.models.ieee1584_steps import coefficient_rows, final_values, worked_steps
 from arcflash.output.selfcheck import ANNEX_D_CASES, case_steps, worksheet_cases, worksheet_pdf_bytes, worksheet_text
-from tests.conftest import load_reference, printed_tolerance
-from tests.output.test_label_fields import DEMO
+from tests.conftest import demo_copy, load_reference, printed_tolerance
 
 ALL_PASS = {table: "pass" for table in verification.TABLES_TO_VERIFY}
 #: Reference quantities -> worksheet symbols.
@@ -35,9 +33,7 @@ SYMBOLS = {"iarc_600": "Iarc_600", "iarc_2700": "Iarc_2700", "iarc_14300": "Iarc
 
 def _demo_copy(folder):
     """The demo site and its device library, copied (records are written beside the site data)."""
-    shutil.copytree(DEMO, folder / "site")
-    shutil.copytree(DEMO.parent / "libraries", folder / "libraries")
-    return folder / "site"
+    return demo_copy(folder)
 
 
 def _annex_case(label):

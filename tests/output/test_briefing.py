@@ -16,6 +16,7 @@ import arcflash
 from arcflash.cli import main
 from arcflash.output.briefing import NO_PERMIT_ABOVE_40, PERMIT_ITEMS, write_briefing
 from arcflash.study.pipeline import run_study
+from tests.conftest import demo_copy
 from tests.output.test_label_fields import DEMO
 
 
@@ -59,9 +60,7 @@ def test_above_40_cal_the_sheet_offers_no_permit(tmp_path, study):
 
 
 def test_the_sites_permit_form_is_named(tmp_path):
-    site = tmp_path / "site"
-    shutil.copytree(DEMO, site)
-    shutil.copytree(DEMO.parent / "libraries", tmp_path / "libraries")
+    site = demo_copy(tmp_path)
     facility = (site / "facility.yaml").read_text(encoding="utf-8")
     (site / "facility.yaml").write_text(facility.replace("facility:\n", "facility:\n  permit_form: Form EW-7 in the "
                                                                         "site safety manual\n", 1), encoding="utf-8")

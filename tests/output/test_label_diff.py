@@ -20,6 +20,7 @@ from arcflash.output import ledger
 from arcflash.output.label_diff import changes_table, label_changes, upstream_of
 from arcflash.output.labels import issue_labels
 from arcflash.study.pipeline import run_study
+from tests.conftest import demo_copy
 from tests.output.test_label_fields import DEMO
 
 BUSES = ["SWG-A", "MCC-A2", "PNL-A1", "PNL-A4", "SWG-C", "GEN-SWBD", "MCC-C2"]
@@ -29,8 +30,7 @@ BUSES = ["SWG-A", "MCC-A2", "PNL-A1", "PNL-A4", "SWG-C", "GEN-SWBD", "MCC-C2"]
 def issued_once(tmp_path_factory):
     """A copy of the demo with labels issued for BUSES (and its ledger), made once."""
     base = tmp_path_factory.mktemp("issued")
-    shutil.copytree(DEMO, base / "site")
-    shutil.copytree(DEMO.parent / "libraries", base / "libraries")
+    demo_copy(base)
     site = arcflash.load_site(base / "site")
     issue_labels(site, run_study(site).governing, base / "out", buses=BUSES)
     return base

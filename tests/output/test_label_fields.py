@@ -11,7 +11,6 @@ from __future__ import annotations
 
 import datetime as dt
 import math
-import shutil
 from pathlib import Path
 from types import SimpleNamespace
 
@@ -24,6 +23,7 @@ from arcflash.output.labels import (
     BELOW_ONSET_RATING, DANGER_STATEMENT, LabelContent, _points, _review_by, issue_labels, label_content,
     layout_names, load_layout, read_governing, safe_file_name,
 )
+from tests.conftest import demo_copy
 
 DEMO = Path(__file__).resolve().parents[2] / "site_data" / "fenwick_ridge"
 #: Our own wording of the three hazard sentences (regression of the text, not validation).
@@ -202,9 +202,7 @@ def test_label_file_names(equipment, stem):
 
 @pytest.fixture()
 def site_copy(tmp_path):
-    shutil.copytree(DEMO, tmp_path / "site")
-    shutil.copytree(DEMO.parent / "libraries", tmp_path / "libraries")
-    return arcflash.load_site(tmp_path / "site")
+    return arcflash.load_site(demo_copy(tmp_path))
 
 
 #: A table written by hand has no study record: reading it needs the override that a stale study needs.

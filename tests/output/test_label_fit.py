@@ -24,6 +24,7 @@ from arcflash.output import label_pdf
 from arcflash.output.labels import issue_labels, label_content, layout_names, load_layout
 from arcflash.site.schema import PpeBand
 from arcflash.study.pipeline import run_study
+from tests.conftest import demo_copy
 from tests.output.test_label_fields import DEMO
 
 #: An everyday site PPE text of realistic length (invented wording).
@@ -131,11 +132,8 @@ def test_leftover_temporary_files_are_removed_at_the_next_run(tmp_path):
 
 
 def test_the_cli_refuses_a_label_that_does_not_fit(tmp_path):
-    import shutil
 
-    site = tmp_path / "site"
-    shutil.copytree(DEMO, site)
-    shutil.copytree(DEMO.parent / "libraries", tmp_path / "libraries")
+    site = demo_copy(tmp_path)
     facility = site / "facility.yaml"
     long_text = "Arc-rated suit and hood rated 40 cal/cm2 minimum " * 7
     text = facility.read_text(encoding="utf-8")

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import os
-import shutil
 from pathlib import Path
 
 import pytest
@@ -15,15 +14,14 @@ from arcflash.cli import main
 from arcflash.output import files, ledger
 from arcflash.output.labels import issue_labels, label_content, labels_of, safe_file_name
 from arcflash.study.pipeline import run_study
+from tests.conftest import demo_copy
 
 DEMO = Path(__file__).resolve().parents[2] / "site_data" / "fenwick_ridge"
 
 
 @pytest.fixture()
 def site_copy(tmp_path):
-    shutil.copytree(DEMO, tmp_path / "site")
-    shutil.copytree(DEMO.parent / "libraries", tmp_path / "libraries")
-    return tmp_path / "site"
+    return demo_copy(tmp_path)
 
 
 def _statuses(site):

@@ -2,21 +2,19 @@
 
 from __future__ import annotations
 
-import shutil
 from pathlib import Path
 
 from click.testing import CliRunner
 
 import arcflash
 from arcflash.cli import main
+from tests.conftest import demo_copy
 
 DEMO = Path(__file__).resolve().parents[2] / "site_data" / "fenwick_ridge"
 
 
 def _copy(tmp_path, old, new):
-    site = tmp_path / "site"
-    shutil.copytree(DEMO, site)
-    shutil.copytree(DEMO.parent / "libraries", tmp_path / "libraries")
+    site = demo_copy(tmp_path)
     text = (site / "facility.yaml").read_text(encoding="utf-8")
     assert old in text
     (site / "facility.yaml").write_text(text.replace(old, new), encoding="utf-8")
