@@ -13,6 +13,8 @@ from __future__ import annotations
 import datetime as dt
 import functools
 import io
+import itertools
+import operator
 from dataclasses import dataclass
 from pathlib import Path
 from typing import NamedTuple
@@ -22,7 +24,7 @@ from reportlab.lib.colors import HexColor, black, white
 from reportlab.pdfbase.pdfmetrics import stringWidth
 from reportlab.pdfgen.canvas import Canvas
 
-from .pdf_lite import LiteCanvas
+from .pdf_lite import LiteCanvas, _string
 from .qr import qr_matrix
 from .text_wrap import wrap as _wrap
 
@@ -78,6 +80,9 @@ class _Piece(NamedTuple):
     column: float = 0.0
     width: float = 1.0
     row: int = 0
+
+
+_ROW = operator.attrgetter("row")
 
 
 def _issued_text(issued_on):
@@ -193,13 +198,17 @@ def _too_long(content, blocks, width):
     return worst[1], worst[2]
 
 
+def _in_rows(pieces):
+    """A block's pieces in the order drawn: row by row, in their order within a row."""
+    return sorted(pieces, key=_ROW)
+
+
 def _draw_pieces(canvas, pieces, scale, x, top, width, placed, kind, box, laid=None):
     """Draw a block's pieces; ``laid`` holds their (size, lines) from the label's plan when known."""
     y_row = top
-    rows = sorted({p.row for p in pieces})
-    for row in rows:
+    for _, in_row in itertools.groupby(_in_rows(pieces), key=_ROW):
         lowest = y_row
-        for piece in (p for p in pieces if p.row == row):
+        for piece in in_row:
             size, lines = laid[piece] if laid is not None else _lines(piece, scale, width)
             font = _BOLD if piece.bold else _REGULAR
             canvas.setFont(font, size)
@@ -284,25 +293,25 @@ def qr_modules(payload):
 
 
 @functools.lru_cache(maxsize=4096)
-def _qr_operators(payload):
-    """The dark rectangles of a QR code as PDF operators ('x y w h re ...'), in module units."""
-    _, rectangles = qr_modules(payload)
-    return ("%d %d %d %d re " * len(rectangles) % tuple(rectangles.ravel().tolist())).rstrip()
+def qr_image_hex(payload):
+    """The QR code of ``payload`` as the data of a 1-bit image (:meth:`LiteCanvas.image_mask`): rows top
+    first, 1 dark, each padded to whole bytes, in hexadecimal digits."""
+    return np.packbits(qr_matrix(payload), axis=1).tobytes().hex()
 
 
 def _qr(canvas, content, x, top, side):
-    """The label's QR code, with the 4-module quiet zone of ISO/IEC 18004 (from memory), as filled rectangles
-    drawn in module units."""
-    count, rectangles = qr_modules(content.qr_payload)
+    """The label's QR code, with the 4-module quiet zone of ISO/IEC 18004 (from memory), drawn in module
+    units: through an image mask (the small PDF writer) or as filled rectangles."""
+    count = qr_matrix(content.qr_payload).shape[0]
     module = side / (count + 8)
     canvas.saveState()
     canvas.transform(module, 0, 0, module, x + 4 * module, top - (count + 4) * module)
     canvas.setFillColor(black)
-    if hasattr(canvas, "fill_rectangles"):  # the small PDF writer takes the operators as they are
-        canvas.fill_rectangles(_qr_operators(content.qr_payload))
+    if hasattr(canvas, "image_mask"):  # the small PDF writer paints the modules through an image mask
+        canvas.image_mask(count, qr_image_hex(content.qr_payload))
     else:
         path = canvas.beginPath()
-        for rx, ry, width, height in rectangles.tolist():
+        for rx, ry, width, height in qr_modules(content.qr_payload)[1].tolist():
             path.rect(rx, ry, width, height)
         canvas.drawPath(path, stroke=0, fill=1)
     canvas.restoreState()
@@ -354,6 +363,10 @@ def _plan_label(content, w, h, layout, issued_on=None):
 def draw_label(canvas, content, x, y, w, h, layout, issued_on=None, record=True):
     """Draw one label with its top-left corner at (x, y), size w × h points.
 
+    On the small PDF writer and without a record, a label drawn like an earlier one but for its strings (same
+    layout, place, signal word, sizes and line counts) is drawn from that one's operators
+    (:meth:`LiteCanvas.template`).
+
     Returns
     -------
     list of Placed
@@ -364,8 +377,48 @@ def draw_label(canvas, content, x, y, w, h, layout, issued_on=None, record=True)
     LabelFitError
         The text does not fit at the smallest sizes; the message names the equipment and the field.
     """
-    inner_w = w - 2 * _PAD
     plan = plan_label(content, w, h, layout, issued_on)
+    if not record and hasattr(canvas, "template"):
+        key, values = _template_key(content, x, y, w, h, layout, plan, issued_on)
+        canvas.template(key, layout, values,
+                        lambda c: _draw_planned(c, content, x, y, w, h, layout, plan, issued_on, None))
+        return []
+    placed = [] if record else None
+    _draw_planned(canvas, content, x, y, w, h, layout, plan, issued_on, placed)
+    return placed if record else []
+
+
+def _qr_box_width(w, side):
+    """Width of the text beside the QR code in a label w points wide [pt]."""
+    return (w - _PAD) - (_PAD + side + 4)
+
+
+def _template_key(content, x, y, w, h, layout, plan, issued_on):
+    """(key, strings) of a label for :meth:`LiteCanvas.template`: the key holds everything the drawing
+    depends on but its strings; the strings (PDF tokens) in the order :func:`_draw_planned` draws them."""
+    fixed, texts, scale, _, _, key_min, laid = plan
+    values, counts, text_blocks = [], [], iter(texts)
+    for block in layout.blocks:
+        kind = block["kind"]
+        if kind == "signal":
+            continue
+        if kind == "qr":
+            values.append(qr_image_hex(content.qr_payload))
+            width = _qr_box_width(w, fixed[kind] - 2)
+            drawn = [_lines(p, 1.0, width) for p in _pieces("qr", content, block, key_min, issued_on)]
+        else:
+            drawn = [laid[p] for p in _in_rows(next(text_blocks)[1])]
+        for _, lines in drawn:
+            counts.append(len(lines))
+            values += map(_string, lines)
+    key = ("label", x, y, w, h, content.signal_word, bool(content.flags), bool(content.site_ppe), scale,
+           tuple(counts), qr_matrix(content.qr_payload).shape[0], id(layout))
+    return key, tuple(values)
+
+
+def _draw_planned(canvas, content, x, y, w, h, layout, plan, issued_on, placed):
+    """Draw a planned label (:func:`plan_label`); each string drawn is appended to ``placed`` unless None."""
+    inner_w = w - 2 * _PAD
     fixed, texts, scale, heights, available, key_min, laid = plan
     qr_text = [b for b in layout.blocks if b["kind"] == "qr"]
     slack = (available - sum(heights) - _BLOCK_GAP * len(texts)) / max(1, len(texts))
@@ -374,7 +427,7 @@ def draw_label(canvas, content, x, y, w, h, layout, issued_on=None, record=True)
         canvas.setDash(4, 3)  # a flagged label does not look like a normal one
     canvas.rect(x, y - h, w, h, stroke=1, fill=0)
     canvas.setDash()
-    placed, top, heights, text_blocks = [] if record else None, y, iter(heights), iter(texts)
+    top, heights, text_blocks = y, iter(heights), iter(texts)
     for block in layout.blocks:
         kind = block["kind"]
         if kind == "signal":
@@ -386,7 +439,7 @@ def draw_label(canvas, content, x, y, w, h, layout, issued_on=None, record=True)
             _qr(canvas, content, x + _PAD, top - 1, side)
             pieces = _pieces("qr", content, qr_text[0], key_min, issued_on)
             box = (x + _PAD + side + 4, top - fixed[kind], x + w - _PAD, top)
-            _draw_pieces(canvas, pieces, 1.0, box[0], top - 2, box[2] - box[0], placed, kind, box)
+            _draw_pieces(canvas, pieces, 1.0, box[0], top - 2, _qr_box_width(w, side), placed, kind, box)
             top -= fixed[kind]
             continue
         _, pieces, _ = next(text_blocks)  # the text blocks, in layout order
@@ -394,7 +447,6 @@ def draw_label(canvas, content, x, y, w, h, layout, issued_on=None, record=True)
         box = (x + _PAD, top - height, x + w - _PAD, top)
         _draw_pieces(canvas, pieces, scale, x + _PAD, top - 1, inner_w, placed, kind, box, laid)
         top -= height
-    return placed if record else []
 
 
 def unfit_labels(contents, layout):

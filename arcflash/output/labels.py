@@ -149,6 +149,12 @@ def _voltage(kv):
     return f"{kv * 1000:g} V" if kv < 1 else f"{kv:g} kV"
 
 
+@functools.lru_cache(maxsize=256)
+def _shock_text(nominal_kv):
+    """:func:`shock_boundary_text`, remembered (a facility has a few voltages); read only."""
+    return shock_boundary_text(nominal_kv)
+
+
 def _review_by(study_date):
     try:
         start = dt.date.fromisoformat(study_date)
@@ -223,7 +229,7 @@ def label_content(site, bus, row, shows=None, model_status=None):
         raise ValueError(f"shows: expected 'energy' or 'category', got {shows!r}")
     f = site.facility
     energy = float(row["incident_energy_governing_cal_cm2"])
-    shock = shock_boundary_text(float(row["nominal_kv"]))
+    shock = _shock_text(float(row["nominal_kv"]))
     known = np.isfinite(energy)
     danger = known and energy > DANGER_ABOVE_CAL_CM2
     at_distance = f"{energy_text(energy)} cal/cm2 at {length_text(float(row['working_distance_mm']))}"

@@ -36,6 +36,18 @@ _DEFLATE_LEVEL = 3
 _REUSED = {}
 _REUSED_KEPT = 256
 
+#: Labels drawn again with other strings (:meth:`LiteCanvas.template`): their operators with the strings as
+#: slots, by a key of everything else the drawing depends on.
+_TEMPLATES = {}
+_TEMPLATES_KEPT = 1024
+
+#: Where a slot stands in operators being recorded (a character no operator or escaped string contains).
+_SLOT = "\x00"
+
+#: Templates not kept because the strings drawn were not the ones foreseen, in that order (the drawing was
+#: kept as drawn; a test checks this stays zero).
+TEMPLATE_MISMATCHES = [0]
+
 @functools.lru_cache(maxsize=65536)
 def _string(text):
     """A PDF literal string of ``text`` in WinAnsiEncoding, as ASCII text (other bytes as octal escapes),
@@ -87,6 +99,7 @@ class LiteCanvas:
         self.pages = []
         self.ops = []
         self.font = ("F1", 10.0)
+        self.slots = None  # while a template is recorded: the strings drawn, in order
 
     def setTitle(self, title):  # noqa: N802
         self.title = title
@@ -105,7 +118,11 @@ class LiteCanvas:
 
     def drawString(self, x, y, text):  # noqa: N802
         font, size = self.font
-        self.ops.append("BT /%s %.3f Tf %.3f %.3f Td %s Tj ET" % (font, size, x, y, _string(text)))
+        literal = _string(text)
+        if self.slots is not None:
+            self.slots.append(literal)
+            literal = _SLOT
+        self.ops.append("BT /%s %.3f Tf %.3f %.3f Td %s Tj ET" % (font, size, x, y, literal))
 
     def drawCentredString(self, x, y, text):  # noqa: N802
         name = next(k for k, v in _FONTS.items() if v == self.font[0])
@@ -123,17 +140,54 @@ class LiteCanvas:
     def transform(self, a, b, c, d, e, f):
         self.ops.append(" ".join(_number(v) for v in (a, b, c, d, e, f)) + " cm")
 
-    def fill_rectangles(self, operators):
-        """Fill rectangles given as ready PDF operators ('x y w h re ...'), in the current coordinates."""
-        self.ops.append(operators + " f")
+    def image_mask(self, count, hex_rows):
+        """Paint the current fill colour through a 1-bit image mask filling a square of ``count`` units from
+        the origin: an inline image (ISO 32000-1 clause 8.9.7) of ``count`` x ``count`` samples, 1 painted, rows
+        top first, each padded to whole bytes, given as hexadecimal digits (ASCIIHexDecode)."""
+        if self.slots is not None:
+            self.slots.append(hex_rows)
+            hex_rows = _SLOT
+        self.ops.append(f"{count} 0 0 {count} 0 0 cm BI /W {count} /H {count} /IM true /BPC 1 /D [1 0] /F /AHx "
+                        f"ID {hex_rows}> EI")
+
+    def template(self, key, owner, values, draw):
+        """Emit what ``draw(self)`` emits with the strings ``values`` (PDF tokens: literal strings as
+        :func:`_string` gives them, image data), in the order drawn, in its slots.
+
+        The first drawing under ``key`` (with ``owner``, an object the key names by identity and the entry
+        keeps) is recorded with its strings as slots; later ones only fill the slots. The key must describe
+        everything the drawing depends on except the strings. If the strings drawn are not ``values``, the
+        drawing is kept as drawn and no template is kept.
+        """
+        entry = _TEMPLATES.get(key)
+        if entry is not None and entry[0] is owner:
+            self.ops.append(entry[1] % values)
+            self.font = entry[2]
+            return
+        start, self.slots = len(self.ops), []
+        try:
+            draw(self)
+        finally:
+            recorded, self.slots = tuple(self.slots), None
+        template = "\n".join(self.ops[start:]).replace("%", "%%").replace(_SLOT, "%s")
+        self.ops[start:] = [template % recorded]
+        if recorded != tuple(values):
+            TEMPLATE_MISMATCHES[0] += 1
+            return
+        if len(_TEMPLATES) >= _TEMPLATES_KEPT:
+            _TEMPLATES.clear()
+        _TEMPLATES[key] = (owner, template, self.font)
 
     def reuse(self, key, draw):
         """Emit what ``draw(self)`` emits, remembered under ``key`` (a hashable description of everything the
         drawing depends on): a drawing repeated on many labels is formatted once."""
         entry = _REUSED.get(key)
         if entry is None:
-            start = len(self.ops)
-            draw(self)
+            start, slots, self.slots = len(self.ops), self.slots, None  # no slots in a reused drawing
+            try:
+                draw(self)
+            finally:
+                self.slots = slots
             if len(_REUSED) >= _REUSED_KEPT:
                 _REUSED.clear()
             entry = _REUSED[key] = (self.ops[start:], self.font)

@@ -191,3 +191,29 @@ def test_label_wrapping_breaks_lines_as_reportlab_does(text, font, size, width):
     from reportlab.lib.utils import simpleSplit
 
     assert label_pdf._wrap(text, font, size, width) == simpleSplit(text, font, size, width)
+
+
+@pytest.mark.parametrize("name", ["label-4x6", "sheet-letter-2x2"])
+def test_labels_drawn_from_templates_equal_labels_drawn_in_full(demo_labels, name):
+    # Regression check of the small writer's templates (our own output against itself): every demo label
+    # drawn by filling the strings into an earlier label's operators gives the operators of drawing it in full.
+    from arcflash.output import pdf_lite
+
+    layout = load_layout(name)
+    mismatches = pdf_lite.TEMPLATE_MISMATCHES[0]
+    contents = [c for c in demo_labels if c.site_ppe != SITE_PPE] * 2  # the second round from templates
+
+    def pages(fresh):
+        canvas = label_pdf.LabelPages(layout)
+        for content in contents:
+            if fresh:
+                pdf_lite._TEMPLATES.clear()  # recorded anew: the full drawing, strings in place
+            canvas.add(content)
+        canvas.canvas.showPage()
+        return canvas.canvas.pages
+
+    full = pages(fresh=True)
+    pdf_lite._TEMPLATES.clear()
+    assert pages(fresh=False) == full
+    assert len(pdf_lite._TEMPLATES) < len(contents)  # some labels were drawn from templates
+    assert pdf_lite.TEMPLATE_MISMATCHES[0] == mismatches  # every label's strings were foreseen in order
