@@ -216,40 +216,96 @@ class LiteCanvas:
         return self.data
 
     def _document(self):
-        objects = []  # bytes of objects 1..n
-
-        def add(body):
-            objects.append(body if isinstance(body, bytes) else body.encode("latin-1"))
-            return len(objects)
-
-        catalog = add("")  # filled in below, once the page tree's number is known
-        fonts = {key: add(f"<< /Type /Font /Subtype /Type1 /BaseFont /{name} /Encoding /WinAnsiEncoding >>")
-                 for name, key in _FONTS.items()}
-        resources = "<< /Font << " + " ".join(f"/{k} {n} 0 R" for k, n in fonts.items()) + " >> >>"
-        tree = add("")
-        kids = []
-        for ops in self.pages:
-            content = zlib.compress("\n".join(ops).encode("ascii"), _DEFLATE_LEVEL)
-            stream = add(f"<< /Length {len(content)} /Filter /FlateDecode >>\nstream\n".encode("ascii")
-                         + content + b"\nendstream")
-            kids.append(add(f"<< /Type /Page /Parent {tree} 0 R /MediaBox [0 0 {_number(self.width)} "
-                            f"{_number(self.height)}] /Resources {resources} /Contents {stream} 0 R >>"))
-        objects[tree - 1] = (f"<< /Type /Pages /Kids [{' '.join(f'{k} 0 R' for k in kids)}] "
-                             f"/Count {len(kids)} >>").encode("ascii")
-        objects[catalog - 1] = f"<< /Type /Catalog /Pages {tree} 0 R >>".encode("ascii")
         stamp = dt.datetime.now(dt.timezone.utc).strftime("D:%Y%m%d%H%M%SZ")
-        info = add(f"<< /Title {_string(self.title)} /Producer (arcflash) /CreationDate ({stamp}) >>")
-        out = bytearray(b"%PDF-1.4\n%\xe2\xe3\xcf\xd3\n")
-        offsets = []
-        for number, body in enumerate(objects, start=1):
-            offsets.append(len(out))
-            out += f"{number} 0 obj\n".encode("ascii") + body + b"\nendobj\n"
-        xref = len(out)
-        out += f"xref\n0 {len(objects) + 1}\n0000000000 65535 f \n".encode("ascii")
-        out += b"".join(f"{offset:010d} 00000 n \n".encode("ascii") for offset in offsets)
-        out += (f"trailer\n<< /Size {len(objects) + 1} /Root {catalog} 0 R /Info {info} 0 R >>\n"
-                f"startxref\n{xref}\n%%EOF\n").encode("ascii")
-        return bytes(out)
+        return document_bytes([_deflate("\n".join(ops)) for ops in self.pages], self.width, self.height,
+                              self.title, stamp)
+
+
+def _deflate(text):
+    """A content stream's operators, compressed (zlib level :data:`_DEFLATE_LEVEL`)."""
+    return zlib.compress(text.encode("ascii"), _DEFLATE_LEVEL)
+
+
+def document_bytes(streams, width, height, title, stamp):
+    """A PDF of one page per compressed content stream (``streams``), every page ``width`` x ``height``
+    points, with the two fonts of :data:`_FONTS`; ``stamp`` the creation date (PDF date string).
+
+    Objects: 1 catalog, 2.. fonts, then the page tree, then a stream and its page per page, then the
+    information dictionary. A one-page document is assembled around a remembered skeleton.
+    """
+    if len(streams) != 1:
+        return _assembled(streams, width, height, title, stamp)
+    head, page, tail_start = _one_page_skeleton(width, height, title)
+    stream = b"5 0 obj\n<< /Length %d /Filter /FlateDecode >>\nstream\n" % len(streams[0]) \
+        + streams[0] + b"\nendstream\nendobj\n"
+    info = ("7 0 obj\n<< /Title %s /Producer (arcflash) /CreationDate (%s) >>\nendobj\n"
+            % (_string(title), stamp)).encode("ascii")
+    offsets = tail_start + (len(head), len(head) + len(stream), len(head) + len(stream) + len(page))
+    xref = offsets[-1] + len(info)
+    return b"".join((head, stream, page, info, _xref(offsets),
+                     b"trailer\n<< /Size 8 /Root 1 0 R /Info 7 0 R >>\nstartxref\n%d\n%%%%EOF\n" % xref))
+
+
+def _assembled(streams, width, height, title, stamp):
+    """:func:`document_bytes`, object by object (any number of pages)."""
+    objects = []  # bytes of objects 1..n
+
+    def add(body):
+        objects.append(body if isinstance(body, bytes) else body.encode("latin-1"))
+        return len(objects)
+
+    catalog = add("")  # filled in below, once the page tree's number is known
+    fonts = {key: add(f"<< /Type /Font /Subtype /Type1 /BaseFont /{name} /Encoding /WinAnsiEncoding >>")
+             for name, key in _FONTS.items()}
+    resources = "<< /Font << " + " ".join(f"/{k} {n} 0 R" for k, n in fonts.items()) + " >> >>"
+    tree = add("")
+    kids = []
+    for content in streams:
+        stream = add(f"<< /Length {len(content)} /Filter /FlateDecode >>\nstream\n".encode("ascii")
+                     + content + b"\nendstream")
+        kids.append(add(f"<< /Type /Page /Parent {tree} 0 R /MediaBox [0 0 {_number(width)} "
+                        f"{_number(height)}] /Resources {resources} /Contents {stream} 0 R >>"))
+    objects[tree - 1] = (f"<< /Type /Pages /Kids [{' '.join(f'{k} 0 R' for k in kids)}] "
+                         f"/Count {len(kids)} >>").encode("ascii")
+    objects[catalog - 1] = f"<< /Type /Catalog /Pages {tree} 0 R >>".encode("ascii")
+    info = add(f"<< /Title {_string(title)} /Producer (arcflash) /CreationDate ({stamp}) >>")
+    out = bytearray(_HEADER)
+    offsets = []
+    for number, body in enumerate(objects, start=1):
+        offsets.append(len(out))
+        out += f"{number} 0 obj\n".encode("ascii") + body + b"\nendobj\n"
+    xref = len(out)
+    out += _xref(offsets)
+    out += (f"trailer\n<< /Size {len(objects) + 1} /Root {catalog} 0 R /Info {info} 0 R >>\n"
+            f"startxref\n{xref}\n%%EOF\n").encode("ascii")
+    return bytes(out)
+
+
+_HEADER = b"%PDF-1.4\n%\xe2\xe3\xcf\xd3\n"
+
+
+def _xref(offsets):
+    """The cross-reference table of objects 1.. at ``offsets``."""
+    return (f"xref\n0 {len(offsets) + 1}\n0000000000 65535 f \n".encode("ascii")
+            + b"".join(b"%010d 00000 n \n" % offset for offset in offsets))
+
+
+@functools.lru_cache(maxsize=16)
+def _one_page_skeleton(width, height, title):
+    """The fixed parts of a one-page document (:func:`document_bytes`): objects 1-4 with the header, object
+    6 (the page) and the offsets of objects 1-4 (the bytes :func:`_assembled` writes for them)."""
+    fonts = " ".join(f"/{key} {number} 0 R" for number, key in enumerate(_FONTS.values(), start=2))
+    bodies = [b"<< /Type /Catalog /Pages 4 0 R >>"]
+    bodies += [f"<< /Type /Font /Subtype /Type1 /BaseFont /{name} /Encoding /WinAnsiEncoding >>".encode("ascii")
+               for name in _FONTS]
+    bodies.append(b"<< /Type /Pages /Kids [6 0 R] /Count 1 >>")
+    head, offsets = bytearray(_HEADER), []
+    for number, body in enumerate(bodies, start=1):
+        offsets.append(len(head))
+        head += b"%d 0 obj\n" % number + body + b"\nendobj\n"
+    page = (f"6 0 obj\n<< /Type /Page /Parent 4 0 R /MediaBox [0 0 {_number(width)} {_number(height)}] "
+            f"/Resources << /Font << {fonts} >> >> /Contents 5 0 R >>\nendobj\n").encode("ascii")
+    return bytes(head), page, tuple(offsets)
 
 
 def _paint(stroke, fill):

@@ -22,10 +22,6 @@ from reportlab.graphics.barcode import qrencoder
 #: Penalty weights N1-N4 of ISO/IEC 18004 clause 7.8.3 (from memory).
 N1, N2, N3, N4 = 3, 3, 40, 10
 
-#: The finder-like patterns of N3 (dark 1:1:3:1:1 with four light modules after or before), as 11-bit numbers
-#: read left to right.
-_FINDER_BITS = (np.uint64(0b10111010000), np.uint64(0b00001011101))
-
 #: The eight data masks of ISO/IEC 18004 Table 10 (i row, j column): True where a module is inverted.
 MASKS = (
     lambda i, j: (i + j) % 2 == 0,
@@ -39,27 +35,61 @@ MASKS = (
 )
 
 
-def _finder_like(lines, wide=False):
-    """Number of finder-like windows (:data:`_FINDER_BITS`) along the lines of each symbol (N, n, n).
-
-    Each line is read as an integer and its 11-module windows compared with the two patterns; lines wider
-    than 64 modules (``wide``) are compared module by module.
-    """
-    if wide:
-        windows = np.lib.stride_tricks.sliding_window_view(lines, 11, axis=2)
-        found = 0
-        for pattern in _FINDER_BITS:
-            bits = np.array([(int(pattern) >> (10 - k)) & 1 for k in range(11)], dtype=bool)
-            found = found + np.sum(np.all(windows == bits, axis=3), axis=(1, 2))
-        return found
-    packed = np.zeros(lines.shape[:2], dtype=np.uint64)
-    for column in range(lines.shape[2]):
-        packed = (packed << np.uint64(1)) | lines[:, :, column].astype(np.uint64)
+def _finder_like(lines):
+    """Number of finder-like windows (1:1:3:1:1 with four light modules after or before: ``10111010000`` or
+    ``00001011101``) along the lines of each symbol (M, n, n), module by module."""
+    windows = np.lib.stride_tricks.sliding_window_view(lines, 11, axis=2)
     found = 0
-    for shift in range(lines.shape[2] - 10):
-        window = (packed >> np.uint64(shift)) & np.uint64(0x7FF)
-        found = found + np.sum((window == _FINDER_BITS[0]) | (window == _FINDER_BITS[1]), axis=1)
+    for pattern in ("10111010000", "00001011101"):
+        bits = np.array([c == "1" for c in pattern], dtype=bool)
+        found = found + np.sum(np.all(windows == bits, axis=3), axis=(1, 2))
     return found
+
+
+def _packed(lines):
+    """Each line of each symbol (M, n, n), n at most 64, as an integer: bit k is module k (True dark)."""
+    count, size = lines.shape[0], lines.shape[1]
+    packed = np.packbits(lines, axis=2, bitorder="little")
+    words = np.zeros((count, size, 8), dtype=np.uint8)
+    words[:, :, : packed.shape[2]] = packed
+    return words.view("<u8")[:, :, 0]
+
+
+def _ones(bits):
+    """An integer with the low ``bits`` bits set."""
+    return np.uint64((1 << bits) - 1) if bits > 0 else np.uint64(0)
+
+
+def _bits_set(words):
+    """Number of bits set in each symbol's line integers (M, n), summed per symbol."""
+    return np.bitwise_count(words).sum(axis=1, dtype=np.int64)
+
+
+def _penalty_packed(stack):
+    """:func:`penalty` of symbols (M, n, n) with n at most 64, every rule on lines held as integers (a line's
+    modules compared with its neighbours' by shifts, counted by bits set)."""
+    size = stack.shape[-1]
+    score = np.zeros(stack.shape[0], dtype=np.int64)
+    for rows_first, lines in ((True, stack), (False, np.swapaxes(stack, 1, 2))):
+        r = _packed(lines)
+        like = ~(r ^ (r >> 1)) & _ones(size - 1)  # bit k: module k like module k + 1
+        five = like & (like >> 1) & (like >> 2) & (like >> 3) & _ones(size - 4)  # modules k..k+4 alike
+        starting = five & ~(like << 1)  # ... and module k - 1 not like k: the window that starts a run
+        score += _bits_set(five) + (N1 - 1) * _bits_set(starting)  # N1: 3 + (length - 5) per run of 5+
+        if size >= 11:
+            light = ~r
+            for pattern in ("10111010000", "00001011101"):  # N3, read along the line from module k
+                window = _ones(size - 10)
+                for j, bit in enumerate(pattern):
+                    window = window & ((r if bit == "1" else light) >> j)
+                score += N3 * _bits_set(window)
+        if rows_first:  # N2: a 2 x 2 block of one colour (rows i and i + 1 alike at columns k and k + 1)
+            down = ~(r[:, :-1] ^ r[:, 1:])
+            score += N2 * _bits_set(down & (down >> 1) & like[:, :-1] & _ones(size - 1))
+            dark = _bits_set(r)
+    dark_percent = 100.0 * dark / (size * size)
+    score += N4 * (np.abs(dark_percent - 50.0) // 5).astype(np.int64)
+    return score
 
 
 def penalty(modules):
@@ -72,6 +102,16 @@ def penalty(modules):
     """
     m = np.asarray(modules, dtype=bool)
     stack = m.reshape((-1,) + m.shape[-2:])
+    if stack.shape[-1] <= 64:  # lines as 64-bit integers, in chunks of a few MB
+        score = np.concatenate([_penalty_packed(stack[k: k + 2048]) for k in range(0, stack.shape[0], 2048)]
+                               or [np.zeros(0, dtype=np.int64)])
+    else:
+        score = _penalty_by_modules(stack)
+    return score.reshape(m.shape[:-2]) if m.ndim > 2 else score[0]
+
+
+def _penalty_by_modules(stack):
+    """:func:`penalty` of symbols (M, n, n) of any size, module by module."""
     count, size = stack.shape[0], stack.shape[-1]
     score = np.zeros(count, dtype=np.int64)
     for lines in (stack, np.swapaxes(stack, 1, 2)):
@@ -83,13 +123,13 @@ def penalty(modules):
         starting[:, :, 1:] &= ~like[:, :, :-4]
         score += np.sum(five, axis=(1, 2)) + (N1 - 1) * np.sum(starting, axis=(1, 2))
         if size >= 11:
-            score += N3 * _finder_like(lines, wide=size > 64)
+            score += N3 * _finder_like(lines)
     block = stack[:, :-1, :-1]
     same = (block == stack[:, 1:, :-1]) & (block == stack[:, :-1, 1:]) & (block == stack[:, 1:, 1:])
     score += N2 * np.sum(same, axis=(1, 2))
     dark_percent = 100.0 * np.count_nonzero(stack, axis=(1, 2)) / (size * size)
     score += N4 * (np.abs(dark_percent - 50.0) // 5).astype(np.int64)
-    return score.reshape(m.shape[:-2]) if m.ndim > 2 else score[0]
+    return score
 
 
 #: GF(256) of QR codes (primitive polynomial x^8 + x^4 + x^3 + x^2 + 1, ISO/IEC 18004 clause 7.5.2): exp/log.
@@ -204,6 +244,12 @@ def _parity_matrix(data_count, ec_count):
 
 
 @functools.lru_cache(maxsize=None)
+def _parity_float(data_count, ec_count):
+    """:func:`_parity_matrix` as float32, for a matrix product of 0/1 values (exact below 2**24)."""
+    return _parity_matrix(data_count, ec_count).astype(np.float32)
+
+
+@functools.lru_cache(maxsize=None)
 def _interleaving(version):
     """Positions, in the block-by-block order (data of each block, then EC of each), of the placed order."""
     blocks = _blocks(version)
@@ -225,8 +271,8 @@ def _codewords_batch(data, version):
         parts.append(data[:, offset: offset + data_count])
         offset += data_count
     for (data_count, ec_count), block in zip(_blocks(version), parts[: len(_blocks(version))]):
-        bits = np.unpackbits(block, axis=1).astype(np.int64)
-        parity = (bits @ _parity_matrix(data_count, ec_count).astype(np.int64)) % 2
+        bits = np.unpackbits(block, axis=1).astype(np.float32)  # sums of at most 8 x 123 ones: exact
+        parity = (bits @ _parity_float(data_count, ec_count)) % 2
         parts.append(np.packbits(parity.astype(np.uint8), axis=1))
     return np.concatenate(parts, axis=1)[:, _interleaving(version)]
 
@@ -274,6 +320,27 @@ def qr_matrix(payload):
     return _MATRICES[payload]
 
 
+#: Payloads encoded together (a few MB of symbols: eight masks of each) [-].
+_CHUNK = 512
+
+
+def _encode_chunk(version, group):
+    """Encode (payload, data codewords) pairs of one version; remember each symbol."""
+    scoring, rows, cols, masks, finals = _version_layout(version)
+    codewords = _codewords_batch([data for _, data in group], version)
+    packed = np.unpackbits(codewords, axis=1)
+    bits = np.zeros((len(group), rows.size), dtype=bool)
+    bits[:, : min(packed.shape[1], rows.size)] = packed[:, : rows.size]  # remainder bits stay light
+    symbols = np.repeat(scoring[None, None], len(group), axis=0).repeat(len(MASKS), axis=1)
+    symbols[:, :, rows, cols] = bits[:, None, :] ^ masks[None]
+    best = np.argmin(penalty(symbols), axis=1)
+    chosen = np.array(finals)[best]  # each symbol's function patterns with its mask's format information
+    chosen[:, rows, cols] = bits ^ masks[best]
+    chosen.setflags(write=False)  # shared through the cache
+    for (payload, _), symbol in zip(group, chosen):
+        _MATRICES[payload] = symbol
+
+
 def qr_matrices(payloads):
     """:func:`qr_matrix` of many payloads at once (the masks of all scored in one array operation per
     version); the symbols are remembered for :func:`qr_matrix`.
@@ -291,17 +358,6 @@ def qr_matrices(payloads):
         data, version = _data_codewords(payload)
         by_version.setdefault(version, []).append((payload, data))
     for version, group in by_version.items():
-        scoring, rows, cols, masks, finals = _version_layout(version)
-        codewords = _codewords_batch([data for _, data in group], version)
-        packed = np.unpackbits(codewords, axis=1)
-        bits = np.zeros((len(group), rows.size), dtype=bool)
-        bits[:, : min(packed.shape[1], rows.size)] = packed[:, : rows.size]  # remainder bits stay light
-        symbols = np.repeat(scoring[None, None], len(group), axis=0).repeat(len(MASKS), axis=1)
-        symbols[:, :, rows, cols] = bits[:, None, :] ^ masks[None]
-        best = np.argmin(penalty(symbols), axis=1)
-        for k, (payload, _) in enumerate(group):
-            final = finals[int(best[k])].copy()
-            final[rows, cols] = bits[k] ^ masks[int(best[k])]
-            final.setflags(write=False)  # shared through the cache
-            _MATRICES[payload] = final
+        for start in range(0, len(group), _CHUNK):
+            _encode_chunk(version, group[start: start + _CHUNK])
     return [_MATRICES[p] for p in payloads]

@@ -217,3 +217,17 @@ def test_labels_drawn_from_templates_equal_labels_drawn_in_full(demo_labels, nam
     assert pages(fresh=False) == full
     assert len(pdf_lite._TEMPLATES) < len(contents)  # some labels were drawn from templates
     assert pdf_lite.TEMPLATE_MISMATCHES[0] == mismatches  # every label's strings were foreseen in order
+
+
+def test_a_one_page_document_is_the_general_assembly_of_one_page():
+    # regression check of the small writer against itself: the remembered one-page skeleton gives the bytes
+    # the object-by-object assembly gives, and pypdf reads the page's text back
+    from pypdf import PdfReader
+
+    from arcflash.output import pdf_lite
+
+    stream = pdf_lite._deflate("BT /F1 12 Tf 10 20 Td (Arc-flash boundary) Tj ET")
+    args = (288.0, 432.0, "arcflash equipment labels", "D:20261202120000Z")
+    one = pdf_lite.document_bytes([stream], *args)
+    assert one == pdf_lite._assembled([stream], *args)
+    assert PdfReader(io.BytesIO(one)).pages[0].extract_text() == "Arc-flash boundary"

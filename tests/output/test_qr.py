@@ -75,16 +75,16 @@ def test_many_at_once_equal_one_at_a_time():
     assert all((qr.qr_matrix(p) == m).all() for p, m in zip(payloads, together))
 
 
-def test_finder_patterns_counted_alike_as_integers_and_module_by_module():
-    from arcflash.output.qr import _finder_like
+@pytest.mark.parametrize("size", [21, 33, 57, 64])
+def test_penalty_alike_on_lines_as_integers_and_module_by_module(size):
+    from arcflash.output.qr import _penalty_by_modules, _penalty_packed
 
-    rng = np.random.default_rng(7)
-    lines = rng.random((40, 29, 29)) < 0.5
-    lines[0, 3, 5:16] = [1, 0, 1, 1, 1, 0, 1, 0, 0, 0, 0]  # at least one of each pattern
-    lines[1, 7, 10:21] = [0, 0, 0, 0, 1, 0, 1, 1, 1, 0, 1]
-    by_integer, by_module = _finder_like(lines), _finder_like(lines, wide=True)
-    assert by_integer[0] >= 1 and by_integer[1] >= 1
-    assert (by_integer == by_module).all()
+    rng = np.random.default_rng(size)
+    symbols = rng.random((40, size, size)) < rng.random((40, 1, 1))
+    symbols[0, 3, 5:16] = [1, 0, 1, 1, 1, 0, 1, 0, 0, 0, 0]  # each finder-like pattern, along rows and columns
+    symbols[1, 7, size - 11:] = [0, 0, 0, 0, 1, 0, 1, 1, 1, 0, 1]
+    symbols[2, 0:11, size - 1] = [1, 0, 1, 1, 1, 0, 1, 0, 0, 0, 0]
+    assert (_penalty_packed(symbols) == _penalty_by_modules(symbols)).all()
 
 
 def _penalty_by_loops(m):
