@@ -10,6 +10,7 @@ from pathlib import Path
 
 
 _NUMBERS = itertools.count()
+_NEW_FILE = os.O_WRONLY | os.O_CREAT | os.O_EXCL | getattr(os, "O_BINARY", 0)
 
 
 def _create_beside(path):
@@ -18,10 +19,11 @@ def _create_beside(path):
     for _ in range(1000):
         temporary = os.path.join(path.parent, f".{path.stem}.{os.getpid()}-{next(_NUMBERS)}.part{path.suffix}")
         try:
-            return os.open(temporary, os.O_WRONLY | os.O_CREAT | os.O_EXCL | getattr(os, "O_BINARY", 0), 0o666), \
-                temporary
+            return os.open(temporary, _NEW_FILE, 0o666), temporary
         except FileExistsError:  # left by an earlier process of the same number: take the next
             continue
+        except FileNotFoundError:  # the folder is not there yet
+            path.parent.mkdir(parents=True, exist_ok=True)
     handle, temporary = tempfile.mkstemp(prefix=f".{path.stem}.", suffix=f".part{path.suffix}", dir=path.parent)
     umask = os.umask(0)
     os.umask(umask)
@@ -34,7 +36,6 @@ def _beside(path):
     """A temporary file in ``path``'s folder, as (open handle, name), moved onto ``path`` when the block ends
     without an error; otherwise removed. Errors name ``path``, never the temporary file."""
     try:
-        path.parent.mkdir(parents=True, exist_ok=True)
         handle, temporary = _create_beside(path)
     except OSError as exc:  # name the file the user asked for, not a temporary one
         raise OSError(exc.errno, exc.strerror, str(path)) from exc
@@ -70,8 +71,12 @@ def write_atomic(path, write):
 def write_bytes_atomic(path, data):
     """Write ``data`` to ``path`` through a temporary file in the same folder and a rename (one open)."""
     with _beside(Path(path)) as (handle, _):
-        with os.fdopen(handle, "wb") as stream:
-            stream.write(data)
+        try:
+            view = memoryview(data)
+            while view:
+                view = view[os.write(handle, view):]
+        finally:
+            os.close(handle)
 
 
 #: Age after which a temporary file of write_atomic is taken as left over by an interrupted run [s] (a run

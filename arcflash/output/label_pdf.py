@@ -89,6 +89,28 @@ def _issued_text(issued_on):
     return (issued_on or dt.date.today()).isoformat()
 
 
+#: The rows of the data block: field, its heading on the label, whether it is a key value.
+_DATA_ROWS = (("nominal_voltage", "Nominal voltage", True), ("arc_flash_boundary", "Arc-flash boundary", True),
+              ("energy_or_category", None, True), ("minimum_arc_rating", "Minimum arc rating of clothing", False),
+              ("site_ppe", "Site PPE", False), ("limited_approach", "Limited approach (shock)", False),
+              ("restricted_approach", "Restricted approach (shock)", False))
+
+
+@functools.lru_cache(maxsize=64)
+def _data_labels(size, energy, site_ppe):
+    """The data block's headings as pieces, and (field, key value?, row) of each row: the same on every label
+    of a layout that shows the energy (or the category) and has (or has not) a site PPE row."""
+    headings, rows = [], []
+    for field, heading, is_key in _DATA_ROWS:
+        if field == "site_ppe" and not site_ppe:
+            continue
+        if heading is None:
+            heading = "Incident energy at working distance" if energy else "PPE category"
+        headings.append(_Piece(field, heading, False, size, MIN_TEXT_PT, 0.0, 0.36, len(rows)))
+        rows.append((field, is_key, len(rows)))
+    return tuple(headings), tuple(rows)
+
+
 def _pieces(kind, content, block, key_min, issued_on):
     """The text pieces of a block at the layout's sizes (before any scaling)."""
     size = float(block["size"])
@@ -97,20 +119,11 @@ def _pieces(kind, content, block, key_min, issued_on):
     if kind == "data":
         key = float(block.get("key_size", size))
         energy = content.shows == "energy" or content.signal_word == "DANGER"
-        rows = [("nominal_voltage", "Nominal voltage", content.nominal_voltage, True),
-                ("arc_flash_boundary", "Arc-flash boundary", content.arc_flash_boundary, True),
-                ("energy_or_category", "Incident energy at working distance" if energy else "PPE category",
-                 content.energy_or_category, True),
-                ("minimum_arc_rating", "Minimum arc rating of clothing", content.minimum_arc_rating, False)]
-        if content.site_ppe:
-            rows.append(("site_ppe", "Site PPE", content.site_ppe, False))
-        rows += [("limited_approach", "Limited approach (shock)", content.limited_approach, False),
-                 ("restricted_approach", "Restricted approach (shock)", content.restricted_approach, False)]
         pieces = []
-        for number, (field, label, value, is_key) in enumerate(rows):
-            pieces.append(_Piece(field, label, False, size, MIN_TEXT_PT, 0.0, 0.36, number))
-            pieces.append(_Piece(field, value, True, key if is_key else size, key_min if is_key else MIN_TEXT_PT,
-                                 0.38, 0.62, number))
+        for label, (field, is_key, number) in zip(*_data_labels(size, energy, bool(content.site_ppe))):
+            pieces.append(label)
+            pieces.append(_Piece(field, getattr(content, field), True, key if is_key else size,
+                                 key_min if is_key else MIN_TEXT_PT, 0.38, 0.62, number))
         return pieces
     if kind == "identity":
         pieces = [_Piece("equipment_id", f"Equipment {content.equipment_id}: {content.description}".rstrip(": "),
@@ -143,44 +156,49 @@ def _lines(piece, scale, width):
     return size, _wrap(piece.text, font, size, width * piece.width - (2.0 if piece.column else 0.0))
 
 
-def _block_height(pieces, scale, width):
-    """Height of a block's pieces laid out at ``scale`` (rows side by side, columns stacked), or None."""
+def _block_height(pieces, scale, width, laid):
+    """Height of a block's pieces laid out at ``scale`` (rows side by side, columns stacked), or None; each
+    piece's (size, lines) is put in ``laid``."""
     rows = {}
     for piece in pieces:
-        laid = _lines(piece, scale, width)
-        if laid is None:
+        got = _lines(piece, scale, width)
+        if got is None:
             return None
-        size, lines = laid
-        rows.setdefault(piece.row, []).append(len(lines) * size * _LEADING)
-    return sum(max(heights) for heights in rows.values()) + _BLOCK_GAP * max(0, len(rows) - 1)
+        laid[piece] = got
+        height = len(got[1]) * got[0] * _LEADING
+        if height > rows.get(piece.row, -1.0):
+            rows[piece.row] = height
+    return sum(rows.values()) + _BLOCK_GAP * max(0, len(rows) - 1)
 
 
 def _fit_scale(blocks, width, available):
-    """The largest scale, at most 1, at which the text blocks fit ``available`` points (to 1 %), or None.
+    """(scale, block heights, lines of each piece) at the largest scale, at most 1, at which the text blocks
+    fit ``available`` points (to 1 %), or (None, None, None).
 
     Scale 1 (the layout's sizes) is tried first; otherwise a bisection between the smallest scale the
     minimum sizes allow and 1.
     """
     def heights_at(scale):
-        heights = [_block_height(pieces, scale, width) for _, pieces, _ in blocks]
+        laid = {}
+        heights = [_block_height(pieces, scale, width, laid) for _, pieces, _ in blocks]
         if None in heights:
             return None
-        return heights if sum(heights) + _BLOCK_GAP * len(blocks) <= available else False
+        return (heights, laid) if sum(heights) + _BLOCK_GAP * len(blocks) <= available else False
 
     best = heights_at(1.0)
     if best:
-        return 1.0, best
+        return (1.0,) + best
     pieces = [piece for _, block, _ in blocks for piece in block]
     low = max(piece.minimum / piece.size for piece in pieces)  # below this a size falls under its minimum
     fits_low = heights_at(low) if low <= 1.0 else None
     if not fits_low:
-        return None, None
-    high, best = 1.0, (low, fits_low)
+        return None, None, None
+    high, best = 1.0, (low,) + fits_low
     while high - low > 0.01:
         middle = (low + high) / 2.0
-        heights = heights_at(middle)
-        if heights:
-            low, best = middle, (middle, heights)
+        found = heights_at(middle)
+        if found:
+            low, best = middle, (middle,) + found
         else:
             high = middle
     return best
@@ -350,13 +368,12 @@ def _plan_label(content, w, h, layout, issued_on=None):
     texts = [(b["kind"], _pieces(b["kind"], content, b, key_min, issued_on), b) for b in layout.blocks
              if b["kind"] not in ("signal", "qr")]
     available = h - sum(fixed.values()) - 2.0
-    scale, heights = _fit_scale(texts, inner_w, available)
+    scale, heights, laid = _fit_scale(texts, inner_w, available)
     if scale is None:
         field, kind = _too_long(content, texts, inner_w)
         raise LabelFitError(f"label of {content.equipment_id}: the text does not fit layout {layout.name} at the "
                             f"smallest legible size ({MIN_TEXT_PT:g} pt; key values {key_min:g} pt): "
                             f"shorten {field} (in the {kind} block)")
-    laid = {piece: _lines(piece, scale, inner_w) for _, pieces, _ in texts for piece in pieces}
     return fixed, texts, scale, heights, available, key_min, laid
 
 

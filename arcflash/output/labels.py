@@ -81,10 +81,14 @@ class LabelContent:
         return {name: getattr(self, name) for name in self.__dataclass_fields__}
 
     @functools.cached_property
+    def content_json(self):
+        """The fields as JSON text, keys sorted (what the hash is taken of, and what the ledger keeps)."""
+        return json.dumps(self.as_dict(), sort_keys=True, ensure_ascii=False)
+
+    @functools.cached_property
     def content_hash(self):
         """First 16 hex digits of the SHA-256 of the content (stable across runs)."""
-        text = json.dumps(self.as_dict(), sort_keys=True, ensure_ascii=False)
-        return hashlib.sha256(text.encode("utf-8")).hexdigest()[:16]
+        return hashlib.sha256(self.content_json.encode("utf-8")).hexdigest()[:16]
 
     @property
     def qr_payload(self):

@@ -94,15 +94,20 @@ def record(path, contents, layout, issued_by=None, when=None, study_rows=None, s
                 snapshot_id = connection.execute(
                     "INSERT INTO site_snapshots (taken_at, elements) VALUES (?, ?)",
                     (stamp, zlib.compress(json.dumps(snapshot, sort_keys=True).encode("utf-8")))).lastrowid
-            for k, c in enumerate(contents):
-                issued_id = connection.execute(
-                    "INSERT INTO issued (equipment_id, study_revision, content_hash, content, issued_at, layout, "
-                    "issued_by) VALUES (?, ?, ?, ?, ?, ?, ?)",
-                    (c.equipment_id, c.study_revision, c.content_hash, json.dumps(c.as_dict(), ensure_ascii=False),
-                     stamp, layout, issued_by)).lastrowid
-                if snapshot_id is not None and study_rows is not None:
-                    connection.execute("INSERT INTO issued_context (issued_id, snapshot_id, study_row) "
-                                       "VALUES (?, ?, ?)", (issued_id, snapshot_id, json.dumps(study_rows[k])))
+            before = connection.execute("SELECT COALESCE(MAX(id), 0) FROM issued").fetchone()[0]
+            connection.executemany(
+                "INSERT INTO issued (equipment_id, study_revision, content_hash, content, issued_at, layout, "
+                "issued_by) VALUES (?, ?, ?, ?, ?, ?, ?)",
+                [(c.equipment_id, c.study_revision, c.content_hash, c.content_json, stamp, layout, issued_by)
+                 for c in contents])
+            if snapshot_id is not None and study_rows is not None:
+                # the rows just inserted, in order (ids only grow: AUTOINCREMENT)
+                ids = [row[0] for row in connection.execute("SELECT id FROM issued WHERE id > ? ORDER BY id",
+                                                            (before,))]
+                connection.executemany("INSERT INTO issued_context (issued_id, snapshot_id, study_row) "
+                                       "VALUES (?, ?, ?)",
+                                       [(issued_id, snapshot_id, json.dumps(row))
+                                        for issued_id, row in zip(ids, study_rows, strict=True)])
     finally:
         connection.close()
 
