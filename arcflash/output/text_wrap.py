@@ -24,11 +24,6 @@ def wrap(text, font, size, max_width):
     word's width remembered."""
     if not max_width:
         return text.split("\n")
-    if "\n" not in text and stringWidth(text, font, size) < max_width - 1e-6:
-        # the whole text on one line: its words with their spaces fit with room to spare for rounding (the
-        # usual case, and one width instead of one per word)
-        words = text.split()
-        return [" ".join(words)] if words else []
     space = word_width(" ", font, size)
     lines = []
     for paragraph in text.split("\n"):
