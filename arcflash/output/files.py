@@ -102,3 +102,48 @@ def remove_leftovers(folder, now=None):
         except OSError:
             continue  # another run removed it, or it is not ours to remove
     return sorted(removed)
+
+
+class BackgroundWriter:
+    """Files written atomically (:func:`write_bytes_atomic`) by one background thread while the caller
+    prepares the next: creating a file is kernel work that overlaps with the caller's Python.
+
+    Use as a context manager; ``writer(path, data)`` queues a file (at most ``depth`` waiting). The first
+    error stops the writing; it is raised when the block ends (after the thread has stopped), or at the next
+    ``writer(...)`` call. Every file written is complete: a failure leaves the rest unwritten.
+    """
+
+    def __init__(self, depth=64):
+        import queue
+        import threading
+
+        self._queue = queue.Queue(maxsize=depth)
+        self._error = None
+        self._thread = threading.Thread(target=self._run, name="arcflash-writer", daemon=True)
+
+    def _run(self):
+        while True:
+            item = self._queue.get()
+            if item is None:
+                return
+            if self._error is None:
+                try:
+                    write_bytes_atomic(*item)
+                except BaseException as exc:  # handed to the caller's thread
+                    self._error = exc
+
+    def __call__(self, path, data):
+        if self._error is not None:
+            raise self._error
+        self._queue.put((path, data))
+
+    def __enter__(self):
+        self._thread.start()
+        return self
+
+    def __exit__(self, kind, value, traceback):
+        self._queue.put(None)
+        self._thread.join()
+        if kind is None and self._error is not None:
+            raise self._error
+        return False

@@ -145,7 +145,7 @@ def _pieces(kind, content, block, key_min, issued_on):
     raise ValueError(f"layout block kind: unknown {kind!r}")
 
 
-@functools.lru_cache(maxsize=8192)
+@functools.lru_cache(maxsize=32768)
 def _lines(piece, scale, width):
     """(size, lines) of a piece at ``scale``; None when the size would fall below its minimum. Remembered:
     the lines found while fitting a label are the lines drawn."""
