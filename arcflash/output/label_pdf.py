@@ -466,13 +466,14 @@ def _draw_planned(canvas, content, x, y, w, h, layout, plan, issued_on, placed):
         top -= height
 
 
-def unfit_labels(contents, layout):
-    """The messages of the labels that do not fit ``layout`` (laid out, not drawn)."""
+def unfit_labels(contents, layout, issued_on=None):
+    """The messages of the labels that do not fit ``layout`` (laid out, not drawn), issued on ``issued_on``
+    (default today)."""
     cell_w, cell_h = _cell(layout)
     problems = []
     for content in contents:
         try:
-            plan_label(content, cell_w, cell_h, layout)
+            plan_label(content, cell_w, cell_h, layout, issued_on)
         except LabelFitError as exc:
             problems.append(str(exc))
     return problems

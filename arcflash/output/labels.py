@@ -495,18 +495,19 @@ def issue_labels(site, governing, out_dir, layout="label-4x6", sheet="sheet-lett
         states = ledger.status(book, contents)
         contents = [c for c in contents if states[c.equipment_id] != "current"]
     single, combined = load_layout(layout), load_layout(sheet)
-    unfit = unfit_labels(contents, single) + unfit_labels(contents, combined)
+    today = dt.date.today()  # one issue date for the whole batch, even one printed across midnight
+    unfit = unfit_labels(contents, single, today) + unfit_labels(contents, combined, today)
     if unfit:  # none printed: a label is never printed cut off, nor is a batch printed with one missing
         raise LabelFitError("; ".join(unfit))
     qr_matrices([c.qr_payload for c in contents])  # every QR code encoded in one batch (remembered)
     folder = Path(out_dir) / "labels"
     remove_leftovers(folder)
     remove_leftovers(Path(out_dir))
-    sheet = LabelPages(combined)
+    sheet = LabelPages(combined, today)
     with BackgroundWriter() as write:  # each file written while the next label is drawn
         for content in contents:  # each label drawn alone and on the sheet while its layout is at hand
             write(folder / safe_file_name(content.equipment_id, content.content_hash),
-                  labels_pdf_bytes([content], single))
+                  labels_pdf_bytes([content], single, today))
             sheet.add(content)
     if contents:
         write_bytes_atomic(Path(out_dir) / "labels-sheet.pdf", sheet.finish())

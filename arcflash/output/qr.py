@@ -320,22 +320,40 @@ def qr_matrix(payload):
     return _MATRICES[payload]
 
 
+@functools.lru_cache(maxsize=None)
+def _chunk_layout(version):
+    """Per version, flat (n * n): the function patterns with blank format information and light data
+    modules; the data module positions in placing order; each mask's inversions on the data modules only
+    (8, n * n); and each mask's final function patterns, data modules light (8, n * n)."""
+    scoring, rows, cols, masks, finals = _version_layout(version)
+    flat = rows * scoring.shape[1] + cols
+    base = scoring.ravel().copy()
+    base[flat] = False
+    patterns = np.zeros((len(MASKS), base.size), dtype=bool)
+    patterns[:, flat] = masks
+    cleared = np.array(finals).reshape(len(MASKS), -1)
+    cleared[:, flat] = False
+    return base, flat, patterns, cleared
+
+
 #: Payloads encoded together (a few MB of symbols: eight masks of each) [-].
 _CHUNK = 512
 
 
 def _encode_chunk(version, group):
     """Encode (payload, data codewords) pairs of one version; remember each symbol."""
-    scoring, rows, cols, masks, finals = _version_layout(version)
+    base, flat, patterns, finals = _chunk_layout(version)
     codewords = _codewords_batch([data for _, data in group], version)
     packed = np.unpackbits(codewords, axis=1)
-    bits = np.zeros((len(group), rows.size), dtype=bool)
-    bits[:, : min(packed.shape[1], rows.size)] = packed[:, : rows.size]  # remainder bits stay light
-    symbols = np.repeat(scoring[None, None], len(group), axis=0).repeat(len(MASKS), axis=1)
-    symbols[:, :, rows, cols] = bits[:, None, :] ^ masks[None]
+    placed = np.zeros((len(group), base.size), dtype=bool)  # the data modules, in place, unmasked
+    count = min(packed.shape[1], flat.size)
+    placed[:, flat[:count]] = packed[:, :count]  # remainder bits stay light
+    size = int(round(base.size ** 0.5))
+    # function patterns, data and each mask (their modules apart: XOR puts them together)
+    symbols = ((base ^ placed)[:, None, :] ^ patterns[None]).reshape(len(group), len(MASKS), size, size)
     best = np.argmin(penalty(symbols), axis=1)
-    chosen = np.array(finals)[best]  # each symbol's function patterns with its mask's format information
-    chosen[:, rows, cols] = bits ^ masks[best]
+    # each symbol's function patterns with its mask's format information, its data and mask
+    chosen = (finals[best] ^ placed ^ patterns[best]).reshape(-1, size, size)
     chosen.setflags(write=False)  # shared through the cache
     for (payload, _), symbol in zip(group, chosen):
         _MATRICES[payload] = symbol

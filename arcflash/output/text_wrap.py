@@ -4,17 +4,30 @@ from __future__ import annotations
 
 from reportlab.pdfbase.pdfmetrics import stringWidth
 
-_WORD_WIDTHS = {}
+_WORD_WIDTHS = {}  # {(font, size): {word: width}}
+_WORDS_KEPT = 200_000
+_KEPT = [0]
 
 
-def word_width(word, font, size):
-    """reportlab's width of ``word`` [pt], remembered (words repeat from label to label)."""
-    key = (word, font, size)
-    width = _WORD_WIDTHS.get(key)
-    if width is None:
-        if len(_WORD_WIDTHS) >= 200_000:
+def _widths(font, size):
+    """The remembered word widths of one font and size (all forgotten once too many are kept)."""
+    widths = _WORD_WIDTHS.get((font, size))
+    if widths is None:
+        if _KEPT[0] >= _WORDS_KEPT:
             _WORD_WIDTHS.clear()
-        width = _WORD_WIDTHS[key] = stringWidth(word, font, size)
+            _KEPT[0] = 0
+        widths = _WORD_WIDTHS[(font, size)] = {}
+    return widths
+
+
+def word_width(word, font, size, widths=None):
+    """reportlab's width of ``word`` [pt], remembered (words repeat from label to label); ``widths``: the
+    font and size's table (:func:`_widths`), if at hand."""
+    widths = _widths(font, size) if widths is None else widths
+    width = widths.get(word)
+    if width is None:
+        width = widths[word] = stringWidth(word, font, size)
+        _KEPT[0] += 1
     return width
 
 
@@ -24,12 +37,15 @@ def wrap(text, font, size, max_width):
     word's width remembered."""
     if not max_width:
         return text.split("\n")
-    space = word_width(" ", font, size)
+    widths = _widths(font, size)
+    space = word_width(" ", font, size, widths)
     lines = []
     for paragraph in text.split("\n"):
         line, used = [], -space
         for word in paragraph.split():
-            width = word_width(word, font, size)
+            width = widths.get(word)
+            if width is None:
+                width = word_width(word, font, size, widths)
             if used + space + width <= max_width or not line:
                 line.append(word)
                 used = used + space + width
