@@ -16,38 +16,55 @@ _NEW_FILE = os.O_WRONLY | os.O_CREAT | os.O_EXCL | getattr(os, "O_BINARY", 0)
 def _create_beside(path):
     """Create a new temporary file in ``path``'s folder, ``.<name>.<process>-<number>.part<suffix>``, with
     the usual mode of a new file (0666 less the umask, as the final file gets); (handle, name)."""
+    folder, name = os.path.split(os.fspath(path))
+    stem, suffix = os.path.splitext(name)
+    prefix = os.path.join(folder, f".{stem}.{os.getpid()}-")
     for _ in range(1000):
-        temporary = os.path.join(path.parent, f".{path.stem}.{os.getpid()}-{next(_NUMBERS)}.part{path.suffix}")
+        temporary = f"{prefix}{next(_NUMBERS)}.part{suffix}"
         try:
             return os.open(temporary, _NEW_FILE, 0o666), temporary
         except FileExistsError:  # left by an earlier process of the same number: take the next
             continue
         except FileNotFoundError:  # the folder is not there yet
-            path.parent.mkdir(parents=True, exist_ok=True)
-    handle, temporary = tempfile.mkstemp(prefix=f".{path.stem}.", suffix=f".part{path.suffix}", dir=path.parent)
+            Path(folder or ".").mkdir(parents=True, exist_ok=True)
+    handle, temporary = tempfile.mkstemp(prefix=f".{stem}.", suffix=f".part{suffix}", dir=folder or None)
     umask = os.umask(0)
     os.umask(umask)
     os.chmod(temporary, 0o666 & ~umask)  # mkstemp makes the file private; give it the usual mode
     return handle, temporary
 
 
+def _open_beside(path):
+    """:func:`_create_beside`, its errors naming ``path`` (the file the user asked for), not a temporary."""
+    try:
+        return _create_beside(path)
+    except OSError as exc:
+        raise OSError(exc.errno, exc.strerror, str(path)) from exc
+
+
+def _failed(temporary, path, exc):
+    """Remove the temporary file of a failed write; the error to raise: ``exc``, or one naming ``path``
+    where ``exc`` names the temporary file."""
+    if os.path.exists(temporary):
+        os.unlink(temporary)
+    if isinstance(exc, OSError) and exc.filename == temporary:
+        return OSError(exc.errno, exc.strerror, str(path))
+    return exc
+
+
 @contextlib.contextmanager
 def _beside(path):
     """A temporary file in ``path``'s folder, as (open handle, name), moved onto ``path`` when the block ends
     without an error; otherwise removed. Errors name ``path``, never the temporary file."""
-    try:
-        handle, temporary = _create_beside(path)
-    except OSError as exc:  # name the file the user asked for, not a temporary one
-        raise OSError(exc.errno, exc.strerror, str(path)) from exc
+    handle, temporary = _open_beside(path)
     try:
         yield handle, temporary
         os.replace(temporary, path)
     except BaseException as exc:
-        if os.path.exists(temporary):
-            os.unlink(temporary)
-        if isinstance(exc, OSError) and exc.filename == temporary:
-            raise OSError(exc.errno, exc.strerror, str(path)) from exc
-        raise
+        error = _failed(temporary, path, exc)
+        if error is exc:
+            raise
+        raise error from exc
 
 
 def write_atomic(path, write):
@@ -69,14 +86,22 @@ def write_atomic(path, write):
 
 
 def write_bytes_atomic(path, data):
-    """Write ``data`` to ``path`` through a temporary file in the same folder and a rename (one open)."""
-    with _beside(Path(path)) as (handle, _):
+    """Write ``data`` to ``path`` through a temporary file in the same folder and a rename (one open); the
+    steps of :func:`_beside` without a context manager (a label batch writes thousands of files)."""
+    handle, temporary = _open_beside(path)
+    try:
         try:
             view = memoryview(data)
             while view:
                 view = view[os.write(handle, view):]
         finally:
             os.close(handle)
+        os.replace(temporary, path)
+    except BaseException as exc:
+        error = _failed(temporary, path, exc)
+        if error is exc:
+            raise
+        raise error from exc
 
 
 #: Age after which a temporary file of write_atomic is taken as left over by an interrupted run [s] (a run
