@@ -25,7 +25,7 @@ from reportlab.pdfbase.pdfmetrics import stringWidth
 from reportlab.pdfgen.canvas import Canvas
 
 from .pdf_lite import LiteCanvas, _string
-from .qr import qr_matrix
+from .qr import qr_image_hex, qr_matrix
 from .text_wrap import wrap as _wrap
 
 #: ANSI Z535.4 signal-word panels: DANGER white on safety red, WARNING black on safety orange
@@ -308,13 +308,6 @@ def qr_modules(payload):
     rectangles = np.column_stack((col, count - top - rows, width, rows))
     rectangles.setflags(write=False)
     return count, rectangles
-
-
-@functools.lru_cache(maxsize=4096)
-def qr_image_hex(payload):
-    """The QR code of ``payload`` as the data of a 1-bit image (:meth:`LiteCanvas.image_mask`): rows top
-    first, 1 dark, each padded to whole bytes, in hexadecimal digits."""
-    return np.packbits(qr_matrix(payload), axis=1).tobytes().hex()
 
 
 def _qr(canvas, content, x, top, side):

@@ -217,17 +217,26 @@ class LiteCanvas:
 
     def _document(self):
         stamp = dt.datetime.now(dt.timezone.utc).strftime("D:%Y%m%d%H%M%SZ")
-        return document_bytes([_deflate("\n".join(ops)) for ops in self.pages], self.width, self.height,
+        return document_bytes([content_stream("\n".join(ops)) for ops in self.pages], self.width, self.height,
                               self.title, stamp)
 
 
-def _deflate(text):
-    """A content stream's operators, compressed (zlib level :data:`_DEFLATE_LEVEL`)."""
-    return zlib.compress(text.encode("ascii"), _DEFLATE_LEVEL)
+#: Content streams shorter than this are kept as they are [bytes]: a single label's (about 3 KB) would
+#: shrink by half, for more time than the rest of its document takes (zlib's set-up and pass).
+_DEFLATE_ABOVE = 8192
+
+
+def content_stream(text):
+    """A page's operators as (filter entry of the stream dictionary, stream data): compressed with zlib
+    (level :data:`_DEFLATE_LEVEL`) when longer than :data:`_DEFLATE_ABOVE` bytes."""
+    data = text.encode("ascii")
+    if len(data) < _DEFLATE_ABOVE:
+        return "", data
+    return " /Filter /FlateDecode", zlib.compress(data, _DEFLATE_LEVEL)
 
 
 def document_bytes(streams, width, height, title, stamp):
-    """A PDF of one page per compressed content stream (``streams``), every page ``width`` x ``height``
+    """A PDF of one page per content stream (``streams``, as :func:`content_stream` gives them), every page ``width`` x ``height``
     points, with the two fonts of :data:`_FONTS`; ``stamp`` the creation date (PDF date string).
 
     Objects: 1 catalog, 2.. fonts, then the page tree, then a stream and its page per page, then the
@@ -236,8 +245,9 @@ def document_bytes(streams, width, height, title, stamp):
     if len(streams) != 1:
         return _assembled(streams, width, height, title, stamp)
     head, page, tail_start = _one_page_skeleton(width, height, title)
-    stream = b"5 0 obj\n<< /Length %d /Filter /FlateDecode >>\nstream\n" % len(streams[0]) \
-        + streams[0] + b"\nendstream\nendobj\n"
+    entry, data = streams[0]
+    stream = b"5 0 obj\n<< /Length %d%s >>\nstream\n" % (len(data), entry.encode("ascii")) + data \
+        + b"\nendstream\nendobj\n"
     info = ("7 0 obj\n<< /Title %s /Producer (arcflash) /CreationDate (%s) >>\nendobj\n"
             % (_string(title), stamp)).encode("ascii")
     offsets = tail_start + (len(head), len(head) + len(stream), len(head) + len(stream) + len(page))
@@ -260,9 +270,8 @@ def _assembled(streams, width, height, title, stamp):
     resources = "<< /Font << " + " ".join(f"/{k} {n} 0 R" for k, n in fonts.items()) + " >> >>"
     tree = add("")
     kids = []
-    for content in streams:
-        stream = add(f"<< /Length {len(content)} /Filter /FlateDecode >>\nstream\n".encode("ascii")
-                     + content + b"\nendstream")
+    for entry, data in streams:
+        stream = add(f"<< /Length {len(data)}{entry} >>\nstream\n".encode("ascii") + data + b"\nendstream")
         kids.append(add(f"<< /Type /Page /Parent {tree} 0 R /MediaBox [0 0 {_number(width)} "
                         f"{_number(height)}] /Resources {resources} /Contents {stream} 0 R >>"))
     objects[tree - 1] = (f"<< /Type /Pages /Kids [{' '.join(f'{k} 0 R' for k in kids)}] "

@@ -303,6 +303,7 @@ def _version_layout(version):
 
 
 _MATRICES = {}
+_IMAGES = {}  # the symbols as 1-bit images in hexadecimal digits (qr_image_hex)
 _MATRICES_KEPT = 20_000
 
 
@@ -355,8 +356,18 @@ def _encode_chunk(version, group):
     # each symbol's function patterns with its mask's format information, its data and mask
     chosen = (finals[best] ^ placed ^ patterns[best]).reshape(-1, size, size)
     chosen.setflags(write=False)  # shared through the cache
-    for (payload, _), symbol in zip(group, chosen):
+    rows = np.packbits(chosen, axis=2).reshape(len(group), -1)
+    for (payload, _), symbol, image in zip(group, chosen, rows):
         _MATRICES[payload] = symbol
+        _IMAGES[payload] = image.tobytes().hex()
+
+
+def qr_image_hex(payload):
+    """The QR symbol of ``payload`` (:func:`qr_matrix`) as the data of a 1-bit image: rows top first, 1 dark,
+    each padded to whole bytes, in hexadecimal digits (made with the symbol)."""
+    if payload not in _IMAGES:
+        qr_matrices([payload])
+    return _IMAGES[payload]
 
 
 def qr_matrices(payloads):
@@ -370,6 +381,7 @@ def qr_matrices(payloads):
     todo = [p for p in dict.fromkeys(payloads) if p not in _MATRICES]
     if len(_MATRICES) + len(todo) > _MATRICES_KEPT:
         _MATRICES.clear()
+        _IMAGES.clear()
         todo = list(dict.fromkeys(payloads))
     by_version = {}
     for payload in todo:

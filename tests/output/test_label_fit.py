@@ -226,8 +226,10 @@ def test_a_one_page_document_is_the_general_assembly_of_one_page():
 
     from arcflash.output import pdf_lite
 
-    stream = pdf_lite._deflate("BT /F1 12 Tf 10 20 Td (Arc-flash boundary) Tj ET")
     args = (288.0, 432.0, "arcflash equipment labels", "D:20261202120000Z")
-    one = pdf_lite.document_bytes([stream], *args)
-    assert one == pdf_lite._assembled([stream], *args)
-    assert PdfReader(io.BytesIO(one)).pages[0].extract_text() == "Arc-flash boundary"
+    for text in ("BT /F1 12 Tf 10 20 Td (Arc-flash boundary) Tj ET",  # short: kept as it is
+                 "BT /F1 12 Tf 10 20 Td (Arc-flash boundary) Tj ET\n" + "0 0 1 1 re f\n" * 1000):  # compressed
+        stream = pdf_lite.content_stream(text)
+        one = pdf_lite.document_bytes([stream], *args)
+        assert one == pdf_lite._assembled([stream], *args)
+        assert PdfReader(io.BytesIO(one)).pages[0].extract_text() == "Arc-flash boundary"
