@@ -335,15 +335,15 @@ _PLANS_KEPT = 50_000  # every label of a 10,000-bus facility in two layouts, pla
 def plan_label(content, w, h, layout, issued_on=None):
     """:func:`_plan_label`, remembered: a label is planned to check it fits, then planned again to draw it.
 
-    Remembered by the layout object's identity (the entry holds the layout, so no other object can take its
-    identity while the entry is kept)."""
-    key = (content, w, h, id(layout), issued_on)
+    Remembered by the identities of the content and the layout (the entry holds both, so no other object
+    can take their identities while the entry is kept)."""
+    key = (id(content), w, h, id(layout), issued_on)
     entry = _PLANS.get(key)
-    if entry is None or entry[0] is not layout:
+    if entry is None or entry[0] is not layout or entry[1] is not content:
         if len(_PLANS) >= _PLANS_KEPT:
             _PLANS.clear()
-        entry = _PLANS[key] = (layout, _plan_label(content, w, h, layout, issued_on))
-    return entry[1]
+        entry = _PLANS[key] = (layout, content, _plan_label(content, w, h, layout, issued_on))
+    return entry[2]
 
 
 def _plan_label(content, w, h, layout, issued_on=None):

@@ -12,6 +12,7 @@ import datetime as dt
 import functools
 import hashlib
 import json
+import math
 import re
 from dataclasses import dataclass
 from pathlib import Path
@@ -106,7 +107,7 @@ _JSON_KEYS = {name: _json_text(name) + ": " for name in _SORTED_FIELDS}
 def signal_word(energy_cal_cm2):
     """The signal word for an incident energy: DANGER above 40 cal/cm² (no PPE category applies) or when not
     computed, WARNING otherwise (ANSI Z535.4 words; the edge of :data:`DANGER_ABOVE_CAL_CM2`)."""
-    known = energy_cal_cm2 is not None and np.isfinite(energy_cal_cm2)
+    known = energy_cal_cm2 is not None and math.isfinite(energy_cal_cm2)
     return "WARNING" if known and energy_cal_cm2 <= DANGER_ABOVE_CAL_CM2 else "DANGER"
 
 
@@ -167,6 +168,12 @@ def _shock_text(nominal_kv):
 
 
 def _review_by(study_date):
+    """The date a label is due for review: :data:`REVIEW_YEARS` after the study (today when undated)."""
+    return _review_after(study_date) if study_date else _review_after.__wrapped__(study_date)
+
+
+@functools.lru_cache(maxsize=64)
+def _review_after(study_date):
     try:
         start = dt.date.fromisoformat(study_date)
     except (TypeError, ValueError):
@@ -245,7 +252,7 @@ def label_content(site, bus, row, shows=None, model_status=None):
     f = site.facility
     energy = float(row["incident_energy_governing_cal_cm2"])
     shock = _shock_text(float(row["nominal_kv"]))
-    known = np.isfinite(energy)
+    known = math.isfinite(energy)
     danger = known and energy > DANGER_ABOVE_CAL_CM2
     at_distance = f"{energy_text(energy)} cal/cm2 at {length_text(float(row['working_distance_mm']))}"
     rating = "not applicable"

@@ -5,8 +5,7 @@ from __future__ import annotations
 import math
 import textwrap
 
-from ..models.nfpa70e import minimum_arc_rating_cal_cm2
-from ..models.units import mm_to_feet_inches
+from ..models.units import MM_PER_INCH
 from .cautions import CAUTION
 
 
@@ -28,8 +27,21 @@ def length_text(length_mm, missing="not computed"):
     """
     if length_mm is None or not math.isfinite(length_mm):
         return missing
-    feet, inches = mm_to_feet_inches(length_mm)
-    return f"{math.ceil(length_mm - 1e-9):,.0f} mm / {int(feet)} ft {int(inches)} in"
+    feet, inches = _feet_inches_up(length_mm)
+    return f"{math.ceil(length_mm - 1e-9):,.0f} mm / {feet} ft {inches} in"
+
+
+def _feet_inches_up(length_mm):
+    """:func:`arcflash.models.units.mm_to_feet_inches` (rounded up) of one finite length, in plain Python
+    (the same operations; a label's lengths one at a time) [ft, in]."""
+    return divmod(math.ceil(float(length_mm) / MM_PER_INCH - 1e-9), 12)
+
+
+def _tenth_up(energy_cal_cm2):
+    """:func:`arcflash.models.nfpa70e.minimum_arc_rating_cal_cm2` of one finite value, in plain Python: the
+    same operations (numpy's round to 9 decimals is rint(x * 1e9) / 1e9, Python's round of a float to an
+    integer is the same half-to-even rint) [cal/cm²]."""
+    return math.ceil(round(float(energy_cal_cm2) * 10.0 * 1e9) / 1e9) / 10.0
 
 
 def energy_text(incident_energy_cal_cm2, decimals=1):
@@ -55,7 +67,7 @@ def energy_text(incident_energy_cal_cm2, decimals=1):
     if incident_energy_cal_cm2 is None or not math.isfinite(incident_energy_cal_cm2):
         return "not computed"
     if decimals == 1:  # the same round-up as the minimum arc rating (NFPA 70E)
-        return f"{float(minimum_arc_rating_cal_cm2(incident_energy_cal_cm2)):.1f}"
+        return f"{_tenth_up(incident_energy_cal_cm2):.1f}"
     scale = 10.0 ** decimals
     # round(., 9) first: a value already at the printed step (1.23 stored as 1.2300000000000002) stays.
     return f"{math.ceil(round(float(incident_energy_cal_cm2) * scale, 9)) / scale:.{decimals}f}"
@@ -81,8 +93,8 @@ def feet_inches(length_mm):
     """
     if length_mm is None or not math.isfinite(length_mm):
         return "not computed"
-    feet, inches = mm_to_feet_inches(length_mm)
-    return f"{int(feet)} ft {int(inches)} in ({math.ceil(length_mm - 1e-9):,} mm)"
+    feet, inches = _feet_inches_up(length_mm)
+    return f"{feet} ft {inches} in ({math.ceil(length_mm - 1e-9):,} mm)"
 
 
 def _fmt(value, spec):

@@ -10,6 +10,8 @@ import math
 
 import pandas as pd
 import pytest
+from hypothesis import given
+from hypothesis import strategies as st
 
 from arcflash.output.text import energy_text, quick_report
 
@@ -21,6 +23,19 @@ from arcflash.output.text import energy_text, quick_report
 def test_energy_text_rounds_up(value, decimals, printed):
     assert energy_text(value, decimals) == printed
     assert float(printed) >= value - 1e-12
+
+
+@given(value=st.one_of(st.floats(0.0, 1e7), st.sampled_from([304.8, 3.01, 8.0, 40.0, 1.2, 0.15, 12.7, 609.6])))
+def test_plain_rounding_equals_the_models(value):
+    # the label's one-value roundings are the array functions' operations in plain Python: equal, not close
+    import numpy as np
+
+    from arcflash.models.nfpa70e import minimum_arc_rating_cal_cm2
+    from arcflash.models.units import mm_to_feet_inches
+    from arcflash.output.text import _feet_inches_up, _tenth_up
+
+    assert _tenth_up(value) == float(minimum_arc_rating_cal_cm2(value))
+    assert _feet_inches_up(value) == tuple(int(v) for v in mm_to_feet_inches(np.float64(value)))
 
 
 @pytest.mark.parametrize("value", [None, math.nan])
