@@ -85,9 +85,8 @@ def write_atomic(path, write):
         write(temporary)
 
 
-def write_bytes_atomic(path, data):
-    """Write ``data`` to ``path`` through a temporary file in the same folder and a rename (one open); the
-    steps of :func:`_beside` without a context manager (a label batch writes thousands of files)."""
+def _write_beside(path, data):
+    """Write ``data`` to a new temporary file beside ``path``; its name. A failure leaves nothing behind."""
     handle, temporary = _open_beside(path)
     try:
         try:
@@ -96,6 +95,19 @@ def write_bytes_atomic(path, data):
                 view = view[os.write(handle, view):]
         finally:
             os.close(handle)
+    except BaseException as exc:
+        error = _failed(temporary, path, exc)
+        if error is exc:
+            raise
+        raise error from exc
+    return temporary
+
+
+def write_bytes_atomic(path, data):
+    """Write ``data`` to ``path`` through a temporary file in the same folder and a rename (one open); the
+    steps of :func:`_beside` without a context manager (a label batch writes thousands of files)."""
+    temporary = _write_beside(path, data)
+    try:
         os.replace(temporary, path)
     except BaseException as exc:
         error = _failed(temporary, path, exc)
@@ -129,46 +141,167 @@ def remove_leftovers(folder, now=None):
     return sorted(removed)
 
 
-class BackgroundWriter:
-    """Files written atomically (:func:`write_bytes_atomic`) by one background thread while the caller
-    prepares the next: creating a file is kernel work that overlaps with the caller's Python.
+class _Stage:
+    """Files written in full to temporaries beside their paths, then all moved onto their paths
+    (:meth:`publish`) or all removed (:meth:`discard`). The first error stops the writing and is kept."""
 
-    Use as a context manager; ``writer(path, data)`` queues a file (at most ``depth`` waiting). The first
-    error stops the writing; it is raised when the block ends (after the thread has stopped), or at the next
-    ``writer(...)`` call. Every file written is complete: a failure leaves the rest unwritten.
+    def __init__(self):
+        self.staged = []  # (temporary, path)
+        self.error = None
+
+    def write(self, path, data):
+        if self.error is None:
+            try:
+                self.staged.append((_write_beside(path, data), path))
+            except OSError as exc:
+                self.error = exc
+
+    def publish(self):
+        staged, self.staged = self.staged, []
+        for k, (temporary, path) in enumerate(staged):
+            if self.error is not None:
+                self.staged = staged[k:]  # removed by discard
+                return
+            try:
+                os.replace(temporary, path)
+            except OSError as exc:
+                self.error = OSError(exc.errno, exc.strerror, str(path))
+
+    def discard(self):
+        for temporary, _ in self.staged:
+            with contextlib.suppress(OSError):
+                os.unlink(temporary)
+        self.staged = []
+
+
+#: Frames from the caller to a file-writing process: a file (path and data follow, lengths in the header),
+#: publish, end.
+_FILE, _PUBLISH = b"W", b"P"
+_HEADER = "<II"
+
+
+def _serve(source=None, sink=None):
+    """A file-writing process's loop (``python -c``; this module loaded on its own, standard library only):
+    read frames from ``source`` (stdin), write and publish as :class:`_Stage` does, and at the end of the
+    input remove what was not published and report one line to ``sink`` (stdout): ``ok``, or ``error``,
+    errno, message and path separated by tabs."""
+    import struct
+    import sys
+
+    source = source or sys.stdin.buffer
+    sink = sink or sys.stdout
+    stage, size = _Stage(), struct.calcsize(_HEADER)
+
+    def read(count):
+        data = source.read(count)
+        if len(data) != count:
+            raise EOFError
+        return data
+
+    try:
+        while True:
+            kind = source.read(1)
+            if kind == _FILE:
+                path_length, data_length = struct.unpack(_HEADER, read(size))
+                path = os.fsdecode(read(path_length))
+                stage.write(path, read(data_length))
+            elif kind == _PUBLISH:
+                stage.publish()
+            else:
+                break
+    except EOFError:
+        pass
+    stage.discard()
+    error = stage.error
+    sink.write("ok\n" if error is None else f"error\t{error.errno}\t{error.strerror}\t{error.filename}\n")
+    sink.flush()
+
+
+class StagedFiles:
+    """Files written in two stages (:class:`_Stage`): each in full to a temporary beside its path, then,
+    once every one is written, all moved onto their paths (:meth:`publish`, a rename each, in order).
+    Leaving the block without publishing, or on an error, removes every temporary: nothing staged reaches
+    its path.
+
+    With ``helper`` true the files are written by a small process of its own (this module, standard library
+    only) that the caller feeds through a pipe: creating thousands of files is kernel work that then runs
+    beside the caller's Python instead of waiting for it (a thread would wait for the interpreter's lock
+    after every system call). Otherwise they are written in the caller's process as they come.
+
+    Use as a context manager; ``staged(path, data)`` stages a file. The first error stops the writing; it
+    is raised when the block ends (after the temporaries are removed), naming the file.
     """
 
-    def __init__(self, depth=64):
-        import queue
-        import threading
-
-        self._queue = queue.Queue(maxsize=depth)
-        self._error = None
-        self._thread = threading.Thread(target=self._run, name="arcflash-writer", daemon=True)
-
-    def _run(self):
-        while True:
-            item = self._queue.get()
-            if item is None:
-                return
-            if self._error is None:
-                try:
-                    write_bytes_atomic(*item)
-                except BaseException as exc:  # handed to the caller's thread
-                    self._error = exc
-
-    def __call__(self, path, data):
-        if self._error is not None:
-            raise self._error
-        self._queue.put((path, data))
+    def __init__(self, helper=False):
+        self._helper = None
+        self._stage = _Stage()
+        self._publish = False
+        self._lost = None
+        self._helper_wanted = helper
 
     def __enter__(self):
-        self._thread.start()
+        if self._helper_wanted:
+            import subprocess
+            import sys
+
+            code = ("import importlib.util, sys; spec = importlib.util.spec_from_file_location('arcflash_files', "
+                    "sys.argv[1]); module = importlib.util.module_from_spec(spec); spec.loader.exec_module(module); "
+                    "module._serve()")
+            self._helper = subprocess.Popen([sys.executable, "-I", "-c", code, __file__], bufsize=1 << 16,
+                                            stdin=subprocess.PIPE, stdout=subprocess.PIPE, stderr=subprocess.PIPE)
         return self
 
+    def __call__(self, path, data):
+        if self._helper is None:
+            self._stage.write(path, data)
+            if self._stage.error is not None:
+                raise self._stage.error
+            return
+        import struct
+
+        name = os.fsencode(os.fspath(path))
+        try:
+            self._helper.stdin.write(_FILE + struct.pack(_HEADER, len(name), len(data)) + name)
+            self._helper.stdin.write(data)
+        except (BrokenPipeError, OSError) as exc:  # the writing process has gone: said when the block ends
+            self._lost = exc
+
+    def publish(self):
+        """Move every staged file onto its path, once all are written (when the block ends)."""
+        self._publish = True
+
     def __exit__(self, kind, value, traceback):
-        self._queue.put(None)
-        self._thread.join()
-        if kind is None and self._error is not None:
-            raise self._error
+        publish = kind is None and self._publish
+        if self._helper is None:
+            if publish:
+                self._stage.publish()
+            self._stage.discard()
+            error = self._stage.error
+        else:
+            error = self._finish_helper(publish)
+        if kind is None and error is not None:
+            raise error
         return False
+
+    def _finish_helper(self, publish):
+        """End the writing process (publishing first if asked); the error it reports, or None."""
+        lost = self._lost
+        try:
+            if publish and lost is None:
+                self._helper.stdin.write(_PUBLISH)
+            self._helper.stdin.close()
+        except OSError as exc:
+            lost = lost or exc
+        report = self._helper.stdout.read().decode("utf-8", "replace").strip()
+        complaint = self._helper.stderr.read().decode("utf-8", "replace").strip().splitlines()
+        self._helper.stdout.close()
+        self._helper.stderr.close()
+        self._helper.wait()
+        if report.startswith("error\t"):
+            _, errno, message, path = report.split("\t", 3)
+            return OSError(int(errno) if errno.lstrip("-").isdigit() else None, message, path)
+        if report != "ok" or lost is not None:
+            why = report or (complaint[-1] if complaint else None) or lost or "no report"
+            return OSError(f"the file-writing process stopped ({why}); check the output folder: its files may "
+                           "be incomplete")
+        return None

@@ -8,6 +8,7 @@ category, never both (the facility chooses, ``facility.label_shows``).
 
 from __future__ import annotations
 
+import contextlib
 import datetime as dt
 import functools
 import hashlib
@@ -454,6 +455,14 @@ def safe_file_name(equipment_id, digest):
     return f"{stem}-{digest[:8]}.pdf"
 
 
+#: Labels laid out, encoded and drawn together in a print run [-].
+_BATCH = 256
+
+#: Labels from which a print run writes its files through a process of its own (starting one takes about
+#: as long as writing 200 labels) [-].
+_HELPER_FROM = 200
+
+
 def issue_labels(site, governing, out_dir, layout="label-4x6", sheet="sheet-letter-2x2", buses=None,
                  changed_only=False, issued_by=None):
     """Print labels (one PDF each and a combined sheet) and record them in the ledger.
@@ -487,7 +496,7 @@ def issue_labels(site, governing, out_dir, layout="label-4x6", sheet="sheet-lett
         message names every such label and the field to shorten. Nothing is printed or recorded.
     """
     from . import ledger
-    from .files import BackgroundWriter, remove_leftovers, write_bytes_atomic
+    from .files import StagedFiles, remove_leftovers
     from .label_pdf import LabelFitError, LabelPages, labels_pdf_bytes, unfit_labels
     from .qr import qr_matrices
 
@@ -503,21 +512,38 @@ def issue_labels(site, governing, out_dir, layout="label-4x6", sheet="sheet-lett
         contents = [c for c in contents if states[c.equipment_id] != "current"]
     single, combined = load_layout(layout), load_layout(sheet)
     today = dt.date.today()  # one issue date for the whole batch, even one printed across midnight
-    unfit = unfit_labels(contents, single, today) + unfit_labels(contents, combined, today)
-    if unfit:  # none printed: a label is never printed cut off, nor is a batch printed with one missing
-        raise LabelFitError("; ".join(unfit))
-    qr_matrices([c.qr_payload for c in contents])  # every QR code encoded in one batch (remembered)
-    folder = Path(out_dir) / "labels"
+    folder, made = Path(out_dir) / "labels", [p for p in (Path(out_dir), Path(out_dir) / "labels") if not p.exists()]
     remove_leftovers(folder)
     remove_leftovers(Path(out_dir))
     sheet = LabelPages(combined, today)
-    with BackgroundWriter() as write:  # each file written while the next label is drawn
-        for content in contents:  # each label drawn alone and on the sheet while its layout is at hand
-            write(folder / safe_file_name(content.equipment_id, content.content_hash),
-                  labels_pdf_bytes([content], single, today))
-            sheet.add(content)
+    unfit_single, unfit_sheet = [], []
+    try:
+        # many labels: written by a process of their own while the next are laid out and drawn
+        with StagedFiles(helper=len(contents) >= _HELPER_FROM) as stage:
+            for start in range(0, len(contents), _BATCH):
+                batch = contents[start: start + _BATCH]
+                if not (unfit_single or unfit_sheet):
+                    qr_matrices([c.qr_payload for c in batch])  # the batch's QR codes encoded together
+                for content in batch:  # laid out in both layouts, then drawn alone and on the sheet
+                    unfit_single += unfit_labels([content], single, today)
+                    unfit_sheet += unfit_labels([content], combined, today)
+                    if unfit_single or unfit_sheet:
+                        continue  # nothing more drawn; every label still checked, to name them all
+                    stage(folder / safe_file_name(content.equipment_id, content.content_hash),
+                          labels_pdf_bytes([content], single, today))
+                    sheet.add(content)
+            if unfit_single or unfit_sheet:
+                # none printed: a label is never printed cut off, nor is a batch printed with one missing
+                raise LabelFitError("; ".join(unfit_single + unfit_sheet))
+            if contents:
+                stage(Path(out_dir) / "labels-sheet.pdf", sheet.finish())
+            stage.publish()
+    except BaseException:
+        for created in reversed(made):  # folders this run made, if still empty
+            with contextlib.suppress(OSError):
+                created.rmdir()
+        raise
     if contents:
-        write_bytes_atomic(Path(out_dir) / "labels-sheet.pdf", sheet.finish())
         rows = [study_values(by_bus[c.equipment_id]) for c in contents]
         ledger.record(book, contents, single.name, issued_by, study_rows=rows, snapshot=ledger.site_snapshot(site))
     return contents

@@ -111,6 +111,26 @@ def test_a_label_that_does_not_fit_is_refused_naming_bus_and_field(demo_labels, 
     assert not (tmp_path / "out" / "labels").exists()  # nothing printed, nothing recorded
 
 
+def test_a_label_that_does_not_fit_late_in_a_run_leaves_no_file(tmp_path, monkeypatch):
+    # labels are laid out, drawn and written batch by batch: one that does not fit in a later batch still
+    # leaves nothing behind (the earlier batches' files are removed before they reach their names)
+    from arcflash.output import labels
+
+    site = arcflash.load_site(DEMO)
+    governing = run_study(site).governing
+    text = "Arc-rated suit and hood rated 40 cal/cm2 minimum; " * 7
+    band = PpeBand(up_to_cal_cm2=100.0, arc_rating_cal_cm2=100.0, text=text)
+    site = dataclasses.replace(site, facility=site.facility.model_copy(update={"site_ppe": [band]}),
+                               path=tmp_path / "site")
+    fitting = [b for b in governing.index  # those without a site PPE line (above 40 cal/cm2, say)
+               if not label_pdf.unfit_labels([label_content(site, b, governing.loc[b])], load_layout("label-4x4"))]
+    assert len(fitting) >= 2 and "SWG-A" not in fitting
+    monkeypatch.setattr(labels, "_BATCH", 1)
+    with pytest.raises(label_pdf.LabelFitError, match=r"label of SWG-A: .* shorten site_ppe"):
+        issue_labels(site, governing, tmp_path / "out", buses=fitting[:2] + ["SWG-A"], layout="label-4x4")
+    assert not (tmp_path / "out").exists()
+
+
 def test_leftover_temporary_files_are_removed_at_the_next_run(tmp_path):
     import os
     import time

@@ -57,7 +57,7 @@ def test_interrupted_run_leaves_ledger_and_pdfs(site_copy, tmp_path, monkeypatch
     before = ledger.latest(ledger.ledger_path(site.path))
     existing = sorted((tmp_path / "out" / "labels").iterdir())
     calls = {"n": 0}
-    real = files.write_bytes_atomic
+    real = files._write_beside
 
     def failing(path, data):  # the third label's file fails while it is written
         calls["n"] += 1
@@ -67,11 +67,13 @@ def test_interrupted_run_leaves_ledger_and_pdfs(site_copy, tmp_path, monkeypatch
             raise OSError("disk full (simulated)")
         return real(path, data)
 
-    monkeypatch.setattr(files, "write_bytes_atomic", failing)
+    monkeypatch.setattr(files, "_write_beside", failing)
     with pytest.raises(OSError, match="simulated"):
         issue_labels(site, governing, tmp_path / "out")
     assert ledger.latest(ledger.ledger_path(site.path)) == before
     assert all(p.stat().st_size > 0 for p in existing)
+    # no label of the failed run reached its name: the two written before the failure were removed
+    assert sorted(p for p in (tmp_path / "out" / "labels").iterdir() if ".part" not in p.name) == existing
     leftovers = [p for p in (tmp_path / "out" / "labels").iterdir() if ".part" in p.name]
     # what a real interruption leaves (a killed process cannot clean up) is removed by the next run
     for path in leftovers:
