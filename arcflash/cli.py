@@ -276,8 +276,12 @@ def labels():
               help="Folder of an earlier 'arcflash study' run (its governing.csv); default: run the study now.")
 @click.option("--accept-stale-study", "stale_reason", default=None, metavar="REASON",
               help="Use a --study that no longer matches the site data; the reason is recorded in the ledger.")
-def labels_print(site_dir, out_dir, buses, changed_only, layout, sheet, issued_by, study_dir, stale_reason):
+@click.option("--basis", type=click.Choice(["study", "p95", "max"]), default="study", show_default=True,
+              help="Energy and boundary printed: the study's, or the higher of it and the P95 (or highest) of "
+                   "its uncertainty run (a --study run with --uncertainty N); the label states it.")
+def labels_print(site_dir, out_dir, buses, changed_only, layout, sheet, issued_by, study_dir, stale_reason, basis):
     """Print labels from a study of the site and record them in the site's ledger."""
+    from .output.label_basis import BasisError, governing_on_basis, uncertainty_samples
     from .output.labels import issue_labels, load_layout
     from .study.pipeline import run_study
 
@@ -287,7 +291,14 @@ def labels_print(site_dir, out_dir, buses, changed_only, layout, sheet, issued_b
         except ValueError as exc:
             raise click.UsageError(f"{option}: {exc}") from None
     site = _load(site_dir)
+    if basis != "study" and not study_dir:
+        raise click.UsageError(f"--basis {basis} needs --study DIR: the folder of 'arcflash study SITE "
+                               "--uncertainty N --out DIR'")
     governing = _earlier_study(study_dir, site, stale_reason) if study_dir else run_study(site).governing
+    try:
+        governing = governing_on_basis(governing, basis, uncertainty_samples(study_dir) if study_dir else None)
+    except BasisError as exc:
+        raise click.UsageError(str(exc)) from None
     try:
         printed = issue_labels(site, governing, out_dir, layout, sheet, list(buses), changed_only, issued_by)
     except KeyError as exc:

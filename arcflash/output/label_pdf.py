@@ -136,7 +136,8 @@ def _pieces(kind, content, block, key_min, issued_on):
         return pieces
     if kind == "study":
         status = f"{content.model_status}. " if content.model_status else ""
-        text = (f"Study rev {content.study_revision} of {content.study_date or 'undated'}; label issued "
+        basis = f"; {content.energy_basis}" if content.energy_basis else ""
+        text = (f"Study rev {content.study_revision} of {content.study_date or 'undated'}{basis}; label issued "
                 f"{_issued_text(issued_on)}; review by {content.review_by}. {status}For qualified persons; local "
                 "codes and licensed engineering practice govern.")
         return [_Piece("study", text, False, size, MIN_TEXT_PT)]

@@ -78,6 +78,7 @@ class LabelContent:
     flags: str
     study_note: str = ""
     model_status: str = ""  # the model's verification status in a few words (arcflash.verification)
+    energy_basis: str = ""  # what the energy and boundary are, when not the plain study (label_basis)
 
     def as_dict(self):
         """The fields as a dict {name: text} (every field is text, so no copying is needed)."""
@@ -87,8 +88,10 @@ class LabelContent:
     def content_json(self):
         """The fields as JSON text, keys sorted (what the hash is taken of, and what the ledger keeps): the
         text of ``json.dumps(self.as_dict(), sort_keys=True, ensure_ascii=False)``, written directly (every
-        field is text)."""
-        return "{" + ", ".join([_JSON_KEYS[name] + _json_text(getattr(self, name)) for name in _SORTED_FIELDS]) + "}"
+        field is text), less the fields added later while they are empty (:data:`_LEFT_OUT_WHEN_EMPTY`:
+        labels printed before keep their hashes)."""
+        return "{" + ", ".join([_JSON_KEYS[name] + _json_text(getattr(self, name)) for name in _SORTED_FIELDS
+                                if name not in _LEFT_OUT_WHEN_EMPTY or getattr(self, name)]) + "}"
 
     @functools.cached_property
     def content_hash(self):
@@ -102,6 +105,7 @@ class LabelContent:
 
 
 _SORTED_FIELDS = sorted(LabelContent.__dataclass_fields__)
+_LEFT_OUT_WHEN_EMPTY = frozenset({"energy_basis"})
 _JSON_KEYS = {name: _json_text(name) + ": " for name in _SORTED_FIELDS}
 
 
@@ -292,6 +296,7 @@ def label_content(site, bus, row, shows=None, model_status=None):
         flags=_text_or(row["flags"], ""),
         study_note=_study_notes(row),
         model_status=_model_status(site) if model_status is None else model_status,
+        energy_basis=_text_or(row.get("energy_basis"), ""),
     )
 
 

@@ -157,5 +157,7 @@ def write_results(site, results, out_dir, report=True, tcc_buses=None, uncertain
               "model_verification": {"verified": model.verified, "words": model.words},
               "site_data": site_fingerprint(site),
               "governing_sha256": hashlib.sha256(paths["governing.csv"].read_bytes()).hexdigest()}
+    if uncertainty is not None:
+        record["uncertainty"] = {"samples": int(uncertainty.samples), "seed": int(uncertainty.seed)}
     write_atomic(paths[STUDY_RECORD], lambda tmp: Path(tmp).write_text(json.dumps(record, indent=2), encoding="utf-8"))
     return paths
