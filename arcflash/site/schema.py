@@ -146,6 +146,12 @@ class Tolerances(_Element):
         0.0, description="Gaps within this many millimetres of the stated or typical gap (a bus may state its own).")
     working_distance_tolerance_mm: Annotated[float, Field(ge=0)] = Field(
         0.0, description="Working distances within this many millimetres (a bus may state its own).")
+    motor_running_fraction_min: Annotated[float, Field(ge=0, le=1)] = Field(
+        1.0, description="A contributing motor (group) runs anywhere between this fraction of its size and all of "
+                         "it; 1 runs it as stated (a motor may state its own running_fraction_min).")
+    device_band: Literal["within_band", "slowest"] = Field(
+        "within_band", description="An electronic trip unit trips anywhere inside its band (its pickup and time "
+                                   "tolerances), or on the slowest edge, as the study takes it.")
 
 
 class Facility(_Element):
@@ -300,6 +306,9 @@ class Motor(_Element):
     subtransient_reactance_percent: Positive = 16.7
     x_over_r: Positive = 10.0
     contributes: bool = True
+    running_fraction_min: Annotated[float, Field(ge=0, le=1)] | None = Field(
+        None, description="Smallest running share of the size, for uncertainty runs; default "
+                          "facility.tolerances.motor_running_fraction_min.")
 
     @property
     def kva(self):

@@ -2,7 +2,8 @@
 
 The inputs sampled (``facility.tolerances``, an element may state its own): each utility's fault level
 between its stated minimum and maximum, each transformer's %Z within its tolerance, each cable's length
-within its tolerance, each bus's gap and working distance within theirs; every one uniform over its range.
+within its tolerance, each bus's gap and working distance within theirs, each motor's running share, each
+trip unit's place in its band; every one uniform over its range.
 One Latin-hypercube design (``scipy.stats.qmc.LatinHypercube``) of all the inputs is drawn from the seed
 before any work is split, so the results are the same, bit for bit, however the samples are split into
 chunks and wherever the chunks run (in-process, a local Dask cluster, a dask.distributed scheduler).
@@ -15,8 +16,11 @@ inputs that drive the spread: the Spearman rank correlation of each input with t
 global sensitivity measure that needs no special sampling design; a Sobol analysis would need its own
 design of several times as many runs).
 
-Not yet: a sample axis through the fault solve and clearing (each sample is a study of its own), motor
-running fractions and positions inside device bands as inputs.
+Also each contributing motor's running share (between its smallest running fraction and all of it) and
+each electronic trip unit's position inside its band (pickups and delays moved by their tolerances: -1 the
+fastest edge, +1 the slowest, which the plain study uses). Not yet: a sample axis through the fault solve
+and clearing (each sample is a study of its own); band positions of relays and digitised curves (fuses,
+thermal-magnetic breakers), which stay on their total-clearing curves.
 """
 
 from __future__ import annotations
@@ -67,6 +71,17 @@ def uncertain_inputs(site):
         if tol > 0:
             found.append(UncertainInput(f"cables[{c.id}].length", "cables", c.id, "length", c.length_ft * (1 - tol),
                                         c.length_ft * (1 + tol), "ft"))
+    for m in site.motors.values():
+        low = m.running_fraction_min if m.running_fraction_min is not None else t.motor_running_fraction_min
+        if m.contributes and low < 1.0:
+            found.append(UncertainInput(f"motors[{m.id}].running_fraction", "motors", m.id, "running_fraction",
+                                        max(low, _SMALLEST_FRACTION), 1.0, "-"))
+    if t.device_band == "within_band":
+        for d in site.devices.values():
+            unit = d.trip_unit
+            if unit is not None and (unit.pickup_tolerance > 0 or unit.time_tolerance > 0):
+                found.append(UncertainInput(f"devices[{d.id}].band_position", "devices", d.id, "band_position",
+                                            -1.0, 1.0, "-"))
     equipment = equipment_table(site)
     for ident, bus in site.buses.items():
         for field, own, default in (("gap_mm", bus.gap_tolerance_mm, t.gap_tolerance_mm),
@@ -78,6 +93,31 @@ def uncertain_inputs(site):
                 low = max(value - tol, 1.0)
                 found.append(UncertainInput(f"buses[{ident}].{field}", "buses", ident, field, low, value + tol, "mm"))
     return found
+
+
+#: Smallest running share sampled (a size must stay positive) [-].
+_SMALLEST_FRACTION = 1e-3
+
+#: The trip-unit settings a band position moves: pickups (multiples) by the pickup tolerance, delays by the
+#: time tolerance (as models.curves._trip_unit_band does for its edges).
+_PICKUPS = ("long_time_pickup", "instantaneous_pickup")
+_DELAYS = ("long_time_delay_s", "short_time_delay_s")
+
+
+def _at_band_position(device, position):
+    """A copy of a trip-unit device whose settings sit at ``position`` in its band (-1 the fastest edge, +1
+    the slowest, which the study uses), its tolerances zero: the study's slowest edge of the copy is that
+    curve. Maintenance settings of the same fields move alike."""
+    unit = device.trip_unit
+    p, d = 1.0 + position * unit.pickup_tolerance, 1.0 + position * unit.time_tolerance
+    scale = {**{f: p for f in _PICKUPS}, **{f: d for f in _DELAYS}}
+
+    def moved(settings):
+        return {f: v * scale[f] if f in scale and v is not None else v for f, v in settings.items()}
+
+    update = {f: getattr(unit, f) * scale[f] for f in scale if getattr(unit, f) is not None}
+    unit = unit.model_copy(update={**update, "pickup_tolerance": 0.0, "time_tolerance": 0.0})
+    return device.model_copy(update={"trip_unit": unit, "maintenance": moved(device.maintenance)})
 
 
 def sample_design(inputs, samples, seed):
@@ -104,7 +144,8 @@ def sample_site(site, inputs, values):
     """A copy of ``site`` with each input set to its value in this sample."""
     from .arcing import equipment_table
 
-    sections = {name: dict(getattr(site, name)) for name in ("utilities", "transformers", "cables", "buses")}
+    sections = {name: dict(getattr(site, name))
+                for name in ("utilities", "transformers", "cables", "buses", "motors", "devices")}
     equipment = None
     for item, value in zip(inputs, values):
         element = sections[item.section][item.ident]
@@ -115,6 +156,11 @@ def sample_site(site, inputs, values):
             element = element.model_copy(update={"z_percent": float(value), "test": None, "z_tolerance_percent": 0.0})
         elif item.section == "cables":
             element = element.model_copy(update={"length": _quantity(float(value), "ft")})
+        elif item.section == "motors":
+            size = _quantity(element.size.value * float(value), element.size.unit)
+            element = element.model_copy(update={"size": size})
+        elif item.section == "devices":
+            element = _at_band_position(element, float(value))
         else:
             if equipment is None:
                 equipment = equipment_table(site)

@@ -39,11 +39,17 @@ def _small(tmp_path, **tolerances):
     return arcflash.load_site(folder)
 
 
-def test_with_every_tolerance_zero_each_sample_is_the_plain_study(tmp_path):
-    site = arcflash.load_site(DEMO)
+def _as_stated(site, **tolerances):
+    """``site`` with every tolerance zero or as stated, but those given."""
+    stated = {"utility_level": "as_stated", "transformer_z": "as_stated", "cable_length_percent": 0.0,
+              "device_band": "slowest", "motor_running_fraction_min": 1.0}
     facility = site.facility.model_copy(update={"tolerances": site.facility.tolerances.model_copy(update={
-        "utility_level": "as_stated", "transformer_z": "as_stated", "cable_length_percent": 0.0})})
-    site = type(site)(**{**site.__dict__, "facility": facility})
+        **stated, **tolerances})})
+    return type(site)(**{**site.__dict__, "facility": facility})
+
+
+def test_with_every_tolerance_zero_each_sample_is_the_plain_study(tmp_path):
+    site = _as_stated(arcflash.load_site(DEMO))
     assert uncertain_inputs(site) == []
     plain = arcflash.run_study(site).governing.reindex(list(site.buses))
     energy, boundary, bolted = run_chunk(site, [], sample_design([], 2, seed=3))
@@ -161,3 +167,41 @@ def test_a_remembered_device_bank_follows_the_site_it_was_built_from():
     assert again is not first
     k = ids.index("FDR-A2")
     assert again.threshold_a(0.05)[k] > first.threshold_a(0.05)[k]  # a higher instantaneous pickup
+
+
+def _governing(site, inputs, values):
+    """Governing energy and bolted current of every bus of one sample [cal/cm2, kA]."""
+    energy, _, bolted = run_chunk(site, inputs, np.array([values], dtype=float))
+    return energy[0], bolted[0]
+
+
+def test_trip_units_at_the_slow_edge_of_their_band_are_the_plain_study_and_faster_edges_never_higher():
+    site = _as_stated(arcflash.load_site(DEMO), device_band="within_band")
+    inputs = uncertain_inputs(site)
+    assert inputs and all(i.name.endswith(".band_position") and (i.low, i.high) == (-1.0, 1.0) for i in inputs)
+    plain = arcflash.run_study(site).governing.reindex(list(site.buses))
+    slowest, _ = _governing(site, inputs, [1.0] * len(inputs))
+    # the same curve reached two ways (settings moved, or tolerances applied): equal but for the order of
+    # floating-point products
+    assert np.allclose(slowest, plain["incident_energy_governing_cal_cm2"].to_numpy(float), rtol=1e-9,
+                       equal_nan=True)
+    for position in (-1.0, 0.0):  # a faster curve everywhere clears no later (common practice: the band)
+        faster, _ = _governing(site, inputs, [position] * len(inputs))
+        both = np.isfinite(faster) & np.isfinite(slowest)
+        assert (faster[both] <= slowest[both] * (1 + 1e-9)).all()
+        assert (faster[both] < slowest[both] * (1 - 1e-6)).any()
+
+
+def test_a_motor_running_at_a_share_of_its_size_contributes_less():
+    site = _as_stated(arcflash.load_site(DEMO), motor_running_fraction_min=0.25)
+    inputs = uncertain_inputs(site)
+    assert {i.name for i in inputs} == {f"motors[{m}].running_fraction" for m in site.motors}
+    assert all((i.low, i.high) == (0.25, 1.0) for i in inputs)
+    plain = arcflash.run_study(site).governing.reindex(list(site.buses))
+    full, bolted_full = _governing(site, inputs, [1.0] * len(inputs))
+    assert np.array_equal(full, plain["incident_energy_governing_cal_cm2"].to_numpy(float), equal_nan=True)
+    _, bolted_quarter = _governing(site, inputs, [0.25] * len(inputs))
+    at = list(site.buses).index("MCC-4KV")  # the 1000 hp motor's own bus: its share of the fault current falls
+    assert bolted_quarter[at] < bolted_full[at]
+    live = np.isfinite(bolted_full)
+    assert (bolted_quarter[live] <= bolted_full[live] * (1 + 1e-12)).all()
