@@ -87,6 +87,9 @@ class DeviceBank:
                  for ident, d in zip(device_ids, devices) if d.trip_unit is not None]
         self.relays = relay_parameters(relays) if relays else None
         self.units = trip_unit_parameters(units, site.facility.frequency_hz) if units else None
+        # what each device's curve is made of (for thresholds remembered device by device)
+        self._sources = [(d, ident in maintenance, site.facility.frequency_hz,
+                          site.curves.get(d.curve) if d.curve else None) for ident, d in zip(device_ids, devices)]
         named = [d.curve for d in devices]
         self.curve_names = sorted({name for name in named if name})
         self.curves = {name: site.curves[name].to_model() for name in self.curve_names}
@@ -183,8 +186,32 @@ class DeviceBank:
         return known[within_s].copy()
 
     def _threshold_a(self, within_s):
+        """:meth:`threshold_a` device by device: taken from :data:`_THRESHOLDS` for a device (the same
+        object, maintenance state, frequency and curve) met before, by bisection for the others together
+        (an uncertainty sample that moves a few devices recomputes only those)."""
         n = self.kind.size
-        device = np.arange(n)
+        found = np.full(n, np.nan)
+        keys = []
+        for k, (device, on, frequency, curve) in enumerate(self._sources):
+            key = (id(device), on, frequency, id(curve), within_s)
+            entry = _THRESHOLDS.get(key)
+            if entry is not None and entry[0] is device and entry[1] is curve:
+                found[k] = entry[2]
+            keys.append(key)
+        todo = np.flatnonzero(np.isnan(found))
+        if todo.size:
+            found[todo] = self._bisect(todo, within_s)
+            if len(_THRESHOLDS) + todo.size > _THRESHOLDS_KEPT:
+                _THRESHOLDS.clear()
+            for k in todo.tolist():
+                device, _, _, curve = self._sources[k]
+                _THRESHOLDS[keys[k]] = (device, curve, float(found[k]))
+        return found
+
+    def _bisect(self, device, within_s):
+        """Smallest current at which each of ``device`` (positions) clears within ``within_s`` [A]:
+        bisection on the logarithm of the current."""
+        n = device.size
         lo, hi = np.full(n, -3.0), np.full(n, 8.0)  # 1 mA .. 100 MA
         never = ~(self.clearing_time_s(device, np.full(n, 1e8)) <= within_s)
         for _ in range(60):
@@ -200,6 +227,11 @@ class DeviceBank:
 
 _BANKS = {}
 _BANKS_KEPT = 64
+
+#: Clearing thresholds by device (see :meth:`DeviceBank._threshold_a`): key -> (device, curve, threshold);
+#: the entry keeps the objects whose identities the key holds.
+_THRESHOLDS = {}
+_THRESHOLDS_KEPT = 200_000
 
 
 def device_bank(site, scenario, device_ids):
