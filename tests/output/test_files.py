@@ -34,3 +34,35 @@ def test_a_failed_write_keeps_the_earlier_file(tmp_path):
         write_atomic(target, failing)
     assert target.read_text(encoding="utf-8") == "earlier"
     assert [p.name for p in tmp_path.iterdir()] == ["t.csv"]
+
+
+@pytest.mark.parametrize("helper", [False, True])
+def test_staged_files_reach_their_names_only_when_published(tmp_path, helper):
+    from arcflash.output.files import StagedFiles
+
+    files = {tmp_path / "labels" / f"L{k}.pdf": bytes([k]) * (1000 + 37 * k) for k in range(20)}
+    with StagedFiles(helper=helper) as stage:
+        for path, data in files.items():
+            stage(path, data)
+        stage.publish()
+    assert {p: p.read_bytes() for p in (tmp_path / "labels").iterdir()} == files  # every byte, no temporary
+    with pytest.raises(RuntimeError, match="stopped drawing"), StagedFiles(helper=helper) as stage:
+        stage(tmp_path / "labels" / "new.pdf", b"new")
+        stage(tmp_path / "labels" / "L0.pdf", b"changed")
+        raise RuntimeError("stopped drawing")
+    assert sorted(p.name for p in (tmp_path / "labels").iterdir()) == sorted(p.name for p in files)
+    assert (tmp_path / "labels" / "L0.pdf").read_bytes() == files[tmp_path / "labels" / "L0.pdf"]
+
+
+@pytest.mark.parametrize("helper", [False, True])
+def test_a_staged_file_that_cannot_be_written_is_named_and_nothing_is_published(tmp_path, helper):
+    from arcflash.output.files import StagedFiles
+
+    (tmp_path / "not-a-folder").write_text("a file where a folder should be", encoding="utf-8")
+    with pytest.raises(OSError) as caught, StagedFiles(helper=helper) as stage:
+        stage(tmp_path / "out" / "a.pdf", b"a")
+        stage(tmp_path / "not-a-folder" / "b.pdf", b"b")
+        stage(tmp_path / "out" / "c.pdf", b"c")
+        stage.publish()
+    assert "b.pdf" in str(caught.value.filename) and ".part" not in str(caught.value.filename)
+    assert not [p for p in (tmp_path / "out").iterdir()]  # a.pdf was written, then removed: none published
