@@ -253,3 +253,13 @@ def test_a_one_page_document_is_the_general_assembly_of_one_page():
         one = pdf_lite.document_bytes([stream], *args)
         assert one == pdf_lite._assembled([stream], *args)
         assert PdfReader(io.BytesIO(one)).pages[0].extract_text() == "Arc-flash boundary"
+
+
+@settings(max_examples=300, deadline=None)
+@given(text=st.text(alphabet=st.sampled_from(list("aeiouWMil1,./ -()\u00e9\u00b0\u00b2\u2265\u03a9")), max_size=30),
+       font=st.sampled_from(["Helvetica", "Helvetica-Bold"]), size=st.floats(5.0, 30.0))
+def test_text_widths_are_reportlabs(text, font, size):
+    # the glyph widths summed without the font lookup give reportlab's stringWidth, exactly
+    from arcflash.output.text_wrap import text_width
+
+    assert text_width(text, font, size) == stringWidth(text, font, size)
