@@ -524,7 +524,7 @@ def issue_labels(site, governing, out_dir, layout="label-4x6", sheet="sheet-lett
     unfit_single, unfit_sheet = [], []
     try:
         # many labels: written by a process of their own while the next are laid out and drawn
-        with StagedFiles(helper=len(contents) >= _HELPER_FROM) as stage:
+        with StagedFiles(helper=len(contents) >= _HELPER_FROM, fresh=[folder]) as stage:
             for start in range(0, len(contents), _BATCH):
                 batch = contents[start: start + _BATCH]
                 if not (unfit_single or unfit_sheet):

@@ -66,3 +66,51 @@ def test_a_staged_file_that_cannot_be_written_is_named_and_nothing_is_published(
         stage.publish()
     assert "b.pdf" in str(caught.value.filename) and ".part" not in str(caught.value.filename)
     assert not [p for p in (tmp_path / "out").iterdir()]  # a.pdf was written, then removed: none published
+
+
+@pytest.mark.parametrize("helper", [False, True])
+def test_a_fresh_folder_is_staged_whole_and_renamed_into_place(tmp_path, helper):
+    from arcflash.output.files import StagedFiles
+
+    folder = tmp_path / "out" / "labels"
+    files = {folder / f"L{k}.pdf": bytes([k]) * 500 for k in range(5)}
+    with pytest.raises(RuntimeError, match="stopped"), StagedFiles(helper=helper, fresh=[folder]) as stage:
+        for path, data in files.items():
+            stage(path, data)
+        raise RuntimeError("stopped")
+    assert not folder.exists() and not list((tmp_path / "out").iterdir())  # no folder, no staging folder
+    with StagedFiles(helper=helper, fresh=[folder]) as stage:
+        for path, data in files.items():
+            stage(path, data)
+        stage(tmp_path / "out" / "sheet.pdf", b"sheet")  # not in a fresh folder: a temporary and a rename
+        assert not folder.exists()  # nothing at its name before publishing
+        stage.publish()
+    assert {p: p.read_bytes() for p in folder.iterdir()} == files
+    assert sorted(p.name for p in (tmp_path / "out").iterdir()) == ["labels", "sheet.pdf"]
+
+
+def test_a_fresh_folder_made_meanwhile_gets_the_files_moved_in(tmp_path):
+    from arcflash.output.files import StagedFiles
+
+    folder = tmp_path / "labels"
+    with StagedFiles(fresh=[folder]) as stage:
+        stage(folder / "a.pdf", b"a")
+        folder.mkdir()
+        (folder / "other.pdf").write_bytes(b"someone else's")
+        stage.publish()
+    assert {p.name: p.read_bytes() for p in folder.iterdir()} == {"a.pdf": b"a", "other.pdf": b"someone else's"}
+    assert [p.name for p in tmp_path.iterdir()] == ["labels"]
+
+
+def test_an_old_staging_folder_is_removed_at_the_next_run(tmp_path):
+    import time
+
+    from arcflash.output.files import LEFTOVER_AGE_S, remove_leftovers
+
+    old, fresh = tmp_path / ".labels.123-4.part", tmp_path / ".labels.123-5.part"
+    for staging in (old, fresh):
+        staging.mkdir()
+        (staging / "a.pdf").write_bytes(b"a")
+    past = time.time() - LEFTOVER_AGE_S - 5
+    os.utime(old, (past, past))
+    assert remove_leftovers(tmp_path) == [old.name] and not old.exists() and fresh.exists()
