@@ -408,22 +408,21 @@ def _template_key(content, x, y, w, h, layout, plan, issued_on):
     """(key, strings) of a label for :meth:`LiteCanvas.template`: the key holds everything the drawing
     depends on but its strings; the strings (PDF tokens) in the order :func:`_draw_planned` draws them."""
     fixed, texts, scale, _, _, key_min, laid = plan
-    values, counts, text_blocks = [], [], iter(texts)
+    lines, qr_at, text_blocks = [], None, iter(texts)  # each drawn piece's lines, in drawing order
     for block in layout.blocks:
         kind = block["kind"]
-        if kind == "signal":
-            continue
         if kind == "qr":
-            values.append(qr_image_hex(content.qr_payload))
+            qr_at = len(lines)  # the symbol is drawn before the text beside it
             width = _qr_box_width(w, fixed[kind] - 2)
-            drawn = [_lines(p, 1.0, width) for p in _pieces("qr", content, block, key_min, issued_on)]
-        else:
-            drawn = [laid[p] for p in _in_rows(next(text_blocks)[1])]
-        for _, lines in drawn:
-            counts.append(len(lines))
-            values += map(_string, lines)
+            lines += [_lines(p, 1.0, width)[1] for p in _pieces("qr", content, block, key_min, issued_on)]
+        elif kind != "signal":
+            lines += [laid[p][1] for p in _in_rows(next(text_blocks)[1])]
+    counts = tuple(map(len, lines))
+    values = list(map(_string, itertools.chain.from_iterable(lines)))
+    if qr_at is not None:
+        values.insert(sum(counts[:qr_at]), qr_image_hex(content.qr_payload))
     key = ("label", x, y, w, h, content.signal_word, bool(content.flags), bool(content.site_ppe), scale,
-           tuple(counts), qr_matrix(content.qr_payload).shape[0], id(layout))
+           counts, qr_matrix(content.qr_payload).shape[0], id(layout))
     return key, tuple(values)
 
 

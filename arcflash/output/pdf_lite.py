@@ -13,8 +13,8 @@ with reportlab's canvas instead.
 
 from __future__ import annotations
 
-import datetime as dt
 import functools
+import time
 import zlib
 
 from reportlab.pdfbase.pdfmetrics import stringWidth
@@ -216,9 +216,20 @@ class LiteCanvas:
         return self.data
 
     def _document(self):
-        stamp = dt.datetime.now(dt.timezone.utc).strftime("D:%Y%m%d%H%M%SZ")
+        stamp = _creation_stamp()
         return document_bytes([content_stream("\n".join(ops)) for ops in self.pages], self.width, self.height,
                               self.title, stamp)
+
+
+_STAMP = [None, ""]
+
+
+def _creation_stamp():
+    """The PDF date of now (UTC), made once a second (a batch writes thousands of documents)."""
+    second = int(time.time())
+    if _STAMP[0] != second:
+        _STAMP[:] = [second, time.strftime("D:%Y%m%d%H%M%SZ", time.gmtime(second))]
+    return _STAMP[1]
 
 
 #: Content streams shorter than this are kept as they are [bytes]: a single label's (about 3 KB) would
