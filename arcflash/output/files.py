@@ -86,16 +86,21 @@ def write_atomic(path, write):
         write(temporary)
 
 
+def _write_all(handle, data):
+    """Write ``data`` to an open file and close it."""
+    try:
+        view = memoryview(data)
+        while view:
+            view = view[os.write(handle, view):]
+    finally:
+        os.close(handle)
+
+
 def _write_beside(path, data):
     """Write ``data`` to a new temporary file beside ``path``; its name. A failure leaves nothing behind."""
     handle, temporary = _open_beside(path)
     try:
-        try:
-            view = memoryview(data)
-            while view:
-                view = view[os.write(handle, view):]
-        finally:
-            os.close(handle)
+        _write_all(handle, data)
     except BaseException as exc:
         error = _failed(temporary, path, exc)
         if error is exc:
@@ -106,26 +111,13 @@ def _write_beside(path, data):
 
 def _write_new(path, data):
     """Write ``data`` to ``path``, a file that must not exist yet (a staging folder's)."""
-    handle = os.open(path, _NEW_FILE, 0o666)
-    try:
-        view = memoryview(data)
-        while view:
-            view = view[os.write(handle, view):]
-    finally:
-        os.close(handle)
+    _write_all(os.open(path, _NEW_FILE, 0o666), data)
 
 
 def write_bytes_atomic(path, data):
-    """Write ``data`` to ``path`` through a temporary file in the same folder and a rename (one open); the
-    steps of :func:`_beside` without a context manager (a label batch writes thousands of files)."""
-    temporary = _write_beside(path, data)
-    try:
-        os.replace(temporary, path)
-    except BaseException as exc:
-        error = _failed(temporary, path, exc)
-        if error is exc:
-            raise
-        raise error from exc
+    """Write ``data`` to ``path`` through a temporary file in the same folder and a rename (one open)."""
+    with _beside(Path(path)) as (handle, _):
+        _write_all(handle, data)
 
 
 #: Age after which a temporary file of write_atomic is taken as left over by an interrupted run [s] (a run

@@ -99,13 +99,19 @@ def test_key_values_are_at_least_10_pt_and_the_largest_below_the_panel(demo_labe
         assert min(p.size for p in keys) > max(p.size for p in others)
 
 
-def test_a_label_that_does_not_fit_is_refused_naming_bus_and_field(demo_labels, tmp_path):
+def _long_ppe_site(tmp_path):
+    """The demo with a site PPE text too long for the 4 x 4 in label, and its governing table."""
     site = arcflash.load_site(DEMO)
     governing = run_study(site).governing
     text = "Arc-rated suit and hood rated 40 cal/cm2 minimum; " * 7
     band = PpeBand(up_to_cal_cm2=100.0, arc_rating_cal_cm2=100.0, text=text)
     site = dataclasses.replace(site, facility=site.facility.model_copy(update={"site_ppe": [band]}),
                                path=tmp_path / "site")
+    return site, governing
+
+
+def test_a_label_that_does_not_fit_is_refused_naming_bus_and_field(demo_labels, tmp_path):
+    site, governing = _long_ppe_site(tmp_path)
     with pytest.raises(label_pdf.LabelFitError, match=r"label of SWG-A: .* shorten site_ppe"):
         issue_labels(site, governing, tmp_path / "out", buses=["SWG-A"], layout="label-4x4")
     assert not (tmp_path / "out" / "labels").exists()  # nothing printed, nothing recorded
@@ -116,12 +122,7 @@ def test_a_label_that_does_not_fit_late_in_a_run_leaves_no_file(tmp_path, monkey
     # leaves nothing behind (the earlier batches' files are removed before they reach their names)
     from arcflash.output import labels
 
-    site = arcflash.load_site(DEMO)
-    governing = run_study(site).governing
-    text = "Arc-rated suit and hood rated 40 cal/cm2 minimum; " * 7
-    band = PpeBand(up_to_cal_cm2=100.0, arc_rating_cal_cm2=100.0, text=text)
-    site = dataclasses.replace(site, facility=site.facility.model_copy(update={"site_ppe": [band]}),
-                               path=tmp_path / "site")
+    site, governing = _long_ppe_site(tmp_path)
     fitting = [b for b in governing.index  # those without a site PPE line (above 40 cal/cm2, say)
                if not label_pdf.unfit_labels([label_content(site, b, governing.loc[b])], load_layout("label-4x4"))]
     assert len(fitting) >= 2 and "SWG-A" not in fitting
