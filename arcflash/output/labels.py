@@ -230,7 +230,9 @@ def _rows(governing):
     """The rows of a governing table as dicts of plain values by bus (far quicker to read than pandas rows,
     one by one; made column by column, as pandas' ``to_dict('records')`` gives them, only quicker)."""
     columns = list(governing.columns)
-    values = zip(*(governing[column].tolist() for column in columns)) if columns else ({} for _ in governing.index)
+    if not columns:
+        return {bus: {} for bus in governing.index}
+    values = zip(*(governing[column].tolist() for column in columns))
     return {bus: dict(zip(columns, row)) for bus, row in zip(governing.index, values)}
 
 
