@@ -260,6 +260,21 @@ def _move_folder(staging, folder):
         os.replace(entry.path, folder / entry.name)
 
 
+#: Bytes the pipe to the helper process holds where the system lets it be widened (Linux, F_SETPIPE_SZ):
+#: about 250 labels, so that a moment's stall of the disk does not stop the drawing [-].
+PIPE_BYTES = 1 << 20
+
+
+def _widen_pipe(stream):
+    """Widen a pipe's buffer to :data:`PIPE_BYTES` where the system allows (Linux); otherwise leave it."""
+    try:
+        import fcntl
+
+        fcntl.fcntl(stream.fileno(), getattr(fcntl, "F_SETPIPE_SZ", 1031), PIPE_BYTES)
+    except (ImportError, OSError, ValueError):
+        pass
+
+
 class StagedFiles:
     """Files written in two stages (:class:`_Stage`): each in full to a temporary beside its path, then,
     once every one is written, all moved onto their paths (:meth:`publish`, a rename each, in order).
@@ -302,6 +317,7 @@ class StagedFiles:
                     "module._serve()")
             self._helper = subprocess.Popen([sys.executable, "-I", "-c", code, __file__], bufsize=1 << 16,
                                             stdin=subprocess.PIPE, stdout=subprocess.PIPE, stderr=subprocess.PIPE)
+            _widen_pipe(self._helper.stdin)
         return self
 
     def __call__(self, path, data):
