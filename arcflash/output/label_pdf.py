@@ -347,6 +347,23 @@ def plan_label(content, w, h, layout, issued_on=None):
     return entry[2]
 
 
+_PARTS = {}
+
+
+def _layout_parts(layout, h):
+    """Of a layout at cell height ``h``: the key values' smallest size, the fixed blocks' heights, the text
+    blocks (kind, block) and the height left for them; remembered by the layout's identity (held)."""
+    entry = _PARTS.get((id(layout), h))
+    if entry is None or entry[0] is not layout:
+        key_min = float(getattr(layout, "key_min", None) or MIN_KEY_PT)
+        fixed = {b["kind"]: h * float(b["height"]) for b in layout.blocks if b["kind"] in ("signal", "qr")}
+        text_blocks = [(b["kind"], b) for b in layout.blocks if b["kind"] not in ("signal", "qr")]
+        if len(_PARTS) >= 256:
+            _PARTS.clear()
+        entry = _PARTS[(id(layout), h)] = (layout, (key_min, fixed, text_blocks, h - sum(fixed.values()) - 2.0))
+    return entry[1]
+
+
 def _plan_label(content, w, h, layout, issued_on=None):
     """Lay a label's text out in a w × h point cell without drawing: the fixed block heights, the text
     pieces, the common scale and the text block heights.
@@ -357,11 +374,8 @@ def _plan_label(content, w, h, layout, issued_on=None):
         The text does not fit at the smallest sizes; the message names the equipment and the field.
     """
     inner_w = w - 2 * _PAD
-    key_min = float(getattr(layout, "key_min", None) or MIN_KEY_PT)
-    fixed = {b["kind"]: h * float(b["height"]) for b in layout.blocks if b["kind"] in ("signal", "qr")}
-    texts = [(b["kind"], _pieces(b["kind"], content, b, key_min, issued_on), b) for b in layout.blocks
-             if b["kind"] not in ("signal", "qr")]
-    available = h - sum(fixed.values()) - 2.0
+    key_min, fixed, text_blocks, available = _layout_parts(layout, h)
+    texts = [(kind, _pieces(kind, content, b, key_min, issued_on), b) for kind, b in text_blocks]
     scale, heights, laid = _fit_scale(texts, inner_w, available)
     if scale is None:
         field, kind = _too_long(content, texts, inner_w)

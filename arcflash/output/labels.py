@@ -14,6 +14,7 @@ import functools
 import hashlib
 import json
 import math
+import os
 import re
 from dataclasses import dataclass
 from pathlib import Path
@@ -536,7 +537,7 @@ def issue_labels(site, governing, out_dir, layout="label-4x6", sheet="sheet-lett
                     unfit_sheet += unfit_labels([content], combined, today)
                     if unfit_single or unfit_sheet:
                         continue  # nothing more drawn; every label still checked, to name them all
-                    stage(folder / safe_file_name(content.equipment_id, content.content_hash),
+                    stage(os.path.join(folder, safe_file_name(content.equipment_id, content.content_hash)),
                           labels_pdf_bytes([content], single, today))
                     sheet.add(content)
             if unfit_single or unfit_sheet:

@@ -93,7 +93,7 @@ def record(path, contents, layout, issued_by=None, when=None, study_rows=None, s
             if snapshot is not None:
                 snapshot_id = connection.execute(
                     "INSERT INTO site_snapshots (taken_at, elements) VALUES (?, ?)",
-                    (stamp, zlib.compress(json.dumps(snapshot, sort_keys=True).encode("utf-8")))).lastrowid
+                    (stamp, zlib.compress(json.dumps(snapshot, sort_keys=True).encode("utf-8"), 1))).lastrowid
             before = connection.execute("SELECT COALESCE(MAX(id), 0) FROM issued").fetchone()[0]
             connection.executemany(
                 "INSERT INTO issued (equipment_id, study_revision, content_hash, content, issued_at, layout, "
