@@ -315,9 +315,14 @@ class StagedFiles:
             code = ("import importlib.util, sys; spec = importlib.util.spec_from_file_location('arcflash_files', "
                     "sys.argv[1]); module = importlib.util.module_from_spec(spec); spec.loader.exec_module(module); "
                     "module._serve()")
-            self._helper = subprocess.Popen([sys.executable, "-I", "-c", code, __file__], bufsize=1 << 16,
-                                            stdin=subprocess.PIPE, stdout=subprocess.PIPE, stderr=subprocess.PIPE)
-            _widen_pipe(self._helper.stdin)
+            try:
+                self._helper = subprocess.Popen([sys.executable, "-I", "-c", code, __file__], bufsize=1 << 16,
+                                                stdin=subprocess.PIPE, stdout=subprocess.PIPE,
+                                                stderr=subprocess.PIPE)
+            except (OSError, ValueError):  # no interpreter to start (an embedded one): written in-process
+                self._helper = None
+            else:
+                _widen_pipe(self._helper.stdin)
         return self
 
     def __call__(self, path, data):

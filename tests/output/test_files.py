@@ -114,3 +114,15 @@ def test_an_old_staging_folder_is_removed_at_the_next_run(tmp_path):
     past = time.time() - LEFTOVER_AGE_S - 5
     os.utime(old, (past, past))
     assert remove_leftovers(tmp_path) == [old.name] and not old.exists() and fresh.exists()
+
+
+def test_staged_files_are_written_in_process_when_no_helper_can_start(tmp_path, monkeypatch):
+    import sys
+
+    from arcflash.output.files import StagedFiles
+
+    monkeypatch.setattr(sys, "executable", str(tmp_path / "no-such-python"))
+    with StagedFiles(helper=True, fresh=[tmp_path / "labels"]) as stage:
+        stage(tmp_path / "labels" / "a.pdf", b"a")
+        stage.publish()
+    assert (tmp_path / "labels" / "a.pdf").read_bytes() == b"a"
