@@ -264,3 +264,19 @@ def test_text_widths_are_reportlabs(text, font, size):
     from arcflash.output.text_wrap import text_width
 
     assert text_width(text, font, size) == stringWidth(text, font, size)
+
+
+def test_labels_written_by_the_helper_process_equal_labels_written_in_process(tmp_path, monkeypatch):
+    # a large batch goes through the file-writing process; the files are the same as a small batch's
+    from arcflash.output import labels
+
+    site = arcflash.load_site(demo_copy(tmp_path))
+    governing = run_study(site).governing
+    printed = issue_labels(site, governing, tmp_path / "alone")
+    monkeypatch.setattr(labels, "_HELPER_FROM", 1)
+    again = issue_labels(site, governing, tmp_path / "helped")
+    assert [c.content_hash for c in again] == [c.content_hash for c in printed]
+    alone = {p.name: p.stat().st_size for p in (tmp_path / "alone" / "labels").iterdir()}
+    helped = {p.name: p.stat().st_size for p in (tmp_path / "helped" / "labels").iterdir()}
+    assert alone == helped and len(helped) == len(printed)
+    assert sorted(p.name for p in (tmp_path / "helped").iterdir()) == ["labels", "labels-sheet.pdf"]
