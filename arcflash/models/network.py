@@ -125,6 +125,10 @@ def solve_faults(base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_
                  backfeed_min_ka=None):
     """Bolted three-phase faults at every bus and the current through each device.
 
+    A network of several energised parts (not joined by any branch) is solved part by part: a part's
+    results never depend on the other parts, bit for bit (the samples of an uncertainty run are studied as
+    disconnected copies of the site, :mod:`arcflash.study.stacking`).
+
     Parameters
     ----------
     base_kv : numpy.ndarray
@@ -170,7 +174,14 @@ def solve_faults(base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_
     device_branch = np.asarray(device_branch, dtype=np.intp)
     device_kv = np.asarray(device_kv, dtype=float)
     source_bus = np.asarray(source_bus, dtype=np.intp)
-    energized = energized_buses(n, branch_from, branch_to, source_bus) if source_bus.size else np.zeros(n, bool)
+    graph = sp.coo_matrix((np.ones(branch_from.size), (branch_from, branch_to)), shape=(n, n))
+    label = connected_components(graph, directed=False)[1]
+    parts = np.unique(label[source_bus])
+    if parts.size > 1:  # energised parts solved one by one: a part's arithmetic never depends on another's
+        return _by_part(label, parts, base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_z_pu,
+                        source_bus, device_branch, device_kv, voltage_factor, s_base_mva, min_share,
+                        backfeed_min_ka)
+    energized = np.isin(label, parts)
     z_th = np.full(n, np.nan + 0j)
     rows = _empty_rows()
     if energized.any():
@@ -220,6 +231,41 @@ def solve_faults(base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_
         device_current_ka=rows[2],
         device_share=rows[3],
         device_direction=np.asarray(rows[4], dtype=np.int8),
+    )
+
+
+def _by_part(label, parts, base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_z_pu, source_bus,
+             device_branch, device_kv, voltage_factor, s_base_mva, min_share, backfeed_min_ka):
+    """:func:`solve_faults` of a network of several energised parts, each part solved on its own (buses,
+    branches, shunts, sources and devices renumbered within it) and the results put together."""
+    n = base_kv.size
+    z_th = np.full(n, np.nan + 0j)
+    bolted, x_over_r, energized = np.zeros(n), np.full(n, np.nan), np.zeros(n, dtype=bool)
+    rows = [[] for _ in range(5)]
+    for part in parts:
+        buses = np.flatnonzero(label == part)
+        local = np.full(n, -1, dtype=np.intp)
+        local[buses] = np.arange(buses.size)
+        branches = np.flatnonzero(label[branch_from] == part)
+        shunts = np.flatnonzero(label[shunt_bus] == part)
+        devices = np.flatnonzero(label[branch_from[device_branch]] == part) if device_branch.size else device_branch
+        branch_local = np.full(branch_from.size, -1, dtype=np.intp)
+        branch_local[branches] = np.arange(branches.size)
+        one = solve_faults(
+            base_kv[buses], local[branch_from[branches]], local[branch_to[branches]], branch_z_pu[branches],
+            local[shunt_bus[shunts]], shunt_z_pu[shunts], local[source_bus[label[source_bus] == part]],
+            branch_local[device_branch[devices]], device_kv[devices], voltage_factor, s_base_mva, min_share,
+            None if backfeed_min_ka is None else np.asarray(backfeed_min_ka, dtype=float)[devices])
+        z_th[buses], bolted[buses], x_over_r[buses] = one.z_thevenin_pu, one.bolted_ka, one.x_over_r
+        energized[buses] = one.energized
+        for column, values in zip(rows, (buses[one.device_fault_bus], devices[one.device], one.device_current_ka,
+                                         one.device_share, one.device_direction)):
+            column.append(values)
+    return FaultSolution(
+        z_thevenin_pu=z_th, bolted_ka=bolted, x_over_r=x_over_r, energized=energized,
+        device_fault_bus=np.concatenate(rows[0]).astype(np.intp), device=np.concatenate(rows[1]).astype(np.intp),
+        device_current_ka=np.concatenate(rows[2]).astype(float), device_share=np.concatenate(rows[3]).astype(float),
+        device_direction=np.concatenate(rows[4]).astype(np.int8),
     )
 
 

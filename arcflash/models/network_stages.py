@@ -39,6 +39,20 @@ BASE_COLUMNS_KEPT = 160
 LOW_RANK_MIN_Z_PU = 1e-4
 
 
+class _PartsLU:
+    """Factors of a block-diagonal matrix, one per part: ``solve`` as SuperLU's, part by part."""
+
+    def __init__(self, shape, factors):
+        self.shape = shape
+        self.factors = factors
+
+    def solve(self, rhs):
+        out = np.zeros(rhs.shape, dtype=np.result_type(rhs.dtype, complex))
+        for rows, lu in self.factors:
+            out[rows] = lu.solve(np.ascontiguousarray(rhs[rows]))
+        return out
+
+
 @dataclass(frozen=True)
 class StateKey:
     """A network state: opened branches, motors ended, line-side split.
@@ -166,9 +180,30 @@ class NetworkStates:
         if active.size:
             y = admittance_matrix(active.size, index[f[use]], index[t[use]], self.branch_z_pu[use],
                                   index[self.shunt_bus[shunt]], self.shunt_z_pu[shunt])
-            lu = splu(y)
+            lu = self._factorised(y, self._topology(key)[4][active])
         self._states[key] = (index, lu)
         return index, lu
+
+    def _factorised(self, y, part):
+        """The LU factorisation of ``y``, one per connected part (``part``: the part of each row), each part's
+        factors remembered by its matrix: a part's arithmetic never depends on the other parts, and a state
+        that changes one part refactorises only that one."""
+        parts = np.unique(part)
+        if parts.size == 1:
+            return splu(y)
+        blocks = self._states.setdefault("blocks", {})
+        order = np.argsort(part, kind="stable")
+        bounds = np.flatnonzero(np.diff(part[order])) + 1
+        factors = []
+        for rows in np.split(order, bounds):
+            sub = y[rows][:, rows].tocsc()
+            sub.sort_indices()
+            content = (rows.tobytes(), sub.indptr.tobytes(), sub.indices.tobytes(), sub.data.tobytes())
+            lu = blocks.get(content)
+            if lu is None:
+                lu = blocks[content] = splu(sub)
+            factors.append((rows, lu))
+        return _PartsLU(y.shape, factors)
 
     @property
     def factorisations(self):

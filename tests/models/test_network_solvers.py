@@ -160,3 +160,35 @@ def test_scaled_tree_columns_scale_each_side_of_the_source(tmp_path):
         z_p = tree.columns([p])[:, 0]
         np.testing.assert_allclose(z_p, plain[:, col] * np.where(inside, tree.up[s], 1.0 / tree.down[s]),
                                    rtol=1e-12)
+
+
+@pytest.mark.parametrize("scenario", ["normal", "tie-closed", "on-generator"])
+def test_two_separate_networks_solved_together_equal_each_solved_alone(scenario):
+    # parts of a network are solved one by one, so that a part's results never depend on another part
+    # (the samples of an uncertainty run are studied as disconnected copies): equal bit for bit
+    site = arcflash.load_site(DEMO)
+    net = build_network(site, site.scenario(scenario))
+    n, nb = len(net.base_kv), len(net.branch_from)
+
+    def solve(base_kv, f, t, z, sb, sz, src, db, dkv):
+        return network.solve_faults(base_kv, f, t, z, sb, sz, src, db, dkv)
+
+    alone = solve(net.base_kv, net.branch_from, net.branch_to, net.branch_z_pu, net.shunt_bus, net.shunt_z_pu,
+                  net.source_bus, net.device_branch, net.device_kv)
+    both = solve(np.concatenate([net.base_kv] * 2), np.concatenate([net.branch_from, net.branch_from + n]),
+                 np.concatenate([net.branch_to, net.branch_to + n]), np.concatenate([net.branch_z_pu] * 2),
+                 np.concatenate([net.shunt_bus, net.shunt_bus + n]), np.concatenate([net.shunt_z_pu] * 2),
+                 np.concatenate([net.source_bus, net.source_bus + n]),
+                 np.concatenate([net.device_branch, net.device_branch + nb]), np.concatenate([net.device_kv] * 2))
+    devices = len(net.device_branch)
+    for copy in (0, 1):
+        buses = slice(copy * n, (copy + 1) * n)
+        assert np.array_equal(both.bolted_ka[buses], alone.bolted_ka)
+        assert np.array_equal(both.z_thevenin_pu[buses], alone.z_thevenin_pu, equal_nan=True)
+        rows = (both.device_fault_bus >= copy * n) & (both.device_fault_bus < (copy + 1) * n)
+        key = (both.device_fault_bus[rows] - copy * n) * 1_000_000 + both.device[rows] - copy * devices
+        mine = np.argsort(key)
+        theirs = _key(alone)[1]
+        assert np.array_equal(key[mine], _key(alone)[0][theirs])
+        assert np.array_equal(both.device_current_ka[rows][mine], alone.device_current_ka[theirs])
+        assert np.array_equal(both.device_direction[rows][mine], alone.device_direction[theirs])
