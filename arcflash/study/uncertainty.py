@@ -9,7 +9,10 @@ before any work is split, so the results are the same, bit for bit, however the 
 chunks and wherever the chunks run (in-process, a local Dask cluster, a dask.distributed scheduler).
 
 Each sample is a copy of the site with its inputs set, run through the whole study (faults, staged
-clearing, both arcing cases, the governing case over the scenarios, or in the one scenario asked for).
+clearing, both arcing cases, the governing case over the scenarios, or in the one scenario asked for); the
+samples of a chunk are studied together, as disconnected copies in one stacked site
+(:mod:`arcflash.study.stacking`: the sample axis through the fault solve and clearing), each copy's
+results equal to its sample studied alone.
 Per bus: P5, P50, P95 and the largest incident energy and arc-flash boundary, the probability that the
 energy exceeds the upper edge of the plain study's PPE category (40 cal/cm² above category 4), and the
 inputs that drive the spread: the Spearman rank correlation of each input with the bus's energy (a
@@ -18,9 +21,8 @@ design of several times as many runs).
 
 Also each contributing motor's running share (between its smallest running fraction and all of it) and
 each electronic trip unit's position inside its band (pickups and delays moved by their tolerances: -1 the
-fastest edge, +1 the slowest, which the plain study uses). Not yet: a sample axis through the fault solve
-and clearing (each sample is a study of its own); band positions of relays and digitised curves (fuses,
-thermal-magnetic breakers), which stay on their total-clearing curves.
+fastest edge, +1 the slowest, which the plain study uses). Not yet: band positions of relays and digitised
+curves (fuses, thermal-magnetic breakers), which stay on their total-clearing curves.
 """
 
 from __future__ import annotations
@@ -174,23 +176,33 @@ def sample_site(site, inputs, values):
 
 def run_chunk(site, inputs, rows, scenario=None):
     """Governing incident energy [cal/cm²], arc-flash boundary [mm] and the bolted current of that row [kA]
-    of every bus for each row of the design (arrays samples × buses, buses in the site's order)."""
+    of every bus for each row of the design (arrays samples × buses, buses in the site's order).
+
+    The samples are studied together: each sampled site a copy in one stacked site
+    (:mod:`arcflash.study.stacking`, at most :data:`~arcflash.study.stacking.STACK_BUSES` buses a stack),
+    each copy's results equal to its sample studied alone."""
     from .arcing import equipment_table
     from .pipeline import _finish, _scenario_rows, governing_rows
+    from .stacking import stack_size, stacked_site, tagged
 
     buses = list(site.buses)
     energy = np.full((len(rows), len(buses)), np.nan)
     boundary = np.full((len(rows), len(buses)), np.nan)
     bolted = np.full((len(rows), len(buses)), np.nan)
-    chosen = [site.scenario(scenario)] if scenario is not None else list(site.scenarios.values())
-    for k, values in enumerate(rows):
-        sampled = sample_site(site, inputs, values)
-        equipment = equipment_table(sampled)
-        parts = [_scenario_rows(sampled, s, equipment)[0].reset_index().assign(scenario=s.name) for s in chosen]
-        governing = governing_rows(_finish(pd.concat(parts, ignore_index=True))).reindex(buses)
-        energy[k] = governing["incident_energy_governing_cal_cm2"].to_numpy(float)
-        boundary[k] = governing["arc_flash_boundary_governing_mm"].to_numpy(float)
-        bolted[k] = governing["bolted_ka"].to_numpy(float)
+    names = [site.scenario(scenario).name] if scenario is not None else list(site.scenarios)
+    size = stack_size(site)
+    for lo in range(0, len(rows), size):
+        group = rows[lo:lo + size]
+        stacked = stacked_site([sample_site(site, inputs, values) for values in group])
+        equipment = equipment_table(stacked)
+        parts = [_scenario_rows(stacked, stacked.scenarios[name], equipment)[0].reset_index().assign(scenario=name)
+                 for name in names]
+        governing = governing_rows(_finish(pd.concat(parts, ignore_index=True)))
+        for copy in range(len(group)):
+            mine = governing.reindex([tagged(bus, copy) for bus in buses])
+            energy[lo + copy] = mine["incident_energy_governing_cal_cm2"].to_numpy(float)
+            boundary[lo + copy] = mine["arc_flash_boundary_governing_mm"].to_numpy(float)
+            bolted[lo + copy] = mine["bolted_ka"].to_numpy(float)
     return energy, boundary, bolted
 
 

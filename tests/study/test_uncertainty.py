@@ -205,3 +205,19 @@ def test_a_motor_running_at_a_share_of_its_size_contributes_less():
     assert bolted_quarter[at] < bolted_full[at]
     live = np.isfinite(bolted_full)
     assert (bolted_quarter[live] <= bolted_full[live] * (1 + 1e-12)).all()
+
+
+def test_samples_studied_together_equal_each_sample_studied_alone():
+    # the sample axis: a chunk's samples run as disconnected copies of the site in one study; each copy's
+    # energy, boundary and bolted current equal its sample's own study, bit for bit
+    from arcflash.study.uncertainty import sample_site
+
+    site = arcflash.load_site(DEMO)
+    inputs = uncertain_inputs(site)
+    design = sample_design(inputs, 5, seed=11)
+    energy, boundary, bolted = run_chunk(site, inputs, design)
+    for k, values in enumerate(design):
+        alone = arcflash.run_study(sample_site(site, inputs, values)).governing.reindex(list(site.buses))
+        assert np.array_equal(energy[k], alone["incident_energy_governing_cal_cm2"].to_numpy(float), equal_nan=True)
+        assert np.array_equal(boundary[k], alone["arc_flash_boundary_governing_mm"].to_numpy(float), equal_nan=True)
+        assert np.array_equal(bolted[k], alone["bolted_ka"].to_numpy(float), equal_nan=True)
