@@ -125,9 +125,10 @@ def solve_faults(base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_
                  backfeed_min_ka=None):
     """Bolted three-phase faults at every bus and the current through each device.
 
-    A network of several energised parts (not joined by any branch) is solved part by part: a part's
-    results never depend on the other parts, bit for bit (the samples of an uncertainty run are studied as
-    disconnected copies of the site, :mod:`arcflash.study.stacking`).
+    A network of several energised parts (not joined by any branch) gives each part the results it would
+    have alone, bit for bit (the samples of an uncertainty run are studied as disconnected copies of the
+    site, :mod:`arcflash.study.stacking`): a radial network is solved node by node, one with loops part by
+    part.
 
     Parameters
     ----------
@@ -177,10 +178,6 @@ def solve_faults(base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_
     graph = sp.coo_matrix((np.ones(branch_from.size), (branch_from, branch_to)), shape=(n, n))
     label = connected_components(graph, directed=False)[1]
     parts = np.unique(label[source_bus])
-    if parts.size > 1:  # energised parts solved one by one: a part's arithmetic never depends on another's
-        return _by_part(label, parts, base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_z_pu,
-                        source_bus, device_branch, device_kv, voltage_factor, s_base_mva, min_share,
-                        backfeed_min_ka)
     energized = np.isin(label, parts)
     z_th = np.full(n, np.nan + 0j)
     rows = _empty_rows()
@@ -202,6 +199,12 @@ def solve_faults(base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_
         )
         live = np.flatnonzero(keep[device_branch]) if device_branch.size else np.array([], dtype=np.intp)
         merged = _merged_edges(sub)
+        if parts.size > 1 and not _is_radial(sub, merged):
+            # parts with loops solved one by one (the loop and sparse solves would mix them); the radial
+            # solve works node by node, so a part's arithmetic never depends on another's either way
+            return _by_part(label, parts, base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_z_pu,
+                            source_bus, device_branch, device_kv, voltage_factor, s_base_mva, min_share,
+                            backfeed_min_ka)
         floor = None
         if backfeed_min_ka is not None:
             floor = np.asarray(backfeed_min_ka, dtype=float)[live] / base_current_ka(s_base_mva, device_kv[live])
