@@ -110,13 +110,18 @@ def admittance_matrix(n_bus, branch_from, branch_to, branch_z_pu, shunt_bus, shu
     return sp.coo_matrix((vals, (rows, cols)), shape=(n_bus, n_bus)).tocsc()
 
 
-def energized_buses(n_bus, branch_from, branch_to, source_bus):
-    """Buses connected through branches to at least one source bus [-]."""
+def part_labels(n_bus, branch_from, branch_to):
+    """The connected part of each bus, joined by the branches given [-]."""
     graph = sp.coo_matrix(
         (np.ones(len(branch_from)), (np.asarray(branch_from, dtype=np.intp), np.asarray(branch_to, dtype=np.intp))),
         shape=(n_bus, n_bus),
     )
-    _, label = connected_components(graph, directed=False)
+    return connected_components(graph, directed=False)[1]
+
+
+def energized_buses(n_bus, branch_from, branch_to, source_bus):
+    """Buses connected through branches to at least one source bus [-]."""
+    label = part_labels(n_bus, branch_from, branch_to)
     return np.isin(label, label[np.asarray(source_bus, dtype=np.intp)])
 
 
@@ -175,8 +180,7 @@ def solve_faults(base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_
     device_branch = np.asarray(device_branch, dtype=np.intp)
     device_kv = np.asarray(device_kv, dtype=float)
     source_bus = np.asarray(source_bus, dtype=np.intp)
-    graph = sp.coo_matrix((np.ones(branch_from.size), (branch_from, branch_to)), shape=(n, n))
-    label = connected_components(graph, directed=False)[1]
+    label = part_labels(n, branch_from, branch_to)
     parts = np.unique(label[source_bus])
     energized = np.isin(label, parts)
     z_th = np.full(n, np.nan + 0j)

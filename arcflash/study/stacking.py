@@ -6,9 +6,11 @@ of disconnected copies: every element's id gets the copy's suffix, and so does e
 that site solves the faults, follows the clearing stage by stage and evaluates every arc of every copy in
 the same array operations, so a chunk of samples costs one study's overhead, not one per sample.
 
-Nothing in a copy's arithmetic depends on the other copies: the fault solves factorise each connected part
-of the network on its own (:mod:`arcflash.models.network_stages`), and every other step works row by row;
-so each copy's results equal, bit for bit, those of its variant studied alone (tested).
+Nothing in a copy's arithmetic depends on the other copies: the fault solve keeps the parts of a network
+apart (node by node where it is radial, part by part where it has loops: :mod:`arcflash.models.network`),
+the staged clearing factorises each connected part on its own (:mod:`arcflash.models.network_stages`), and
+every other step works row by row; so each copy's results equal, bit for bit, those of its variant studied
+alone (tested).
 """
 
 from __future__ import annotations
