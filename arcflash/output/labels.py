@@ -518,6 +518,8 @@ def issue_labels(site, governing, out_dir, layout="label-4x6", sheet="sheet-lett
     if changed_only:
         states = ledger.status(book, contents)
         contents = [c for c in contents if states[c.equipment_id] != "current"]
+    if not contents:  # nothing to print: no file, no folder, nothing recorded
+        return contents
     single, combined = load_layout(layout), load_layout(sheet)
     today = dt.date.today()  # one issue date for the whole batch, even one printed across midnight
     folder, made = Path(out_dir) / "labels", [p for p in (Path(out_dir), Path(out_dir) / "labels") if not p.exists()]
@@ -543,15 +545,13 @@ def issue_labels(site, governing, out_dir, layout="label-4x6", sheet="sheet-lett
             if unfit_single or unfit_sheet:
                 # none printed: a label is never printed cut off, nor is a batch printed with one missing
                 raise LabelFitError("; ".join(unfit_single + unfit_sheet))
-            if contents:
-                stage(Path(out_dir) / "labels-sheet.pdf", sheet.finish())
+            stage(Path(out_dir) / "labels-sheet.pdf", sheet.finish())
             stage.publish()
     except BaseException:
         for created in reversed(made):  # folders this run made, if still empty
             with contextlib.suppress(OSError):
                 created.rmdir()
         raise
-    if contents:
-        rows = [study_values(by_bus[c.equipment_id]) for c in contents]
-        ledger.record(book, contents, single.name, issued_by, study_rows=rows, snapshot=ledger.site_snapshot(site))
+    rows = [study_values(by_bus[c.equipment_id]) for c in contents]
+    ledger.record(book, contents, single.name, issued_by, study_rows=rows, snapshot=ledger.site_snapshot(site))
     return contents
