@@ -427,33 +427,38 @@ class SpanningForest:
         graph = (graph + graph.T).tocsr()  # parallel branches: one entry (sum), found by the tree test below
         parts, base = connected_components(graph, directed=False)
         roots = np.unique(base, return_index=True)[1]
+        # One search from an extra node n joined to every part's root: each part is searched as from its
+        # root alone (the parts never meet), in one call however many parts there are.
+        top = sp.coo_matrix((np.ones(roots.size), (np.full(roots.size, n), roots)), shape=(n + 1, n + 1))
+        joined = (sp.block_diag([graph, sp.csr_matrix((1, 1))]) + top + top.T).tocsr()
+        order, pred = breadth_first_order(joined, n, directed=False, return_predecessors=True)
         parent = np.full(n, -1, dtype=np.intp)
+        nodes = order[1:]
+        parent[nodes] = np.where(pred[nodes] == n, -1, pred[nodes])
         depth = np.zeros(n, dtype=np.intp)
-        for root in roots:
-            order, pred = breadth_first_order(graph, int(root), directed=False, return_predecessors=True)
-            parent[order[1:]] = pred[order[1:]]
-            for node in order[1:]:  # parents first
-                depth[node] = depth[parent[node]] + 1
+        up = parent.copy()
+        while (up >= 0).any():  # one step up the forest per round, every node at once
+            depth += up >= 0
+            up = np.where(up >= 0, parent[np.maximum(up, 0)], -1)
         # Preorder of the forest itself (not of the whole graph): each subtree is one interval.
         child = np.flatnonzero(parent >= 0)
-        forest = sp.coo_matrix((np.ones(child.size), (child, parent[child])), shape=(n, n)).tocsr()
-        self.preorder = np.concatenate([depth_first_order(forest, int(root), directed=False,
-                                                          return_predecessors=False) for root in roots])
+        forest = sp.coo_matrix((np.ones(child.size + roots.size),
+                                (np.concatenate([child, np.full(roots.size, n)]), np.concatenate([parent[child], roots]))),
+                               shape=(n + 1, n + 1)).tocsr()
+        self.preorder = depth_first_order(forest, n, directed=False, return_predecessors=False)[1:]
         self.tin = np.empty(n, dtype=np.intp)
         self.tin[self.preorder] = np.arange(n)
         self.size = np.ones(n, dtype=np.intp)
         for d in range(depth.max(initial=0), 0, -1):
             level = np.flatnonzero(depth == d)
             np.add.at(self.size, parent[level], self.size[level])
-        # The forest branch of each child node: one of the branches between it and its parent.
+        # The forest branch of each child node: the first of the branches between it and its parent.
+        child = np.where(parent[branch_to] == branch_from, branch_to,
+                         np.where(parent[branch_from] == branch_to, branch_from, -1))
         self.child_of = np.full(m, -1, dtype=np.intp)
-        taken = np.zeros(n, dtype=bool)
-        for b in range(m):
-            f, t = int(branch_from[b]), int(branch_to[b])
-            child = t if parent[t] == f else (f if parent[f] == t else -1)
-            if child >= 0 and not taken[child]:
-                taken[child] = True
-                self.child_of[b] = child
+        joins = np.flatnonzero(child >= 0)
+        first = joins[np.unique(child[joins], return_index=True)[1]]
+        self.child_of[first] = child[first]
         self.depth, self.parent = depth, parent
         self.parent_branch = np.full(n, -1, dtype=np.intp)
         in_forest = self.child_of >= 0

@@ -33,7 +33,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 import scipy.sparse as sp
-from scipy.sparse.csgraph import breadth_first_order
+from scipy.sparse.csgraph import breadth_first_order, connected_components
 
 from .device_bank import DeviceBank, DeviceCurve, device_bank, device_curve  # noqa: F401 (re-exported)
 
@@ -58,41 +58,82 @@ def source_paths(net, source_bus):
         whether the part of the network reached holds a loop (so that the
         path is one of several); the buses the source reaches.
     """
+    return all_source_paths(net, [source_bus])[0]
+
+
+def all_source_paths(net, source_buses):
+    """:func:`source_paths` of each of ``source_buses``, as a list.
+
+    Sources in different connected parts of the network are searched together (one breadth-first
+    search from an extra node joined to each of them; the parts never meet, so each source's tree is
+    the one a search from it alone finds), so a network of many parts (the copies of an uncertainty
+    run, :mod:`.stacking`) costs a few searches, not one per source.
+    """
     n = net.base_kv.size
-    graph = sp.coo_matrix((np.ones(net.branch_from.size), (net.branch_from, net.branch_to)), shape=(n, n)).tocsr()
-    order, pred = breadth_first_order(graph, source_bus, directed=False, return_predecessors=True)
-    inside = np.zeros(n, dtype=bool)
-    inside[order] = True
+    source_buses = np.asarray(source_buses, dtype=np.intp)
+    f, t = np.asarray(net.branch_from, dtype=np.intp), np.asarray(net.branch_to, dtype=np.intp)
+    graph = sp.coo_matrix((np.ones(f.size), (f, t)), shape=(n, n)).tocsr()
+    part = connected_components(graph, directed=False)[1]
     # More branches than a tree needs: a loop (parallel branches between two buses count too).
-    meshed = int(np.count_nonzero(inside[net.branch_from] & inside[net.branch_to])) > order.size - 1
-    nodes = order[1:]
-    # The branch to the predecessor: the lowest-numbered branch joining the two buses.
-    pair = np.minimum(net.branch_from, net.branch_to) * n + np.maximum(net.branch_from, net.branch_to)
+    nodes_in = np.bincount(part, minlength=part.max(initial=-1) + 1)
+    branches_in = np.bincount(part[f], minlength=nodes_in.size)
+    # The branch between two buses: the lowest-numbered one joining them.
+    pair = np.minimum(f, t) * n + np.maximum(f, t)
     by_pair = np.lexsort((np.arange(pair.size), pair))
-    wanted = np.minimum(nodes, pred[nodes]) * n + np.maximum(nodes, pred[nodes])
-    via = by_pair[np.searchsorted(pair[by_pair], wanted)]
-    branch_to_pred = np.full(n, -1, dtype=np.intp)
-    branch_to_pred[nodes] = via
-    # Devices of each branch.
     device_order = np.argsort(net.device_branch, kind="stable")
-    sorted_branch = net.device_branch[device_order]
-    buses, devices = [], []
-    target = nodes.copy()
-    current = nodes.copy()
-    while current.size:
-        b = branch_to_pred[current]
-        first = np.searchsorted(sorted_branch, b, side="left")
-        count = np.searchsorted(sorted_branch, b, side="right") - first
-        rows = np.repeat(np.arange(current.size), count)
-        offsets = np.arange(rows.size) - np.repeat(np.cumsum(count) - count, count)
-        buses.append(target[rows])
-        devices.append(device_order[np.repeat(first, count) + offsets])
-        current = pred[current]
-        keep = current != source_bus
-        current, target = current[keep], target[keep]
+    sorted_branch = np.asarray(net.device_branch)[device_order]
+    # Rounds of sources, at most one per part in a round.
+    seen, rounds = {}, {}
+    for number, bus in enumerate(source_buses.tolist()):
+        r = seen[part[bus]] = seen.get(part[bus], -1) + 1
+        rounds.setdefault(r, []).append(number)
+    found = [None] * source_buses.size
     empty = np.array([], dtype=np.intp)
-    return (np.concatenate(buses) if buses else empty, np.concatenate(devices) if devices else empty,
-            meshed, np.concatenate(([source_bus], nodes)))
+    for numbers in rounds.values():
+        roots = source_buses[numbers]
+        top = sp.coo_matrix((np.ones(roots.size), (np.full(roots.size, n), roots)), shape=(n + 1, n + 1))
+        joined = (sp.block_diag([graph, sp.csr_matrix((1, 1))]) + top + top.T).tocsr()
+        order, pred = breadth_first_order(joined, n, directed=False, return_predecessors=True)
+        order = order[1:]
+        nodes = order[pred[order] != n]
+        source_of = np.full(n, -1, dtype=np.intp)
+        source_of[roots] = np.arange(roots.size)
+        wanted = np.minimum(nodes, pred[nodes]) * n + np.maximum(nodes, pred[nodes])
+        branch_to_pred = np.full(n, -1, dtype=np.intp)
+        branch_to_pred[nodes] = by_pair[np.searchsorted(pair[by_pair], wanted)]
+        root_of = np.full(part.max(initial=-1) + 1, -1, dtype=np.intp)
+        root_of[part[roots]] = np.arange(roots.size)
+        root_of = root_of[part]  # per bus, the round's source in its part (-1: none)
+        buses, devices, steps = [], [], []
+        target = nodes.copy()
+        current = nodes.copy()
+        step = 0
+        while current.size:
+            b = branch_to_pred[current]
+            first = np.searchsorted(sorted_branch, b, side="left")
+            count = np.searchsorted(sorted_branch, b, side="right") - first
+            rows = np.repeat(np.arange(current.size), count)
+            offsets = np.arange(rows.size) - np.repeat(np.cumsum(count) - count, count)
+            buses.append(target[rows])
+            devices.append(device_order[np.repeat(first, count) + offsets])
+            steps.append(np.full(rows.size, step, dtype=np.intp))
+            current = pred[current]
+            keep = source_of[current] < 0
+            current, target = current[keep], target[keep]
+            step += 1
+        buses = np.concatenate(buses) if buses else empty
+        devices = np.concatenate(devices) if devices else empty
+        steps = np.concatenate(steps) if steps else empty
+        owner = root_of[buses]
+        arranged = np.lexsort((steps, owner))  # stable: one source's rows step by step, as searched alone
+        buses, devices, owner = buses[arranged], devices[arranged], owner[arranged]
+        bounds = np.searchsorted(owner, np.arange(roots.size + 1))
+        for k, number in enumerate(numbers):
+            p = part[roots[k]]
+            found[number] = (buses[bounds[k]:bounds[k + 1]], devices[bounds[k]:bounds[k + 1]],
+                             bool(branches_in[p] > nodes_in[p] - 1),
+                             np.concatenate(([roots[k]], nodes[root_of[nodes] == k])))
+    return found
 
 
 def energising_sources(site, scenario, net):
@@ -159,8 +200,7 @@ def clearing_paths(site, scenario, faults):
     sources = energising_sources(site, scenario, net)
     bus_parts, dev_parts, src_parts, reached = [], [], [], np.zeros((len(sources), n_bus), dtype=bool)
     meshed_any = False
-    for number, (_, bus) in enumerate(sources):
-        buses, devices, meshed, nodes = source_paths(net, bus)
+    for number, (buses, devices, meshed, nodes) in enumerate(all_source_paths(net, [bus for _, bus in sources])):
         meshed_any |= meshed
         bus_parts.append(buses)
         dev_parts.append(devices)
