@@ -91,8 +91,8 @@ def all_source_paths(net, source_buses):
     empty = np.array([], dtype=np.intp)
     for numbers in rounds.values():
         roots = source_buses[numbers]
-        top = sp.coo_matrix((np.ones(roots.size), (np.full(roots.size, n), roots)), shape=(n + 1, n + 1))
-        joined = (sp.block_diag([graph, sp.csr_matrix((1, 1))]) + top + top.T).tocsr()
+        joined = sp.csr_matrix((np.ones(f.size + roots.size), (np.concatenate([f, np.full(roots.size, n)]),
+                                                               np.concatenate([t, roots]))), shape=(n + 1, n + 1))
         order, pred = breadth_first_order(joined, n, directed=False, return_predecessors=True)
         order = order[1:]
         nodes = order[pred[order] != n]

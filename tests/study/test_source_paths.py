@@ -29,7 +29,7 @@ def _random_network(rng):
 def test_each_source_searched_with_others_equals_it_searched_alone():
     # Sources in different parts share one search: each one's pairs, in order, must be its own search's.
     rng = np.random.default_rng(11)
-    for _ in range(400):
+    for _ in range(150):
         net = _random_network(rng)
         n = net.base_kv.size
         sources = list(rng.choice(n, size=int(rng.integers(1, min(n, 6) + 1)), replace=False))
