@@ -40,16 +40,33 @@ LOW_RANK_MIN_Z_PU = 1e-4
 
 
 class _PartsLU:
-    """Factors of a block-diagonal matrix, one per part: ``solve`` as SuperLU's, part by part."""
+    """Factors of a block-diagonal matrix, one per part: ``solve`` as SuperLU's, part by part.
+
+    Only the parts where the right-hand side has entries are solved, each with only the columns that
+    have entries in it: every other block of the solution is zero (a regular part with a zero right-hand
+    side), so a column costs the work of its own part however many parts there are.
+    """
 
     def __init__(self, shape, factors):
         self.shape = shape
         self.factors = factors
+        self.row_part = np.empty(shape[0], dtype=np.intp)
+        for number, (rows, _) in enumerate(factors):
+            self.row_part[rows] = number
 
     def solve(self, rhs):
         out = np.zeros(rhs.shape, dtype=np.result_type(rhs.dtype, complex))
-        for rows, lu in self.factors:
-            out[rows] = lu.solve(np.ascontiguousarray(rhs[rows]))
+        single = rhs.ndim == 1
+        wide = rhs[:, None] if single else rhs
+        rows_in, cols_in = np.nonzero(wide)
+        for number in np.unique(self.row_part[rows_in]):
+            rows, lu = self.factors[number]
+            cols = np.unique(cols_in[self.row_part[rows_in] == number])
+            solved = lu.solve(np.ascontiguousarray(wide[rows][:, cols]))
+            if single:
+                out[rows] = solved[:, 0]
+            else:
+                out[np.ix_(rows, cols)] = solved
         return out
 
 
