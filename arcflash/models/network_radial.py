@@ -34,6 +34,23 @@ from scipy.sparse.csgraph import breadth_first_order, depth_first_order
 BLOCK_COLUMNS = 256
 
 
+def joined_at(graph, roots):
+    """``graph`` (n x n, CSR) with an extra node n joined to each of ``roots`` (CSR, n + 1 square).
+
+    A search from node n then searches each root's connected part as a search from that root alone would
+    (the same order of neighbours: node n is the last neighbour of each root), in one call.
+    """
+    n = graph.shape[0]
+    g = graph.tocoo()
+    roots = np.asarray(roots, dtype=np.intp)
+    extra = np.full(roots.size, n, dtype=np.intp)
+    joined = sp.csr_matrix((np.concatenate([g.data, np.ones(2 * roots.size, dtype=g.data.dtype)]),
+                            (np.concatenate([g.row, roots, extra]), np.concatenate([g.col, extra, roots]))),
+                           shape=(n + 1, n + 1))
+    joined.sum_duplicates()
+    return joined
+
+
 class RadialNetwork:
     """A tree (forest) of energised buses with the passes of the module docstring.
 
@@ -54,27 +71,40 @@ class RadialNetwork:
     def __init__(self, n, edge_a, edge_b, edge_y, shunt_y, roots):
         graph = sp.coo_matrix((np.arange(1, edge_a.size + 1), (edge_a, edge_b)), shape=(n, n)).tocsr()
         graph = graph + graph.T
+        roots = np.asarray(roots, dtype=np.intp).reshape(-1)
         self.parent = np.full(n, -1, dtype=np.intp)
         self.edge = np.full(n, -1, dtype=np.intp)  # merged edge to the parent
-        order_parts, pre_parts = [], []
-        for root in roots:
-            order, pred = breadth_first_order(graph, root, directed=False, return_predecessors=True)
-            nodes = order[1:]
-            self.parent[nodes] = pred[nodes]
+        # One search from an extra node n joined to every root (the parts never meet, so each part is
+        # searched as from its root alone), its order then put part by part in the order of ``roots``.
+        joined = joined_at(graph, roots)
+        order, pred = breadth_first_order(joined, n, directed=False, return_predecessors=True)
+        preorder = depth_first_order(joined, n, directed=False, return_predecessors=False)[1:]
+        order = order[1:]
+        nodes = order[pred[order] != n]
+        self.parent[nodes] = pred[nodes]
+        if nodes.size:
             self.edge[nodes] = np.asarray(graph[nodes, pred[nodes]]).ravel() - 1
-            order_parts.append(order)
-            pre_parts.append(depth_first_order(graph, root, directed=False, return_predecessors=False))
-        self.order = np.concatenate(order_parts)
         self.depth = np.zeros(n, dtype=np.intp)
-        for node in self.order:  # BFS order: parents first
-            if self.parent[node] >= 0:
-                self.depth[node] = self.depth[self.parent[node]] + 1
+        up = self.parent.copy()
+        while (up >= 0).any():  # one step up per round, every node at once
+            self.depth += up >= 0
+            up = np.where(up >= 0, self.parent[np.maximum(up, 0)], -1)
+        top_of = np.where(self.parent >= 0, self.parent, np.arange(n))
+        while True:  # each node's root, by pointer jumping
+            further = top_of[top_of]
+            if np.array_equal(further, top_of):
+                break
+            top_of = further
+        rank = np.full(n, -1, dtype=np.intp)
+        rank[roots] = np.arange(roots.size)
+        rank = rank[top_of]
+        self.order = order[np.argsort(rank[order], kind="stable")]
+        preorder = preorder[np.argsort(rank[preorder], kind="stable")]
         levels = np.argsort(self.depth[self.order], kind="stable")
         by_depth = self.order[levels]
         bounds = np.searchsorted(self.depth[by_depth], np.arange(self.depth.max() + 2))
         self.levels = [by_depth[bounds[d]:bounds[d + 1]] for d in range(1, self.depth.max() + 1)]
         self.levels_root = by_depth[bounds[0]:bounds[1]]
-        preorder = np.concatenate(pre_parts)
         self.tin = np.empty(n, dtype=np.intp)
         self.tin[preorder] = np.arange(n)
         self.size = np.ones(n, dtype=np.intp)

@@ -29,6 +29,7 @@ from scipy.sparse.csgraph import breadth_first_order, connected_components, dept
 from scipy.sparse.linalg import splu
 
 from .network import admittance_matrix, base_current_ka
+from .network_radial import joined_at
 
 #: Fault columns solved together [-].
 BLOCK_COLUMNS = 128
@@ -446,9 +447,7 @@ class SpanningForest:
         roots = np.unique(base, return_index=True)[1]
         # One search from an extra node n joined to every part's root: each part is searched as from its
         # root alone (the parts never meet), in one call however many parts there are.
-        top = sp.coo_matrix((np.ones(roots.size), (np.full(roots.size, n), roots)), shape=(n + 1, n + 1))
-        joined = (sp.block_diag([graph, sp.csr_matrix((1, 1))]) + top + top.T).tocsr()
-        order, pred = breadth_first_order(joined, n, directed=False, return_predecessors=True)
+        order, pred = breadth_first_order(joined_at(graph, roots), n, directed=False, return_predecessors=True)
         parent = np.full(n, -1, dtype=np.intp)
         nodes = order[1:]
         parent[nodes] = np.where(pred[nodes] == n, -1, pred[nodes])
@@ -459,10 +458,8 @@ class SpanningForest:
             up = np.where(up >= 0, parent[np.maximum(up, 0)], -1)
         # Preorder of the forest itself (not of the whole graph): each subtree is one interval.
         child = np.flatnonzero(parent >= 0)
-        forest = sp.coo_matrix((np.ones(child.size + roots.size),
-                                (np.concatenate([child, np.full(roots.size, n)]), np.concatenate([parent[child], roots]))),
-                               shape=(n + 1, n + 1)).tocsr()
-        self.preorder = depth_first_order(forest, n, directed=False, return_predecessors=False)[1:]
+        forest = sp.coo_matrix((np.ones(child.size), (child, parent[child])), shape=(n, n)).tocsr()
+        self.preorder = depth_first_order(joined_at(forest, roots), n, directed=False, return_predecessors=False)[1:]
         self.tin = np.empty(n, dtype=np.intp)
         self.tin[self.preorder] = np.arange(n)
         self.size = np.ones(n, dtype=np.intp)

@@ -35,6 +35,7 @@ import pandas as pd
 import scipy.sparse as sp
 from scipy.sparse.csgraph import breadth_first_order, connected_components
 
+from ..models.network_radial import joined_at
 from .device_bank import DeviceBank, DeviceCurve, device_bank, device_curve  # noqa: F401 (re-exported)
 
 #: A path whose devices all carry less than this share of the bolted current is negligible [-].
@@ -91,9 +92,7 @@ def all_source_paths(net, source_buses):
     empty = np.array([], dtype=np.intp)
     for numbers in rounds.values():
         roots = source_buses[numbers]
-        joined = sp.csr_matrix((np.ones(f.size + roots.size), (np.concatenate([f, np.full(roots.size, n)]),
-                                                               np.concatenate([t, roots]))), shape=(n + 1, n + 1))
-        order, pred = breadth_first_order(joined, n, directed=False, return_predecessors=True)
+        order, pred = breadth_first_order(joined_at(graph, roots), n, directed=False, return_predecessors=True)
         order = order[1:]
         nodes = order[pred[order] != n]
         source_of = np.full(n, -1, dtype=np.intp)
