@@ -173,7 +173,9 @@ class NetworkStates:
         else:
             graph = sp.coo_matrix((np.ones(int(closed.sum())), (f[closed], t[closed])), shape=(m, m))
             label = connected_components(graph, directed=False)[1].astype(np.int32)
-        energized = np.isin(label, label[self.source_bus]) if self.source_bus.size else np.zeros(m, bool)
+        fed = np.zeros(int(label.max(initial=-1)) + 1, dtype=bool)
+        fed[label[self.source_bus]] = True
+        energized = fed[label]
         topology = (f, t, closed, energized, label)
         self._states[cache_key] = topology
         return topology
@@ -483,7 +485,8 @@ class SpanningForest:
         self.others = np.flatnonzero(self.child_of < 0)  # branches outside the forest
 
     def components(self, closed):
-        """Connected-part label of each node with only the ``closed`` branches in (int32) [-]."""
+        """Connected-part label of each node with only the ``closed`` branches in (int32; equal labels, one
+        part: the labels are not numbered 0, 1, 2, ...) [-]."""
         cut = self.child_of[~closed]
         cut = cut[cut >= 0]
         by_position = self.base[self.preorder].astype(np.int32)
@@ -492,10 +495,19 @@ class SpanningForest:
             for number, child in enumerate(cut):
                 by_position[self.tin[child]:self.tin[child] + self.size[child]] = self.parts + number
         label = by_position[self.tin]
-        pieces = self.parts + cut.size
         joining = self.others[closed[self.others]]
         if cut.size and joining.size:
-            graph = sp.coo_matrix((np.ones(joining.size), (label[self.branch_from[joining]],
-                                                           label[self.branch_to[joining]])), shape=(pieces, pieces))
-            label = connected_components(graph, directed=False)[1].astype(np.int32)[label]
+            ends = label[self.branch_from[joining]], label[self.branch_to[joining]]
+            apart = ends[0] != ends[1]  # a closed loop branch joining two pieces again (others join nothing)
+            if apart.any():
+                pieces, compact = np.unique(np.concatenate([ends[0][apart], ends[1][apart]]), return_inverse=True)
+                half = compact.size // 2
+                graph = sp.coo_matrix((np.ones(half), (compact[:half], compact[half:])),
+                                      shape=(pieces.size, pieces.size)).tocsr()
+                joined = connected_components(graph, directed=False)[1]
+                first = np.full(joined.max() + 1, label.max() + 1, dtype=np.int32)
+                np.minimum.at(first, joined, pieces.astype(np.int32))  # each joined group: its lowest piece
+                lookup = np.arange(label.max() + 1, dtype=np.int32)
+                lookup[pieces] = first[joined]
+                label = lookup[label]
         return label
