@@ -212,16 +212,27 @@ class NetworkStates:
         if parts.size == 1:
             return splu(y)
         blocks = self._states.setdefault("blocks", {})
+        y = y.tocsc()  # canonical (sorted, summed): each part's columns hold only that part's rows
         order = np.argsort(part, kind="stable")
         bounds = np.flatnonzero(np.diff(part[order])) + 1
+        starts = np.concatenate(([0], bounds))
+        local = np.empty(part.size, dtype=np.intp)
+        local[order] = np.arange(part.size) - np.repeat(starts, np.diff(np.append(starts, part.size)))
+        # The entries of the columns in part order, each part's a contiguous run (its own CSC arrays).
+        length = np.diff(y.indptr)[order]
+        first = np.repeat(y.indptr[order], length)
+        entry = first + np.arange(first.size) - np.repeat(np.cumsum(length) - length, length)
+        indices, data = local[y.indices[entry]].astype(np.int32), y.data[entry]
+        ends = np.concatenate(([0], np.cumsum(length)))
         factors = []
-        for rows in np.split(order, bounds):
-            sub = y[rows][:, rows].tocsc()
-            sub.sort_indices()
-            content = (rows.tobytes(), sub.indptr.tobytes(), sub.indices.tobytes(), sub.data.tobytes())
+        for lo, hi in zip(starts, np.append(bounds, part.size)):
+            rows = order[lo:hi]
+            indptr = (ends[lo:hi + 1] - ends[lo]).astype(np.int32)
+            sub_indices, sub_data = indices[ends[lo]:ends[hi]], data[ends[lo]:ends[hi]]
+            content = (rows.tobytes(), indptr.tobytes(), sub_indices.tobytes(), sub_data.tobytes())
             lu = blocks.get(content)
             if lu is None:
-                lu = blocks[content] = splu(sub)
+                lu = blocks[content] = splu(sp.csc_matrix((sub_data, sub_indices, indptr), shape=(rows.size, rows.size)))
             factors.append((rows, lu))
         return _PartsLU(y.shape, factors)
 
