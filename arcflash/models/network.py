@@ -21,7 +21,7 @@ import scipy.sparse as sp
 from scipy.sparse.csgraph import breadth_first_order, connected_components
 from scipy.sparse.linalg import splu
 
-from .network_radial import RadialNetwork
+from .network_radial import RadialNetwork, edge_between, joined_at
 
 _SQRT3 = float(np.sqrt(3.0))
 #: Right-hand sides solved together [-].
@@ -170,6 +170,13 @@ def solve_faults(base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_
     -------
     FaultSolution
     """
+    return _solved(base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_z_pu, source_bus, device_branch,
+                   device_kv, voltage_factor, s_base_mva, min_share, backfeed_min_ka, True)
+
+
+def _solved(base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_z_pu, source_bus, device_branch, device_kv,
+            voltage_factor, s_base_mva, min_share, backfeed_min_ka, apart):
+    """:func:`solve_faults`; with ``apart``, a network of several parts with loops is solved part by part."""
     base_kv = np.asarray(base_kv, dtype=float)
     n = base_kv.size
     branch_from = np.asarray(branch_from, dtype=np.intp)
@@ -203,7 +210,7 @@ def solve_faults(base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_
         )
         live = np.flatnonzero(keep[device_branch]) if device_branch.size else np.array([], dtype=np.intp)
         merged = _merged_edges(sub)
-        if parts.size > 1 and not _is_radial(sub, merged):
+        if apart and parts.size > 1 and not _is_radial(sub, merged):
             # parts with loops solved one by one (the loop and sparse solves would mix them); the radial
             # solve works node by node, so a part's arithmetic never depends on another's either way
             return _by_part(label, parts, base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_z_pu,
@@ -243,36 +250,50 @@ def solve_faults(base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_
 
 def _by_part(label, parts, base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_z_pu, source_bus,
              device_branch, device_kv, voltage_factor, s_base_mva, min_share, backfeed_min_ka):
-    """:func:`solve_faults` of a network of several energised parts, each part solved on its own (buses,
-    branches, shunts, sources and devices renumbered within it) and the results put together."""
+    """:func:`solve_faults` of a network of several energised parts, each part with loops solved on its own
+    (buses, branches, shunts, sources and devices renumbered within it) and the radial parts together (node by
+    node, so each as alone), the results put together part by part."""
     n = base_kv.size
     z_th = np.full(n, np.nan + 0j)
     bolted, x_over_r, energized = np.zeros(n), np.full(n, np.nan), np.zeros(n, dtype=bool)
     rows = [[] for _ in range(5)]
-    for part in parts:
-        buses = np.flatnonzero(label == part)
+    # The radial parts are solved together (node by node: bit for bit as alone), the others one by one.
+    pairs = np.unique(np.minimum(branch_from, branch_to).astype(np.int64) * n + np.maximum(branch_from, branch_to))
+    edges = np.bincount(label[pairs // n], minlength=label.max() + 1)
+    loops = (edges > np.bincount(label, minlength=label.max() + 1) - 1) | np.bincount(
+        label[pairs[pairs // n == pairs % n] // n], minlength=label.max() + 1).astype(bool)
+    radial = parts[~loops[parts]]
+    groups = [radial] if radial.size else []
+    groups += [np.array([p]) for p in parts[loops[parts]]]
+    for group in groups:
+        buses = np.flatnonzero(np.isin(label, group))
         local = np.full(n, -1, dtype=np.intp)
         local[buses] = np.arange(buses.size)
-        branches = np.flatnonzero(label[branch_from] == part)
-        shunts = np.flatnonzero(label[shunt_bus] == part)
-        devices = np.flatnonzero(label[branch_from[device_branch]] == part) if device_branch.size else device_branch
+        inside = np.zeros(label.max() + 1, dtype=bool)
+        inside[group] = True
+        branches = np.flatnonzero(inside[label[branch_from]])
+        shunts = np.flatnonzero(inside[label[shunt_bus]])
+        devices = np.flatnonzero(inside[label[branch_from[device_branch]]]) if device_branch.size else device_branch
         branch_local = np.full(branch_from.size, -1, dtype=np.intp)
         branch_local[branches] = np.arange(branches.size)
-        one = solve_faults(
+        one = _solved(
             base_kv[buses], local[branch_from[branches]], local[branch_to[branches]], branch_z_pu[branches],
-            local[shunt_bus[shunts]], shunt_z_pu[shunts], local[source_bus[label[source_bus] == part]],
+            local[shunt_bus[shunts]], shunt_z_pu[shunts], local[source_bus[inside[label[source_bus]]]],
             branch_local[device_branch[devices]], device_kv[devices], voltage_factor, s_base_mva, min_share,
-            None if backfeed_min_ka is None else np.asarray(backfeed_min_ka, dtype=float)[devices])
+            None if backfeed_min_ka is None else np.asarray(backfeed_min_ka, dtype=float)[devices], False)
         z_th[buses], bolted[buses], x_over_r[buses] = one.z_thevenin_pu, one.bolted_ka, one.x_over_r
         energized[buses] = one.energized
         for column, values in zip(rows, (buses[one.device_fault_bus], devices[one.device], one.device_current_ka,
                                          one.device_share, one.device_direction)):
             column.append(values)
+    rows = [np.concatenate(column) for column in rows]
+    by_part = np.argsort(label[rows[0]], kind="stable")  # the rows part by part, each part's in its own order
+    rows = [column[by_part] for column in rows]
     return FaultSolution(
         z_thevenin_pu=z_th, bolted_ka=bolted, x_over_r=x_over_r, energized=energized,
-        device_fault_bus=np.concatenate(rows[0]).astype(np.intp), device=np.concatenate(rows[1]).astype(np.intp),
-        device_current_ka=np.concatenate(rows[2]).astype(float), device_share=np.concatenate(rows[3]).astype(float),
-        device_direction=np.concatenate(rows[4]).astype(np.int8),
+        device_fault_bus=rows[0].astype(np.intp), device=rows[1].astype(np.intp),
+        device_current_ka=rows[2].astype(float), device_share=rows[3].astype(float),
+        device_direction=rows[4].astype(np.int8),
     )
 
 
@@ -328,10 +349,10 @@ def _spanning_forest(sub, merged):
     graph = sp.coo_matrix((np.arange(1, ea.size + 1), (ea, eb)), shape=(sub.m, sub.m)).tocsr()
     graph = (graph + graph.T).tocsr()  # merged edges are unique pairs: no entries are summed
     in_tree = np.zeros(ea.size, dtype=bool)
-    for root in sub.roots:
-        order, pred = breadth_first_order(graph, root, directed=False, return_predecessors=True)
-        nodes = order[1:]
-        in_tree[np.asarray(graph[nodes, pred[nodes]]).ravel() - 1] = True
+    roots = np.asarray(sub.roots, dtype=np.intp)
+    order, pred = breadth_first_order(joined_at(graph, roots), sub.m, directed=False, return_predecessors=True)
+    nodes = order[1:][pred[order[1:]] != sub.m]  # one search for all parts (an extra node joined to each root)
+    in_tree[edge_between(sub.m, ea, eb, nodes, pred[nodes])] = True
     return in_tree
 
 

@@ -34,6 +34,15 @@ from scipy.sparse.csgraph import breadth_first_order, depth_first_order
 BLOCK_COLUMNS = 256
 
 
+def edge_between(n, edge_a, edge_b, u, v):
+    """Index of the edge joining ``u[k]`` and ``v[k]`` (edges are distinct pairs of buses; each pair given
+    must be one of them) [-]."""
+    key = np.minimum(edge_a, edge_b).astype(np.int64) * n + np.maximum(edge_a, edge_b)
+    order = np.argsort(key, kind="stable")
+    wanted = np.minimum(u, v).astype(np.int64) * n + np.maximum(u, v)
+    return order[np.searchsorted(key[order], wanted)]
+
+
 def joined_at(graph, roots):
     """``graph`` (n x n, CSR) with an extra node n joined to each of ``roots`` (CSR, n + 1 square).
 
@@ -82,8 +91,7 @@ class RadialNetwork:
         order = order[1:]
         nodes = order[pred[order] != n]
         self.parent[nodes] = pred[nodes]
-        if nodes.size:
-            self.edge[nodes] = np.asarray(graph[nodes, pred[nodes]]).ravel() - 1
+        self.edge[nodes] = edge_between(n, edge_a, edge_b, nodes, pred[nodes])
         self.depth = np.zeros(n, dtype=np.intp)
         up = self.parent.copy()
         while (up >= 0).any():  # one step up per round, every node at once
