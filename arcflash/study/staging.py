@@ -236,10 +236,15 @@ def _advance(context, arc, bolted_ka, arcing_ka, code, devices, times, reset, br
                 step[3], step[5] = arcing_ka, bolted_ka
     progress = np.zeros(times.shape)
     if arc.held_device.size:
-        progress[np.searchsorted(devices, arc.held_device)] = arc.held_progress
-    new = ~np.isin(devices, arc.held_device)
-    if arc.history and new.any():  # followed from now on: their progress so far
-        progress[new] = _replay(context, arc, devices[new])
+        held = np.searchsorted(devices, arc.held_device)  # held devices are still followed (sorted)
+        progress[held] = arc.held_progress
+        new = np.ones(devices.size, dtype=bool)
+        new[held] = False
+    else:
+        new = None  # every device is new
+    if arc.history and (new is None or new.any()):  # followed from now on: their progress so far
+        progress[new if new is not None else slice(None)] = _replay(
+            context, arc, devices[new] if new is not None else devices)
     with np.errstate(invalid="ignore"):
         remaining = np.where(np.isfinite(times), (1.0 - progress) * times, np.inf)
     trip_in = remaining.min(axis=1) if devices.size else np.zeros(0)
