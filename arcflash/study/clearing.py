@@ -377,7 +377,7 @@ def _sequence_text(steps, device_ids):
                      for d, t, before, after, *_ in steps)
 
 
-def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None, equipment=None):
+def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None, equipment=None, sequences=True):
     """Arc duration, governing device and opening sequence at every bus, both arcing cases.
 
     Buses whose one-stage answer is exact (see :func:`_needs_stages`) take
@@ -395,6 +395,9 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
         From :func:`clearing_paths` (computed when not given).
     equipment : pandas.DataFrame, optional
         From :func:`arcflash.study.arcing.equipment_table` (computed when not given).
+    sequences : bool
+        Write the opening sequence of each arc (text); an uncertainty run, which reads only the numbers,
+        leaves it empty.
 
     Returns
     -------
@@ -453,7 +456,7 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
         arc_ka, duration, governing, staged = one[case]
         sequence = np.full(n_bus, "", dtype=object)
         within = duration <= cap if cap is not None else np.isfinite(duration)  # openings after the cap: none listed
-        for k in np.flatnonzero(paths.energized & ~staged & (governing >= 0) & within):
+        for k in np.flatnonzero(paths.energized & ~staged & (governing >= 0) & within) if sequences else ():
             sequence[k] = _sequence_text([(governing[k], duration[k], arc_ka[k], 0.0)], paths.device_ids)
         no_trip_staged = np.zeros(n_bus, dtype=bool)
         capped_staged = np.zeros(n_bus, dtype=bool)
@@ -462,7 +465,8 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
             duration[k] = arc.duration_s
             governing[k] = arc.governing
             no_trip_staged[k], capped_staged[k] = arc.no_trip, arc.capped
-            sequence[k] = _sequence_text(arc.steps, paths.device_ids)
+            if sequences:
+                sequence[k] = _sequence_text(arc.steps, paths.device_ids)
             for number, (start, end, bolted, arcing, code) in enumerate(arc.stages):
                 stage_rows.append((paths.bus_ids[k], case, number, start, end, bolted, arcing, code))
             for d, t, before, after, bolted_before, bolted_after in arc.steps:

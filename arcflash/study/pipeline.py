@@ -73,13 +73,13 @@ def _staged_energy(table, stages):
                 t if not c else (c if t in c else f"{c}; {t}") for c, t in zip(current, texts)]
 
 
-def _scenario_rows(site, scenario, equipment, stated_times=None):
+def _scenario_rows(site, scenario, equipment, stated_times=None, sequences=True):
     faults = solve_scenario(site, scenario.name, for_clearing=True)
     buses = faults.buses
     arcs = arcing_currents(site, buses, equipment)
     paths = clearing_paths(site, scenario, faults)
     cleared = clear_arcs(site, scenario, faults, arcs["arcing_current_ka"], arcs["reduced_arcing_current_ka"],
-                         paths, equipment)
+                         paths, equipment, sequences)
     times = cleared.table
     table = buses.join(arcs).join(times).join(equipment)
     cap = site.facility.arc_duration_cap_s

@@ -195,7 +195,8 @@ def run_chunk(site, inputs, rows, scenario=None):
         group = rows[lo:lo + size]
         stacked = stacked_site([sample_site(site, inputs, values) for values in group])
         equipment = equipment_table(stacked)
-        parts = [_scenario_rows(stacked, stacked.scenarios[name], equipment)[0].reset_index().assign(scenario=name)
+        parts = [_scenario_rows(stacked, stacked.scenarios[name], equipment, sequences=False)[0].reset_index()
+                 .assign(scenario=name)
                  for name in names]
         governing = governing_rows(_finish(pd.concat(parts, ignore_index=True)))
         for copy in range(len(group)):
