@@ -511,14 +511,19 @@ class SpanningForest:
             ends = label[self.branch_from[joining]], label[self.branch_to[joining]]
             apart = ends[0] != ends[1]  # a closed loop branch joining two pieces again (others join nothing)
             if apart.any():
-                pieces, compact = np.unique(np.concatenate([ends[0][apart], ends[1][apart]]), return_inverse=True)
-                half = compact.size // 2
-                graph = sp.coo_matrix((np.ones(half), (compact[:half], compact[half:])),
-                                      shape=(pieces.size, pieces.size)).tocsr()
-                joined = connected_components(graph, directed=False)[1]
-                first = np.full(joined.max() + 1, label.max() + 1, dtype=np.int32)
-                np.minimum.at(first, joined, pieces.astype(np.int32))  # each joined group: its lowest piece
                 lookup = np.arange(label.max() + 1, dtype=np.int32)
-                lookup[pieces] = first[joined]
+                root = {}
+
+                def find(x):
+                    while root.get(x, x) != x:
+                        x = root[x]
+                    return x
+
+                for a, b in zip(ends[0][apart].tolist(), ends[1][apart].tolist()):
+                    a, b = find(a), find(b)
+                    if a != b:
+                        root[max(a, b)] = min(a, b)  # each joined group: its lowest piece
+                for piece in root:
+                    lookup[piece] = find(piece)
                 label = lookup[label]
         return label
