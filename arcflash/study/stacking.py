@@ -49,11 +49,7 @@ def stacked_site(sites):
         for name, fields in REFERENCES.items():
             into = sections[name]
             for ident, element in getattr(site, name).items():
-                update = {"id": tagged(element.id, copy)}
-                for field in fields:
-                    value = getattr(element, field)
-                    update[field] = [tagged(v, copy) for v in value] if isinstance(value, list) else tagged(value, copy)
-                into[tagged(ident, copy)] = element.model_copy(update=update)
+                into[tagged(ident, copy)] = _tagged_element(element, copy, fields)
     scenarios = {
         name: scenario.model_copy(update={
             **{field: [tagged(v, copy) for copy in range(len(sites)) for v in getattr(scenario, field)]
@@ -61,6 +57,30 @@ def stacked_site(sites):
             "maintenance_mode": None})
         for name, scenario in first.scenarios.items()}
     return dataclasses.replace(first, **sections, scenarios=scenarios, origin={})
+
+
+#: Tagged copies made so far: (id of the element, copy) -> (element, its copy). An element a sample leaves
+#: unchanged (the site's own object) is tagged once per copy number, not once per stack, and stays the same
+#: object from stack to stack (so what is remembered by identity, such as a device's clearing thresholds, is
+#: found again). The entry keeps the element alive, so its identity is not reused while it is kept.
+_TAGGED = {}
+_TAGGED_KEPT = 100_000
+
+
+def _tagged_element(element, copy, fields):
+    """``element`` with its id and the ids it refers to (``fields``) tagged with ``copy``."""
+    known = _TAGGED.get((id(element), copy))
+    if known is not None and known[0] is element:
+        return known[1]
+    update = {"id": tagged(element.id, copy)}
+    for field in fields:
+        value = getattr(element, field)
+        update[field] = [tagged(v, copy) for v in value] if isinstance(value, list) else tagged(value, copy)
+    made = element.model_copy(update=update)
+    if len(_TAGGED) >= _TAGGED_KEPT:
+        _TAGGED.clear()
+    _TAGGED[(id(element), copy)] = (element, made)
+    return made
 
 
 def stack_size(site):
