@@ -222,7 +222,7 @@ def _solved(base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_z_pu,
         if _is_radial(sub, merged):
             diag, (k, d, current_pu, direction) = _radial(sub, merged, device_branch, live, voltage_factor, min_share,
                                                           floor)
-        elif _loop_count(sub, merged) <= MAX_LOOPS_FOR_UPDATE:
+        elif _loop_count(sub, merged, label[active]) <= MAX_LOOPS_FOR_UPDATE:
             diag, (k, d, current_pu, direction) = _tree_plus_loops(sub, merged, device_branch, live, voltage_factor,
                                                                    min_share, floor)
         else:
@@ -250,21 +250,21 @@ def _solved(base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_z_pu,
 
 def _by_part(label, parts, base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_z_pu, source_bus,
              device_branch, device_kv, voltage_factor, s_base_mva, min_share, backfeed_min_ka):
-    """:func:`solve_faults` of a network of several energised parts, each part with loops solved on its own
-    (buses, branches, shunts, sources and devices renumbered within it) and the radial parts together (node by
-    node, so each as alone), the results put together part by part."""
+    """:func:`solve_faults` of a network of several energised parts, in groups (buses, branches, shunts,
+    sources and devices renumbered within each) whose parts are each solved as alone: the radial parts, the
+    parts with few loops, and each part with many loops on its own; the results put together part by part."""
     n = base_kv.size
     z_th = np.full(n, np.nan + 0j)
     bolted, x_over_r, energized = np.zeros(n), np.full(n, np.nan), np.zeros(n, dtype=bool)
     rows = [[] for _ in range(5)]
-    # The radial parts are solved together (node by node: bit for bit as alone), the others one by one.
+    # The radial parts are solved together (node by node: each as alone), so are the parts with few loops
+    # (a tree for all, the update part by part); a part with many loops alone (its own sparse solve).
     pairs = np.unique(np.minimum(branch_from, branch_to).astype(np.int64) * n + np.maximum(branch_from, branch_to))
-    edges = np.bincount(label[pairs // n], minlength=label.max() + 1)
-    loops = (edges > np.bincount(label, minlength=label.max() + 1) - 1) | np.bincount(
-        label[pairs[pairs // n == pairs % n] // n], minlength=label.max() + 1).astype(bool)
-    radial = parts[~loops[parts]]
-    groups = [radial] if radial.size else []
-    groups += [np.array([p]) for p in parts[loops[parts]]]
+    count = np.bincount(label[pairs // n], minlength=label.max() + 1) - np.bincount(label, minlength=label.max() + 1) + 1
+    loops = (count > 0) | np.bincount(label[pairs[pairs // n == pairs % n] // n], minlength=label.max() + 1).astype(bool)
+    few = loops & (count <= MAX_LOOPS_FOR_UPDATE)
+    groups = [group for group in (parts[~loops[parts]], parts[few[parts]]) if group.size]
+    groups += [np.array([p]) for p in parts[loops[parts] & ~few[parts]]]
     for group in groups:
         buses = np.flatnonzero(np.isin(label, group))
         local = np.full(n, -1, dtype=np.intp)
@@ -356,9 +356,11 @@ def _spanning_forest(sub, merged):
     return in_tree
 
 
-def _loop_count(sub, merged):
-    """Closing edges: merged edges beyond a spanning forest (one per independent loop) [-]."""
-    return merged[1].size - (sub.m - sub.roots.size)
+def _loop_count(sub, merged, part):
+    """Closing edges of the part with the most (``part``: the part of each bus): merged edges beyond a
+    spanning tree, one per independent loop [-]."""
+    parts = int(part.max(initial=-1)) + 1
+    return int((np.bincount(part[merged[1]], minlength=parts) - np.bincount(part, minlength=parts) + 1).max(initial=0))
 
 
 def _tree_plus_loops(sub, merged, device_branch, live, voltage_factor, min_share, floor=None):
@@ -386,19 +388,32 @@ def _tree_plus_loops(sub, merged, device_branch, live, voltage_factor, min_share
     shunt = np.zeros(sub.m, dtype=complex)
     np.add.at(shunt, sub.shunt_bus, sub.shunt_y)
     tree = RadialNetwork(sub.m, ea[in_tree], eb[in_tree], edge_y[in_tree], shunt, sub.roots)
-    loops = np.flatnonzero(~in_tree)
-    a, b = ea[loops], eb[loops]
-    r = loops.size
-    columns = tree.columns(np.concatenate([a, b]))
-    w = columns[:, :r] - columns[:, r:]  # Z_T U
-    m_inv = np.linalg.inv(np.diag(1.0 / edge_y[loops]) + (w[a] - w[b]))
-    wm = w @ m_inv
-    diag = tree.z_kk - np.einsum("kc,kc->k", wm, w)
     bdev = device_branch[live]
     i, j = sub.f[bdev], sub.t[bdev]
-    g = (w[i] - w[j]) @ m_inv
-    bound = np.abs(1.0 / sub.z[bdev]) * (np.abs(g) @ np.abs(w).max(axis=0))
-    affected = (tree_merged[0][bdev] < 0) | (bound >= LOOP_SHARE_TOLERANCE)
+    all_loops = np.flatnonzero(~in_tree)
+    columns = tree.columns(np.concatenate([ea[all_loops], eb[all_loops]]))
+    # The update part by part (several parts: the copies of an uncertainty run), each with its own rows,
+    # closing edges and devices, so that a part's arithmetic is the one it has alone.
+    diag = tree.z_kk.copy()
+    affected = tree_merged[0][bdev] < 0
+    parts = []
+    for top in np.unique(tree.top[ea[all_loops]]):
+        nodes = np.flatnonzero(tree.top == top)
+        local = np.full(sub.m, -1, dtype=np.intp)
+        local[nodes] = np.arange(nodes.size)
+        mine = np.flatnonzero(tree.top[ea[all_loops]] == top)
+        loops = all_loops[mine]
+        a, b = local[ea[loops]], local[eb[loops]]
+        w = columns[nodes][:, mine] - columns[nodes][:, all_loops.size + mine]  # Z_T U
+        m_inv = np.linalg.inv(np.diag(1.0 / edge_y[loops]) + (w[a] - w[b]))
+        wm = w @ m_inv
+        diag[nodes] = tree.z_kk[nodes] - np.einsum("kc,kc->k", wm, w)
+        devices = np.flatnonzero(tree.top[i] == top)
+        g = np.zeros((bdev.size, loops.size), dtype=complex)
+        g[devices] = (w[local[i[devices]]] - w[local[j[devices]]]) @ m_inv
+        bound = np.abs(1.0 / sub.z[bdev[devices]]) * (np.abs(g[devices]) @ np.abs(w).max(axis=0))
+        affected[devices] |= bound >= LOOP_SHARE_TOLERANCE
+        parts.append((nodes, local, w, wm, g, devices))
     _, (k, d, current, direction) = _radial(sub, tree_merged, device_branch, live[~affected], voltage_factor,
                                             min_share, None if floor is None else floor[~affected], tree=tree)
     out = [[k], [d], [current * tree.z_kk[k] / diag[k]], [direction]]
@@ -412,41 +427,45 @@ def _tree_plus_loops(sub, merged, device_branch, live, voltage_factor, min_share
     scale_in = sign * (tree.up[child] - 1.0)
     scale_out = sign * (1.0 / tree.down[child] - 1.0)
     one = affected & (edge_id >= 0) & (np.abs(scale_out) > 1e-100)
-    for group, single in ((np.flatnonzero(one), True), (np.flatnonzero(affected & ~one), False)):
-        for lo in range(0, group.size, BLOCK_COLUMNS // 2):
-            part = group[lo:lo + BLOCK_COLUMNS // 2]
-            half = part.size
-            if single:
-                tree_diff = tree.columns(child[part], scale_in[part], scale_out[part])
-                diff = tree_diff - w @ g[part].T  # Z[:, i] - Z[:, j]
-            else:
-                cols = tree.columns(np.concatenate([i[part], j[part]]))
-                diff = cols[:, :half]
-                diff -= cols[:, half:]
-                diff -= w @ g[part].T
-            z_b = sub.z[bdev[part]]
-            limit = (min_share * np.abs(z_b)) ** 2
-            kk, dd = np.nonzero(diff.real ** 2 + diff.imag ** 2 >= limit[None, :])
-            picked = diff[kk, dd]
-            current_pu = -picked * i_fault[kk] / z_b[dd]
-            if single:  # Z_T[k, j] at the picked rows, from the scaled column
-                c_d = child[part][dd]
-                inside = tree.in_subtree(c_d, kk)
-                z_c = tree_diff[kk, dd] / np.where(inside, scale_in[part][dd], scale_out[part][dd])
-                z_p = z_c * np.where(inside, tree.up[c_d], 1.0 / tree.down[c_d])
-                z_j_tree = np.where(j[part][dd] == c_d, z_c, z_p)
-            else:
-                z_j_tree = cols[kk, half + dd]
-            # Direction: that of the active power through the branch, Re((V_i + V_j)/2 conj(I_ij)), with
-            # Z[:, i] + Z[:, j] = (Z[:, i] - Z[:, j]) + 2 Z[:, j], Z[k, j] corrected at the picked rows only.
-            z_j = z_j_tree - np.einsum("pc,pc->p", wm[kk], w[j[part]][dd])
-            both = picked + 2.0 * z_j
-            volts = 2.0 * voltage_factor - both * i_fault[kk]
-            toward_j = (volts * np.conj(current_pu)).real >= 0.0
-            out[0].append(kk)
-            out[1].append(live[part][dd])
-            out[2].append(current_pu)
-            out[3].append(np.where(toward_j, 1, -1))
+    for nodes, local, w, wm, g, devices in parts:
+        in_part = np.zeros(bdev.size, dtype=bool)
+        in_part[devices] = True
+        for group, single in ((np.flatnonzero(one & in_part), True), (np.flatnonzero(affected & ~one & in_part), False)):
+            for lo in range(0, group.size, BLOCK_COLUMNS // 2):
+                part = group[lo:lo + BLOCK_COLUMNS // 2]
+                half = part.size
+                if single:
+                    tree_diff = tree.columns(child[part], scale_in[part], scale_out[part])[nodes]
+                    diff = tree_diff - w @ g[part].T  # Z[:, i] - Z[:, j]
+                else:
+                    cols = tree.columns(np.concatenate([i[part], j[part]]))[nodes]
+                    diff = cols[:, :half]
+                    diff -= cols[:, half:]
+                    diff -= w @ g[part].T
+                z_b = sub.z[bdev[part]]
+                limit = (min_share * np.abs(z_b)) ** 2
+                kk, dd = np.nonzero(diff.real ** 2 + diff.imag ** 2 >= limit[None, :])
+                picked = diff[kk, dd]
+                at = nodes[kk]  # the faulted buses
+                current_pu = -picked * i_fault[at] / z_b[dd]
+                if single:  # Z_T[k, j] at the picked rows, from the scaled column
+                    c_d = child[part][dd]
+                    inside = tree.in_subtree(c_d, at)
+                    z_c = tree_diff[kk, dd] / np.where(inside, scale_in[part][dd], scale_out[part][dd])
+                    z_p = z_c * np.where(inside, tree.up[c_d], 1.0 / tree.down[c_d])
+                    z_j_tree = np.where(j[part][dd] == c_d, z_c, z_p)
+                else:
+                    z_j_tree = cols[kk, half + dd]
+                # Direction: that of the active power through the branch, Re((V_i + V_j)/2 conj(I_ij)), with
+                # Z[:, i] + Z[:, j] = (Z[:, i] - Z[:, j]) + 2 Z[:, j], Z[k, j] corrected at the picked rows only.
+                z_j = z_j_tree - np.einsum("pc,pc->p", wm[kk], w[local[j[part]]][dd])
+                both = picked + 2.0 * z_j
+                volts = 2.0 * voltage_factor - both * i_fault[at]
+                toward_j = (volts * np.conj(current_pu)).real >= 0.0
+                out[0].append(at)
+                out[1].append(live[part][dd])
+                out[2].append(current_pu)
+                out[3].append(np.where(toward_j, 1, -1))
     return diag, tuple(np.concatenate(x) for x in out)
 
 

@@ -106,6 +106,7 @@ class RadialNetwork:
         rank = np.full(n, -1, dtype=np.intp)
         rank[roots] = np.arange(roots.size)
         rank = rank[top_of]
+        self.top = top_of  # the root of each node's part
         self.order = order[np.argsort(rank[order], kind="stable")]
         preorder = preorder[np.argsort(rank[preorder], kind="stable")]
         levels = np.argsort(self.depth[self.order], kind="stable")
