@@ -165,10 +165,24 @@ def _follow_chunk(context, chunk):
         devices = np.concatenate(chosen) if chosen else np.zeros(0, dtype=np.intp)
         times, reset, breaker = context.bank.elements(devices, device_a[rows, devices])
         bounds = np.concatenate(([0], np.cumsum(sizes)))
+        # Trip progress so far (zero for an arc with none held and no past stages), then the time each
+        # followed device needs to trip, for every arc at once.
+        progress = np.zeros(times.shape)
+        for j, arc in enumerate(active):
+            if arc.held_device.size or arc.history:
+                progress[bounds[j]:bounds[j + 1]] = _progress(context, arc, chosen[j])
+        with np.errstate(invalid="ignore"):
+            remaining = np.where(np.isfinite(times), (1.0 - progress) * times, np.inf)
+        trip_in = remaining.min(axis=1) if devices.size else np.zeros(0)
+        open_at = np.repeat(np.array([a.time_s for a in active]), sizes) + trip_in + breaker
+        first = np.full(len(active), np.inf)
+        some = sizes > 0
+        if some.any():
+            first[some] = np.minimum.reduceat(open_at, bounds[:-1][some])
         for j, arc in enumerate(active):
             part = slice(bounds[j], bounds[j + 1])
             _advance(context, arc, solved.bolted_ka[j], arcing_ka[j], int(code[j]), chosen[j], times[part],
-                     reset[part], breaker[part], device_a[j])
+                     reset[part], device_a[j], progress[part], trip_in[part], open_at[part], float(first[j]))
         for arc in active:
             if arc.done:  # its trip progress and history are no longer needed
                 arc.held_device, arc.held_progress = np.zeros(0, dtype=np.intp), np.zeros((0, 1))
@@ -228,13 +242,10 @@ def _replay(context, arc, devices):
     return progress
 
 
-def _advance(context, arc, bolted_ka, arcing_ka, code, devices, times, reset, breaker, device_a):
-    """One stage of ``arc``: from its present time to the next opening (or the end)."""
-    if arc.steps and arc.steps[-1][3] is None:
-        for step in arc.steps:
-            if step[3] is None:
-                step[3], step[5] = arcing_ka, bolted_ka
-    progress = np.zeros(times.shape)
+def _progress(context, arc, devices):
+    """Trip progress of the followed ``devices`` (sorted) at the arc's present time: held from the last
+    stage, or replayed from the arc's history for a device followed from now on."""
+    progress = np.zeros((devices.size, context.bank.element_count))
     if arc.held_device.size:
         held = np.searchsorted(devices, arc.held_device)  # held devices are still followed (sorted)
         progress[held] = arc.held_progress
@@ -245,11 +256,18 @@ def _advance(context, arc, bolted_ka, arcing_ka, code, devices, times, reset, br
     if arc.history and (new is None or new.any()):  # followed from now on: their progress so far
         progress[new if new is not None else slice(None)] = _replay(
             context, arc, devices[new] if new is not None else devices)
-    with np.errstate(invalid="ignore"):
-        remaining = np.where(np.isfinite(times), (1.0 - progress) * times, np.inf)
-    trip_in = remaining.min(axis=1) if devices.size else np.zeros(0)
-    open_at = arc.time_s + trip_in + breaker
-    next_time = min([float(open_at.min()) if open_at.size else np.inf] + list(arc.opening.values()))
+    return progress
+
+
+def _advance(context, arc, bolted_ka, arcing_ka, code, devices, times, reset, device_a, progress, trip_in, open_at,
+             first_s):
+    """One stage of ``arc``: from its present time to the next opening (or the end); ``progress``, ``trip_in``
+    and ``open_at`` of the followed ``devices``, and the first of those openings (``first_s``), are given."""
+    if arc.steps and arc.steps[-1][3] is None:
+        for step in arc.steps:
+            if step[3] is None:
+                step[3], step[5] = arcing_ka, bolted_ka
+    next_time = min([first_s] + list(arc.opening.values()))
     motors_end = (context.motor_end_s is not None and not arc.key.motors_off
                   and context.motor_end_s >= arc.time_s)
     if motors_end:
@@ -271,12 +289,8 @@ def _advance(context, arc, bolted_ka, arcing_ka, code, devices, times, reset, br
         return
     dt = end - arc.time_s
     tripped = trip_in <= dt + SIMULTANEOUS_S
-    for d, at in zip(devices[tripped], open_at[tripped]):
-        arc.opening[int(d)] = float(at)
-    updated = _progressed(progress, times, reset, dt)
-    keep = ~tripped & updated.any(axis=1)
-    arc.held_device, arc.held_progress = devices[keep], updated[keep]
-    arc.history.append((dt, device_a.copy()))
+    for d, at in zip(devices[tripped].tolist(), open_at[tripped].tolist()):
+        arc.opening[d] = at
     arc.time_s = end
     now = sorted(d for d, at in arc.opening.items() if at <= end + SIMULTANEOUS_S)
     for d in now:
@@ -291,6 +305,11 @@ def _advance(context, arc, bolted_ka, arcing_ka, code, devices, times, reset, br
                 step[3], step[5] = 0.0, 0.0
         arc.done, arc.duration_s = True, end
         arc.governing = _governing(context, arc, now)
+        return
+    updated = _progressed(progress, times, reset, dt)  # the arc goes on: its devices' progress is held
+    keep = ~tripped & updated.any(axis=1)
+    arc.held_device, arc.held_progress = devices[keep], updated[keep]
+    arc.history.append((dt, device_a.copy()))
 
 
 def _next_to_open(context, arc, devices, open_at, device_a):
