@@ -159,12 +159,11 @@ def _follow_chunk(context, chunk):
         arcing_ka, code = context.arcing(at, solved.bolted_ka, np.array([a.reduced for a in active], dtype=bool))
         ratio = np.divide(arcing_ka, solved.bolted_ka, out=np.zeros(at.size), where=solved.bolted_ka > 0)
         device_a = solved.device_current_ka * (ratio * 1000.0)[:, None]
-        chosen = [_devices(context, arc, device_a[j]) for j, arc in enumerate(active)]
-        sizes = np.array([c.size for c in chosen])
-        rows = np.repeat(np.arange(at.size), sizes)
-        devices = np.concatenate(chosen) if chosen else np.zeros(0, dtype=np.intp)
+        rows, devices = _devices(context, active, device_a)
+        sizes = np.bincount(rows, minlength=len(active))
         times, reset, breaker = context.bank.elements(devices, device_a[rows, devices])
         bounds = np.concatenate(([0], np.cumsum(sizes)))
+        chosen = [devices[bounds[j]:bounds[j + 1]] for j in range(len(active))]
         # Trip progress so far (zero for an arc with none held and no past stages), then the time each
         # followed device needs to trip, for every arc at once.
         progress = np.zeros(times.shape)
@@ -211,17 +210,26 @@ def _warm(context, arc, device_a):
     return warm
 
 
-def _devices(context, arc, device_a):
-    """Devices to follow in this stage (sorted): those whose current could make them clear within the
-    cap, and those already followed that still hold trip progress.
+def _devices(context, arcs, device_a):
+    """Devices to follow in this stage, as (arc, device) pairs sorted by arc then device: those whose
+    current could make them clear within the cap, and those already followed that still hold trip
+    progress (``device_a``: one row of device currents per arc [A]).
 
     A device whose current has stayed below the smallest current at which it clears within the cap
     cannot open before the cap (each element's time then exceeds the cap less the opening time, so its
     progress cannot reach 1 in time): it is not followed until its current first reaches that level;
     then its progress so far is replayed from the arc's history (:func:`_replay`), so nothing is lost.
     """
-    hot = np.flatnonzero(_warm(context, arc, device_a) & (device_a >= context.hot_a))
-    return np.union1d(hot, arc.held_device).astype(np.intp) if arc.held_device.size else hot
+    hot = (device_a >= context.operating_a) & (device_a >= context.hot_a)  # below: no element operates
+    for j, arc in enumerate(arcs):
+        if arc.opening or arc.opened:  # tripped (opening pending) or opened: never again
+            hot[j, list(arc.opening) + list(arc.opened)] = False
+        excluded = context.excluded.get(arc.bus, set())
+        if excluded:
+            hot[j, list(excluded - context.line_side.get(arc.bus, set()))] = False
+        if arc.held_device.size:
+            hot[j, arc.held_device] = True
+    return np.nonzero(hot)
 
 
 def _progressed(progress, times, reset, dt):
