@@ -182,7 +182,7 @@ def run_chunk(site, inputs, rows, scenario=None):
     (:mod:`arcflash.study.stacking`, at most :data:`~arcflash.study.stacking.STACK_BUSES` buses a stack),
     each copy's results equal to its sample studied alone."""
     from .arcing import equipment_table
-    from .pipeline import _finish, _scenario_rows, governing_rows
+    from .pipeline import _governing_case, _scenario_rows, governing_rows
     from .stacking import stack_size, stacked_site, tagged
 
     buses = list(site.buses)
@@ -198,7 +198,9 @@ def run_chunk(site, inputs, rows, scenario=None):
         parts = [_scenario_rows(stacked, stacked.scenarios[name], equipment, sequences=False)[0].reset_index()
                  .assign(scenario=name)
                  for name in names]
-        governing = governing_rows(_finish(pd.concat(parts, ignore_index=True)))
+        table = pd.concat(parts, ignore_index=True)
+        _governing_case(table)  # the samples need the governing energy and boundary, not the flags
+        governing = governing_rows(table)
         for copy in range(len(group)):
             mine = governing.reindex([tagged(bus, copy) for bus in buses])
             energy[lo + copy] = mine["incident_energy_governing_cal_cm2"].to_numpy(float)
