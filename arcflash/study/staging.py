@@ -46,6 +46,14 @@ MAX_STAGES = 64
 CHUNK_ARCS = 64
 
 
+#: Shared defaults of a new arc (read-only; an arc replaces them, never changes them in place).
+BASE_STATE = StateKey()
+NO_DEVICES = np.zeros(0, dtype=np.intp)
+NO_PROGRESS = np.zeros((0, 1))
+NO_DEVICES.flags.writeable = False
+NO_PROGRESS.flags.writeable = False
+
+
 @dataclass
 class StagedArc:
     """One arc (bus, arcing case) followed stage by stage.
@@ -57,10 +65,10 @@ class StagedArc:
 
     bus: int
     reduced: bool = False
-    key: StateKey = field(default_factory=StateKey)
+    key: StateKey = BASE_STATE
     time_s: float = 0.0
-    held_device: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.intp))
-    held_progress: np.ndarray = field(default_factory=lambda: np.zeros((0, 1)))
+    held_device: np.ndarray = field(default_factory=lambda: NO_DEVICES)  # replaced, never changed in place
+    held_progress: np.ndarray = field(default_factory=lambda: NO_PROGRESS)
     history: list = field(default_factory=list)
     opened: set = field(default_factory=set)
     opening: dict = field(default_factory=dict)
@@ -184,7 +192,7 @@ def _follow_chunk(context, chunk):
                      reset[part], device_a[j], progress[part], trip_in[part], open_at[part], float(first[j]))
         for arc in active:
             if arc.done:  # its trip progress and history are no longer needed
-                arc.held_device, arc.held_progress = np.zeros(0, dtype=np.intp), np.zeros((0, 1))
+                arc.held_device, arc.held_progress = NO_DEVICES, NO_PROGRESS
                 arc.history = []
         active = [a for a in active if not a.done]
     for arc in active:  # more openings than MAX_STAGES: flagged; the rest of the arc at its largest current
