@@ -10,6 +10,7 @@ first line) and is read once, at import.
 from __future__ import annotations
 
 import csv
+import functools
 import io
 from importlib import resources
 
@@ -56,6 +57,7 @@ def normalize_size(size):
     return text
 
 
+@functools.lru_cache(maxsize=4096)  # a table lookup: every cable of a size, in every scenario, reads the same row
 def cable_impedance_ohm_per_kft(size, material, conduit):
     """Resistance and reactance per 1000 ft of one conductor, NEC Chapter 9 Table 9.
 
