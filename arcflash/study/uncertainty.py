@@ -201,11 +201,11 @@ def run_chunk(site, inputs, rows, scenario=None):
         table = pd.concat(parts, ignore_index=True)
         _governing_case(table)  # the samples need the governing energy and boundary, not the flags
         governing = governing_rows(table)
-        for copy in range(len(group)):
-            mine = governing.reindex([tagged(bus, copy) for bus in buses])
-            energy[lo + copy] = mine["incident_energy_governing_cal_cm2"].to_numpy(float)
-            boundary[lo + copy] = mine["arc_flash_boundary_governing_mm"].to_numpy(float)
-            bolted[lo + copy] = mine["bolted_ka"].to_numpy(float)
+        mine = governing.reindex([tagged(bus, copy) for copy in range(len(group)) for bus in buses])
+        shape = (len(group), len(buses))
+        energy[lo:lo + len(group)] = mine["incident_energy_governing_cal_cm2"].to_numpy(float).reshape(shape)
+        boundary[lo:lo + len(group)] = mine["arc_flash_boundary_governing_mm"].to_numpy(float).reshape(shape)
+        bolted[lo:lo + len(group)] = mine["bolted_ka"].to_numpy(float).reshape(shape)
     return energy, boundary, bolted
 
 
