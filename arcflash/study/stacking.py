@@ -48,8 +48,11 @@ def stacked_site(sites):
     for copy, site in enumerate(sites):
         for name, fields in REFERENCES.items():
             into = sections[name]
+            ends = (getattr(sites[0], name), getattr(sites[-1], name))
             for ident, element in getattr(site, name).items():
-                into[tagged(ident, copy)] = _tagged_element(element, copy, fields)
+                # Remembered only if the samples share it (a sampled element is met once).
+                shared = len(sites) > 1 and ends[0].get(ident) is element and ends[1].get(ident) is element
+                into[tagged(ident, copy)] = _tagged_element(element, copy, fields, shared)
     scenarios = {
         name: scenario.model_copy(update={
             **{field: [tagged(v, copy) for copy in range(len(sites)) for v in getattr(scenario, field)]
@@ -59,7 +62,7 @@ def stacked_site(sites):
     return dataclasses.replace(first, **sections, scenarios=scenarios, origin={})
 
 
-#: Tagged copies made so far: (id of the element, copy) -> (element, its copy). An element a sample leaves
+#: Tagged copies made so far: (id of the element, copy) -> (element, its copy). An element the samples leave
 #: unchanged (the site's own object) is tagged once per copy number, not once per stack, and stays the same
 #: object from stack to stack (so what is remembered by identity, such as a device's clearing thresholds, is
 #: found again). The entry keeps the element alive, so its identity is not reused while it is kept.
@@ -67,9 +70,10 @@ _TAGGED = {}
 _TAGGED_KEPT = 100_000
 
 
-def _tagged_element(element, copy, fields):
-    """``element`` with its id and the ids it refers to (``fields``) tagged with ``copy``."""
-    known = _TAGGED.get((id(element), copy))
+def _tagged_element(element, copy, fields, remember):
+    """``element`` with its id and the ids it refers to (``fields``) tagged with ``copy`` (kept for the next
+    stack with ``remember``)."""
+    known = _TAGGED.get((id(element), copy)) if remember else None
     if known is not None and known[0] is element:
         return known[1]
     update = {"id": tagged(element.id, copy)}
@@ -77,6 +81,8 @@ def _tagged_element(element, copy, fields):
         value = getattr(element, field)
         update[field] = [tagged(v, copy) for v in value] if isinstance(value, list) else tagged(value, copy)
     made = element.model_copy(update=update)
+    if not remember:
+        return made
     if len(_TAGGED) >= _TAGGED_KEPT:
         _TAGGED.clear()
     _TAGGED[(id(element), copy)] = (element, made)
