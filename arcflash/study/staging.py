@@ -174,10 +174,7 @@ def _follow_chunk(context, chunk):
         chosen = [devices[bounds[j]:bounds[j + 1]] for j in range(len(active))]
         # Trip progress so far (zero for an arc with none held and no past stages), then the time each
         # followed device needs to trip, for every arc at once.
-        progress = np.zeros(times.shape)
-        for j, arc in enumerate(active):
-            if arc.held_device.size or arc.history:
-                progress[bounds[j]:bounds[j + 1]] = _progress(context, arc, chosen[j])
+        progress = _progress(context, active, chosen, bounds, rows, devices, times.shape)
         with np.errstate(invalid="ignore"):
             remaining = np.where(np.isfinite(times), (1.0 - progress) * times, np.inf)
         trip_in = remaining.min(axis=1) if devices.size else np.zeros(0)
@@ -258,20 +255,37 @@ def _replay(context, arc, devices):
     return progress
 
 
-def _progress(context, arc, devices):
-    """Trip progress of the followed ``devices`` (sorted) at the arc's present time: held from the last
-    stage, or replayed from the arc's history for a device followed from now on."""
-    progress = np.zeros((devices.size, context.bank.element_count))
-    if arc.held_device.size:
-        held = np.searchsorted(devices, arc.held_device)  # held devices are still followed (sorted)
-        progress[held] = arc.held_progress
-        new = np.ones(devices.size, dtype=bool)
-        new[held] = False
-    else:
-        new = None  # every device is new
-    if arc.history and (new is None or new.any()):  # followed from now on: their progress so far
-        progress[new if new is not None else slice(None)] = _replay(
-            context, arc, devices[new] if new is not None else devices)
+def _progress(context, arcs, chosen, bounds, rows, devices, shape):
+    """Trip progress of the followed devices (``chosen[j]``, sorted, rows ``bounds[j]:bounds[j + 1]`` of
+    arc ``j``) at each arc's present time: held from the last stage, or, for a device followed from now
+    on, replayed from its arc's history (:func:`_replay`; here every such device of every arc at once,
+    one past stage after another)."""
+    progress = np.zeros(shape)
+    fresh = []  # rows followed from now on, in arcs with a history
+    for j, arc in enumerate(arcs):
+        if not (arc.held_device.size or arc.history):
+            continue
+        new = np.ones(chosen[j].size, dtype=bool)
+        if arc.held_device.size:
+            held = bounds[j] + np.searchsorted(chosen[j], arc.held_device)  # still followed (sorted)
+            progress[held] = arc.held_progress
+            new[held - bounds[j]] = False
+        if arc.history and new.any():
+            fresh.append(bounds[j] + np.flatnonzero(new))
+    if fresh:
+        fresh = np.concatenate(fresh)
+        owner = rows[fresh]
+        length = np.array([len(arc.history) for arc in arcs])
+        replayed = np.zeros((fresh.size, shape[1]))
+        for h in range(int(length[owner].max())):
+            live = length[owner] > h
+            at = fresh[live]
+            past = {j: arcs[j].history[h] for j in np.unique(owner[live]).tolist()}
+            dt = np.array([past[j][0] for j in owner[live].tolist()])
+            current = np.concatenate([past[j][1][devices[at[owner[live] == j]]] for j in past])  # rows in arc order
+            times, reset, _ = context.bank.elements(devices[at], current)
+            replayed[live] = _progressed(replayed[live], times, reset, dt[:, None])
+        progress[fresh] = replayed
     return progress
 
 
