@@ -433,7 +433,21 @@ class NetworkStates:
         return cache[bus]
 
     def reaches_source(self, key, bus):
-        """Whether a source still reaches ``bus`` (the split node when the state splits it) [-]."""
+        """Whether a source still reaches ``bus`` (the split node when the state splits it) [-].
+
+        One branch opened in a radial network (the usual first opening of an arc) is answered from the
+        spanning forest alone: the branch cuts off the subtree below it, and the bus is fed if a source of
+        its part lies on the same side of the cut."""
+        if key.split is None and len(key.opened) == 1 and ("topology", key) not in self._states:
+            forest = self._forest()
+            if forest.others.size == 0 and self.source_bus.size:
+                (branch,) = key.opened
+                child = forest.child_of[branch]
+                lo, hi = forest.tin[child], forest.tin[child] + forest.size[child]
+                source_tin = forest.tin[self.source_bus]
+                below = (source_tin >= lo) & (source_tin < hi)
+                same_part = forest.base[self.source_bus] == forest.base[bus]
+                return bool(np.any(same_part & (below == (lo <= forest.tin[bus] < hi))))
         energized = self._topology(key)[3]
         return bool(energized[self.n if key.split is not None else bus])
 

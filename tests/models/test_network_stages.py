@@ -110,3 +110,28 @@ def test_parts_of_a_state_from_the_forest_equal_a_graph_search(tmp_path, scenari
         label = forest.components(closed)
         pairs = np.unique(np.stack([label, expected]), axis=1)  # a one-to-one map between the two labellings
         assert np.unique(pairs[0]).size == pairs.shape[1] == np.unique(pairs[1]).size
+
+
+@pytest.mark.parametrize("scenario", ["normal", "ties-closed"])
+def test_a_source_reaches_a_bus_after_one_opening_as_the_parts_of_the_state_say(tmp_path, scenario):
+    # reaches_source answers one opening in a radial network from the spanning forest alone; it must agree
+    # with the energised parts of the whole state (computed here with a plain graph search) for every branch
+    import scipy.sparse as sp
+    from scipy.sparse.csgraph import connected_components
+
+    from arcflash.models.network_stages import StateKey
+    from arcflash.study.staging import network_states
+
+    site = arcflash.load_site(synthetic_site(tmp_path / "s", 200, ties=3, substation_size=50))
+    net = build_network(site, site.scenario(scenario))
+    states = network_states(site, net)
+    n, m = len(net.bus_ids), net.branch_from.size
+    rng = np.random.default_rng(4)
+    for branch in range(m):
+        closed = np.ones(m, dtype=bool)
+        closed[branch] = False
+        graph = sp.coo_matrix((np.ones(m - 1), (net.branch_from[closed], net.branch_to[closed])), shape=(n, n))
+        label = connected_components(graph, directed=False)[1]
+        fed = np.isin(label, label[net.source_bus])
+        for bus in rng.choice(n, 5):
+            assert states.reaches_source(StateKey(frozenset({branch})), int(bus)) == bool(fed[bus])
