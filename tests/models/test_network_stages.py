@@ -135,3 +135,31 @@ def test_a_source_reaches_a_bus_after_one_opening_as_the_parts_of_the_state_say(
         fed = np.isin(label, label[net.source_bus])
         for bus in rng.choice(n, 5):
             assert states.reaches_source(StateKey(frozenset({branch})), int(bus)) == bool(fed[bus])
+
+
+def test_a_block_diagonal_solve_touches_only_the_parts_of_its_right_hand_side():
+    # _PartsLU solves only the parts (and columns) where the right-hand side has entries: the solution must
+    # equal a solve of the whole matrix (linear algebra: the blocks are independent), and be exactly zero
+    # in the parts the right-hand side leaves untouched.
+    import scipy.sparse as sp
+    from scipy.sparse.linalg import splu
+
+    from arcflash.models.network_stages import _PartsLU
+
+    rng = np.random.default_rng(2)
+    sizes = [4, 6, 5]
+    blocks = [np.eye(k) * 4.0 + rng.random((k, k)) + 1j * rng.random((k, k)) for k in sizes]
+    whole = sp.block_diag(blocks, format="csc")
+    starts = np.cumsum([0] + sizes)
+    rows = [np.arange(a, b) for a, b in zip(starts[:-1], starts[1:])]
+    parts = _PartsLU(whole.shape, [(r, splu(sp.csc_matrix(block))) for r, block in zip(rows, blocks)])
+    rhs = np.zeros((whole.shape[0], 3), dtype=complex)
+    rhs[1, 0] = 1.0  # part 0 only
+    rhs[12, 1] = 2.0 - 1.0j  # part 2 only
+    rhs[[0, 5], 2] = [1.0, -1.0]  # parts 0 and 1
+    solved = parts.solve(rhs)
+    np.testing.assert_allclose(solved, splu(whole).solve(rhs), rtol=1e-12, atol=1e-14)
+    assert not solved[rows[1], 0].any() and not solved[rows[2], 0].any()
+    assert not solved[rows[0], 1].any() and not solved[rows[1], 1].any()
+    assert not solved[rows[2], 2].any()
+    np.testing.assert_array_equal(parts.solve(rhs[:, 0]), solved[:, 0])
