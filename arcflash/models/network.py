@@ -409,9 +409,8 @@ def _tree_plus_loops(sub, merged, device_branch, live, voltage_factor, min_share
         wm = w @ m_inv
         diag[nodes] = tree.z_kk[nodes] - np.einsum("kc,kc->k", wm, w)
         devices = np.flatnonzero(tree.top[i] == top)
-        g = np.zeros((bdev.size, loops.size), dtype=complex)
-        g[devices] = (w[local[i[devices]]] - w[local[j[devices]]]) @ m_inv
-        bound = np.abs(1.0 / sub.z[bdev[devices]]) * (np.abs(g[devices]) @ np.abs(w).max(axis=0))
+        g = (w[local[i[devices]]] - w[local[j[devices]]]) @ m_inv  # one row per device of the part
+        bound = np.abs(1.0 / sub.z[bdev[devices]]) * (np.abs(g) @ np.abs(w).max(axis=0))
         affected[devices] |= bound >= LOOP_SHARE_TOLERANCE
         parts.append((nodes, local, w, wm, g, devices))
     _, (k, d, current, direction) = _radial(sub, tree_merged, device_branch, live[~affected], voltage_factor,
@@ -430,18 +429,20 @@ def _tree_plus_loops(sub, merged, device_branch, live, voltage_factor, min_share
     for nodes, local, w, wm, g, devices in parts:
         in_part = np.zeros(bdev.size, dtype=bool)
         in_part[devices] = True
+        row = np.full(bdev.size, -1, dtype=np.intp)
+        row[devices] = np.arange(devices.size)  # each device's row of g
         for group, single in ((np.flatnonzero(one & in_part), True), (np.flatnonzero(affected & ~one & in_part), False)):
             for lo in range(0, group.size, BLOCK_COLUMNS // 2):
                 part = group[lo:lo + BLOCK_COLUMNS // 2]
                 half = part.size
                 if single:
                     tree_diff = tree.columns(child[part], scale_in[part], scale_out[part])[nodes]
-                    diff = tree_diff - w @ g[part].T  # Z[:, i] - Z[:, j]
+                    diff = tree_diff - w @ g[row[part]].T  # Z[:, i] - Z[:, j]
                 else:
                     cols = tree.columns(np.concatenate([i[part], j[part]]))[nodes]
                     diff = cols[:, :half]
                     diff -= cols[:, half:]
-                    diff -= w @ g[part].T
+                    diff -= w @ g[row[part]].T
                 z_b = sub.z[bdev[part]]
                 limit = (min_share * np.abs(z_b)) ** 2
                 kk, dd = np.nonzero(diff.real ** 2 + diff.imag ** 2 >= limit[None, :])
