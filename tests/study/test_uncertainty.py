@@ -238,3 +238,22 @@ def test_samples_of_a_site_with_loops_and_ties_studied_together_equal_each_studi
         assert np.array_equal(energy[k], alone["incident_energy_governing_cal_cm2"].to_numpy(float), equal_nan=True)
         assert np.array_equal(boundary[k], alone["arc_flash_boundary_governing_mm"].to_numpy(float), equal_nan=True)
         assert np.array_equal(bolted[k], alone["bolted_ka"].to_numpy(float), equal_nan=True)
+
+
+@pytest.mark.parametrize("within_s", [0.05, 0.5, 2.0, math.inf])
+def test_clearing_thresholds_taken_several_halvings_at_a_time_equal_one_halving_at_a_time(monkeypatch, within_s):
+    # the bisection evaluates a tree of midpoints per call for few devices: the same midpoints as one
+    # halving after another, so the same thresholds, bit for bit (arithmetic of the bisection itself)
+    import arcflash.study.device_bank as bank_module
+    from arcflash.study.faults import build_network
+
+    site = arcflash.load_site(DEMO)
+    scenario = site.scenario("maintenance-a")
+    bank = bank_module.DeviceBank(site, scenario, build_network(site, scenario).device_ids)
+    devices = np.arange(bank.kind.size)
+    tree = bank._bisect(devices, within_s)
+    monkeypatch.setattr(bank_module, "BISECTION_LEVELS", 1)
+    assert np.array_equal(tree, bank._bisect(devices, within_s))
+    found = np.isfinite(tree)
+    above = bank.clearing_time_s(devices[found], tree[found] * (1.0 + 1e-6))
+    assert (above <= within_s).all()  # just above its threshold a device clears in time
