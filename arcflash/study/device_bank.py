@@ -182,7 +182,12 @@ class DeviceBank:
         """
         known = self.__dict__.setdefault("_thresholds", {})
         if within_s not in known:
-            known[within_s] = self._threshold_a(within_s)
+            if within_s == np.inf:
+                # Every time is within an infinite one (a device that never trips too: inf <= inf), so the
+                # bisection would end at its lower end, 1 mA, for every device: a lower bound, as stated.
+                known[within_s] = np.full(self.kind.size, 10.0 ** BISECTION_LOW)
+            else:
+                known[within_s] = self._threshold_a(within_s)
         return known[within_s].copy()
 
     def _threshold_a(self, within_s):
@@ -217,7 +222,7 @@ class DeviceBank:
         tree; the midpoints are those of one halving after another (the same arithmetic), in a quarter of
         the calls, which for few devices cost more than the evaluations."""
         n = device.size
-        lo, hi = np.full(n, -3.0), np.full(n, 8.0)  # 1 mA .. 100 MA
+        lo, hi = np.full(n, BISECTION_LOW), np.full(n, 8.0)  # 1 mA .. 100 MA
         never = ~(self.clearing_time_s(device, np.full(n, 1e8)) <= within_s)
         levels = BISECTION_LEVELS if n <= BISECTION_TREE_DEVICES else 1
         column = np.arange(n)
@@ -246,6 +251,8 @@ class DeviceBank:
         return trip_unit_time_batch_s(current, self.units, rows, band="max")
 
 
+#: Lower end of the threshold bisection, lg of the current in A (1 mA) [-].
+BISECTION_LOW = -3.0
 #: Halvings of the threshold bisection evaluated in one call for few devices (a tree of 2**L - 1 midpoints) [-].
 BISECTION_LEVELS = 4
 #: At most this many devices take the halvings several at a time (more: one call per halving costs less) [-].
