@@ -282,40 +282,62 @@ class NetworkStates:
             return None
         return applied
 
-    def _cached_columns(self, cache_name, keys, lu, fill):
-        """Solved columns of the base state, cached by key; ``fill(rhs, missing)`` sets the
-        right-hand sides of the keys not yet solved [pu]."""
+    def _base_parts(self):
+        """The base state's factors part by part: the part of each row, and (rows, LU) of each part."""
+        if "base_parts" not in self._states:
+            _, lu = self._prepared(StateKey())
+            if isinstance(lu, _PartsLU):
+                parts = (lu.row_part, lu.factors)
+            else:
+                parts = (np.zeros(lu.shape[0], dtype=np.intp), [(np.arange(lu.shape[0]), lu)])
+            self._states["base_parts"] = parts
+        return self._states["base_parts"]
+
+    def _cached_columns(self, cache_name, keys, row_of, fill):
+        """Solved columns of the base state, cached by key, each on the rows of its own part only (the rest
+        of a column is zero); ``row_of(key)`` gives a row where the key's right-hand side has an entry, and
+        ``fill(rhs, missing, local)`` sets the right-hand sides of the keys not yet solved (``local``: the
+        position of each row within its part) [pu]."""
         cache = self._states.setdefault(cache_name, {})
         missing = [k for k in dict.fromkeys(keys) if k not in cache]
         if missing:
-            rhs = np.zeros((lu.shape[0], len(missing)), dtype=complex)
-            fill(rhs, missing)
-            solved = lu.solve(rhs)
-            for number, k in enumerate(missing):
-                cache[k] = solved[:, number]
-        return np.column_stack([cache[k] for k in keys])
+            row_part, factors = self._base_parts()
+            part = row_part[[row_of(k) for k in missing]]
+            for number in dict.fromkeys(part.tolist()):
+                rows, lu = factors[number]
+                local = np.full(row_part.size, -1, dtype=np.intp)
+                local[rows] = np.arange(rows.size)
+                mine = [k for k, p in zip(missing, part.tolist()) if p == number]
+                rhs = np.zeros((rows.size, len(mine)), dtype=complex)
+                fill(rhs, mine, local)
+                solved = lu.solve(rhs)
+                for column, k in enumerate(mine):
+                    cache[k] = solved[:, column]
+        return [cache[k] for k in keys]
 
-    def _base_columns(self, col, lu):
-        """Z[:, c] of the base state for each position c (the last :data:`BASE_COLUMNS_KEPT` kept) [pu]."""
-        def fill(rhs, missing):
-            rhs[missing, np.arange(len(missing))] = 1.0
+    def _base_columns(self, col):
+        """Z[:, c] of the base state for each position c, on the rows of c's part, as a list (the last
+        :data:`BASE_COLUMNS_KEPT` kept) [pu]."""
+        def fill(rhs, missing, local):
+            rhs[local[missing], np.arange(len(missing))] = 1.0
 
-        columns = self._cached_columns("base_columns", col.tolist(), lu, fill)
+        columns = self._cached_columns("base_columns", col.tolist(), lambda c: c, fill)
         cache = self._states["base_columns"]
         for old in list(cache)[:max(0, len(cache) - BASE_COLUMNS_KEPT)]:  # the oldest first
             del cache[old]
         return columns
 
     def _update_columns(self, branches):
-        """Z u_b of the base state for each branch b (cached) [pu]."""
-        index, lu = self._prepared(StateKey())
+        """Z u_b of the base state for each branch b, on the rows of b's part (cached) [pu]."""
+        index, _ = self._prepared(StateKey())
 
-        def fill(rhs, missing):
+        def fill(rhs, missing, local):
             cols = np.arange(len(missing))
-            rhs[index[self.branch_from[missing]], cols] += 1.0
-            rhs[index[self.branch_to[missing]], cols] -= 1.0
+            rhs[local[index[self.branch_from[missing]]], cols] += 1.0
+            rhs[local[index[self.branch_to[missing]]], cols] -= 1.0
 
-        return self._cached_columns("update_columns", list(branches), lu, fill)
+        return np.column_stack(self._cached_columns("update_columns", list(branches),
+                                                    lambda b: index[self.branch_from[b]], fill))
 
     def solve(self, key, fault_bus):
         """Faults at ``fault_bus`` (bus indices), all in state ``key`` (see :meth:`solve_pairs`)."""
@@ -380,12 +402,16 @@ class NetworkStates:
         live_rows = np.array(live_rows, dtype=np.intp)
         by_row = dict(zip(rows.tolist(), zip(keys, plans)))
         col = index[np.array(points, dtype=np.intp)]
-        if solved_key == StateKey():
-            z_all = self._base_columns(col, lu)
+        from_base = solved_key == StateKey()
+        if from_base:  # columns on the rows of their part only (a stack of many parts: each copy's own)
+            row_part, factors = self._base_parts()
+            position = np.full(lu.shape[0], -1, dtype=np.intp)
+            base_columns = self._base_columns(col)
         else:
             rhs = np.zeros((lu.shape[0], col.size), dtype=complex)
             rhs[col, np.arange(col.size)] = 1.0
             z_all = lu.solve(rhs)  # Z[:, k] of each fault in the factorised state
+            position = np.arange(lu.shape[0])
         base_f, base_t = index[self.branch_from[b]], index[self.branch_to[b]]
         # Faults in the same state and the same part of the network are taken together.
         groups = {}
@@ -395,24 +421,29 @@ class NetworkStates:
         for (key, part), js in groups.items():
             js = np.array(js, dtype=np.intp)
             plan = by_row[int(live_rows[js[0]])][1]
-            z = z_all[:, js]
+            if from_base:
+                rows = factors[row_part[col[js[0]]]][0]  # the faults' part of the base state
+                position[rows] = np.arange(rows.size)
+                z = np.column_stack([base_columns[j] for j in js])
+            else:
+                z = z_all[:, js]
             if plan:
                 # Y' = Y - U diag(y) U^T: Z' = Z - W (-diag(z_b) + U^T W)^-1 W^T, W = Z U (Woodbury).
                 w = self._update_columns(plan)
-                ends = (index[self.branch_from[plan]], index[self.branch_to[plan]])
+                ends = (position[index[self.branch_from[plan]]], position[index[self.branch_to[plan]]])
                 small = np.diag(-self.branch_z_pu[plan]) + (w[ends[0]] - w[ends[1]])
-                z = z - w @ np.linalg.solve(small, w[col[js]].T)
+                z = z - w @ np.linalg.solve(small, w[position[col[js]]].T)
             f, t, closed, energized, label = self._topology(key)
-            i_fault = self.voltage_factor / z[col[js], np.arange(js.size)]  # [pu]
+            i_fault = self.voltage_factor / z[position[col[js]], np.arange(js.size)]  # [pu]
             rows_js = live_rows[js]
             on[rows_js] = True
             bolted[rows_js] = np.abs(i_fault) * base_current_ka(self.s_base_mva, self.base_kv[fault_bus[rows_js]])
             # A device carries current only if closed and in the faulted point's part of the network.
             idx = np.flatnonzero(closed[b] & (label[f[b]] == part) & energized[f[b]])
             if key.split is not None:  # the split state's own numbering
-                ends_f, ends_t = index[f[b[idx]]], index[t[b[idx]]]
+                ends_f, ends_t = position[index[f[b[idx]]]], position[index[t[b[idx]]]]
             else:
-                ends_f, ends_t = base_f[idx], base_t[idx]
+                ends_f, ends_t = position[base_f[idx]], position[base_t[idx]]
             # |I_d| = |Z[f, k] - Z[t, k]| |I_k| / |z_d| in the device's own kV, one row per fault.
             zt = np.ascontiguousarray(z.T)
             i_dev = np.abs(zt[:, ends_f] - zt[:, ends_t])
