@@ -246,7 +246,7 @@ def _uncertainty(site, governing, samples, seed, workers, scheduler, quiet):
     """The uncertainty run of ``study --uncertainty N``, with a progress bar of chunks."""
     from .study.uncertainty import uncertainty
 
-    chunk = 50
+    chunk = 100
     with click.progressbar(length=-(-samples // chunk), label="Sample chunks", file=sys.stderr,
                            hidden=quiet) as bar:
         done = [0]

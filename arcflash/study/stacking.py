@@ -32,7 +32,7 @@ SCENARIO_REFERENCES = ("close", "open", "generators_running", "generators_stoppe
 SEPARATOR = "\x1f"
 
 #: Buses in one stacked site at most [-]: a chunk of samples of a large site is studied in several stacks.
-STACK_BUSES = 2000
+STACK_BUSES = 4000
 
 
 def tagged(ident, copy):

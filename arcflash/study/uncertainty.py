@@ -281,7 +281,7 @@ def summarize(site, plain_governing, energy, boundary, design, inputs, top=3):
     return bands, drivers
 
 
-def uncertainty(site, samples=1000, seed=0, scenario=None, chunk_size=50, workers=None, scheduler=None,
+def uncertainty(site, samples=1000, seed=0, scenario=None, chunk_size=100, workers=None, scheduler=None,
                 progress=None, plain=None):
     """The study on ``samples`` Latin-hypercube samples of the site's uncertain inputs.
 
