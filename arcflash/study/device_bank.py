@@ -228,12 +228,13 @@ class DeviceBank:
         column = np.arange(n)
         for done in range(0, 60, levels):
             count = min(levels, 60 - done)
-            ends = [(lo[None, :], hi[None, :])]  # per level: the (lo, hi) of every node, in tree order
-            for _ in range(count - 1):
-                a, b = ends[-1]
+            a, b = lo[None, :], hi[None, :]  # the (lo, hi) of every node of a level, in tree order
+            mids = []
+            for level in range(count):
                 m = 0.5 * (a + b)
-                ends.append((np.stack([a, m], axis=1).reshape(-1, n), np.stack([m, b], axis=1).reshape(-1, n)))
-            mids = [0.5 * (a + b) for a, b in ends]
+                mids.append(m)
+                if level < count - 1:  # children: a fast midpoint is the left one's hi, a slow one the right one's lo
+                    a, b = np.stack([a, m], axis=1).reshape(-1, n), np.stack([m, b], axis=1).reshape(-1, n)
             flat = np.concatenate(mids)
             fast = (self.clearing_time_s(np.tile(device, flat.shape[0]), 10.0 ** flat.ravel()) <= within_s)
             fast = fast.reshape(flat.shape)

@@ -207,37 +207,34 @@ def test_a_motor_running_at_a_share_of_its_size_contributes_less():
     assert (bolted_quarter[live] <= bolted_full[live] * (1 + 1e-12)).all()
 
 
-def test_samples_studied_together_equal_each_sample_studied_alone():
-    # the sample axis: a chunk's samples run as disconnected copies of the site in one study; each copy's
-    # energy, boundary and bolted current equal its sample's own study, bit for bit
+def _assert_samples_together_equal_alone(site, samples, seed):
+    """Each copy's energy, boundary and bolted current in one stacked chunk equal its sample's own study,
+    bit for bit."""
     from arcflash.study.uncertainty import sample_site
 
-    site = arcflash.load_site(DEMO)
     inputs = uncertain_inputs(site)
-    design = sample_design(inputs, 5, seed=11)
+    design = sample_design(inputs, samples, seed=seed)
     energy, boundary, bolted = run_chunk(site, inputs, design)
     for k, values in enumerate(design):
         alone = arcflash.run_study(sample_site(site, inputs, values)).governing.reindex(list(site.buses))
         assert np.array_equal(energy[k], alone["incident_energy_governing_cal_cm2"].to_numpy(float), equal_nan=True)
         assert np.array_equal(boundary[k], alone["arc_flash_boundary_governing_mm"].to_numpy(float), equal_nan=True)
         assert np.array_equal(bolted[k], alone["bolted_ka"].to_numpy(float), equal_nan=True)
+
+
+def test_samples_studied_together_equal_each_sample_studied_alone():
+    # the sample axis: a chunk's samples run as disconnected copies of the site in one study; each copy's
+    # energy, boundary and bolted current equal its sample's own study, bit for bit
+    _assert_samples_together_equal_alone(arcflash.load_site(DEMO), 5, seed=11)
 
 
 def test_samples_of_a_site_with_loops_and_ties_studied_together_equal_each_studied_alone(tmp_path):
     # the same on a synthetic site whose scenarios close ties (several loops per copy, staged arcs on loops,
     # line-side and multi-source cases): a stack's solvers keep every copy's arithmetic its own
-    from arcflash.study.uncertainty import sample_site
     from tests.synthetic import synthetic_site
 
     site = arcflash.load_site(synthetic_site(tmp_path / "s", 120, ties=3, substation_size=40))
-    inputs = uncertain_inputs(site)
-    design = sample_design(inputs, 3, seed=5)
-    energy, boundary, bolted = run_chunk(site, inputs, design)
-    for k, values in enumerate(design):
-        alone = arcflash.run_study(sample_site(site, inputs, values)).governing.reindex(list(site.buses))
-        assert np.array_equal(energy[k], alone["incident_energy_governing_cal_cm2"].to_numpy(float), equal_nan=True)
-        assert np.array_equal(boundary[k], alone["arc_flash_boundary_governing_mm"].to_numpy(float), equal_nan=True)
-        assert np.array_equal(bolted[k], alone["bolted_ka"].to_numpy(float), equal_nan=True)
+    _assert_samples_together_equal_alone(site, 3, seed=5)
 
 
 @pytest.mark.parametrize("within_s", [0.05, 0.5, 2.0, math.inf])
