@@ -21,6 +21,7 @@ Pure: numpy and scipy only, no I/O.
 
 from __future__ import annotations
 
+from bisect import bisect_left
 from dataclasses import dataclass
 
 import numpy as np
@@ -463,22 +464,47 @@ class NetworkStates:
             cache[bus] = shortest_path(graph, directed=False, unweighted=True, indices=bus)
         return cache[bus]
 
+    def _one_cut(self):
+        """What :meth:`reaches_source` reads for one opening, as Python lists (cached): the forest's preorder
+        number and subtree size of each node, the child node of each forest branch, the part of each node,
+        per part the sorted preorder numbers of its sources and the preorder numbers of the ends of its
+        branches outside the forest."""
+        if "one_cut" not in self._states:
+            forest = self._forest()
+            sources, loops = {}, {}
+            for node in self.source_bus.tolist():
+                sources.setdefault(int(forest.base[node]), []).append(int(forest.tin[node]))
+            for values in sources.values():
+                values.sort()
+            for a, b in zip(forest.branch_from[forest.others].tolist(), forest.branch_to[forest.others].tolist()):
+                loops.setdefault(int(forest.base[a]), []).append((int(forest.tin[a]), int(forest.tin[b])))
+            self._states["one_cut"] = (forest.tin.tolist(), forest.size.tolist(), forest.child_of.tolist(),
+                                       forest.base.tolist(), sources, loops)
+        return self._states["one_cut"]
+
     def reaches_source(self, key, bus):
         """Whether a source still reaches ``bus`` (the split node when the state splits it) [-].
 
-        One branch opened in a radial network (the usual first opening of an arc) is answered from the
-        spanning forest alone: the branch cuts off the subtree below it, and the bus is fed if a source of
-        its part lies on the same side of the cut."""
+        One branch opened (the usual first opening of an arc) is answered from the spanning forest alone:
+        a branch outside the forest cuts nothing; a forest branch cuts off the subtree below it, which a
+        branch outside the forest with one end on each side joins again (the whole part stays one piece);
+        otherwise the bus is fed if a source of its part lies on the same side of the cut."""
         if key.split is None and len(key.opened) == 1 and ("topology", key) not in self._states:
-            forest = self._forest()
-            if forest.others.size == 0 and self.source_bus.size:
-                (branch,) = key.opened
-                child = forest.child_of[branch]
-                lo, hi = forest.tin[child], forest.tin[child] + forest.size[child]
-                source_tin = forest.tin[self.source_bus]
-                below = (source_tin >= lo) & (source_tin < hi)
-                same_part = forest.base[self.source_bus] == forest.base[bus]
-                return bool(np.any(same_part & (below == (lo <= forest.tin[bus] < hi))))
+            tin, size, child_of, part_of, sources, loops = self._one_cut()
+            (branch,) = key.opened
+            part = part_of[bus]
+            mine = sources.get(part)
+            if not mine:
+                return False
+            child = child_of[branch]
+            if child < 0:  # outside the forest: every node keeps its forest path
+                return True
+            lo, hi = tin[child], tin[child] + size[child]
+            for a, b in loops.get(part, ()):
+                if (lo <= a < hi) != (lo <= b < hi):  # joined again around the cut
+                    return True
+            inside = bisect_left(mine, hi) - bisect_left(mine, lo)  # sources below the cut
+            return inside > 0 if lo <= tin[bus] < hi else inside < len(mine)
         energized = self._topology(key)[3]
         return bool(energized[self.n if key.split is not None else bus])
 

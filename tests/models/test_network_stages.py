@@ -112,9 +112,9 @@ def test_parts_of_a_state_from_the_forest_equal_a_graph_search(tmp_path, scenari
         assert np.unique(pairs[0]).size == pairs.shape[1] == np.unique(pairs[1]).size
 
 
-@pytest.mark.parametrize("scenario", ["normal", "ties-closed"])
+@pytest.mark.parametrize("scenario", ["normal", "ties-closed", "twin"])
 def test_a_source_reaches_a_bus_after_one_opening_as_the_parts_of_the_state_say(tmp_path, scenario):
-    # reaches_source answers one opening in a radial network from the spanning forest alone; it must agree
+    # reaches_source answers one opening from the spanning forest alone (radial or with loops closed); it must agree
     # with the energised parts of the whole state (computed here with a plain graph search) for every branch
     import scipy.sparse as sp
     from scipy.sparse.csgraph import connected_components
@@ -122,8 +122,15 @@ def test_a_source_reaches_a_bus_after_one_opening_as_the_parts_of_the_state_say(
     from arcflash.models.network_stages import StateKey
     from arcflash.study.staging import network_states
 
+    import dataclasses
+
     site = arcflash.load_site(synthetic_site(tmp_path / "s", 200, ties=3, substation_size=50))
-    net = build_network(site, site.scenario(scenario))
+    net = build_network(site, site.scenario("ties-closed" if scenario == "twin" else scenario))
+    if scenario == "twin":  # every tenth branch doubled by a parallel twin (a loop of two branches)
+        twin = np.arange(0, net.branch_from.size, 10)
+        net = dataclasses.replace(net, branch_from=np.concatenate([net.branch_from, net.branch_from[twin]]),
+                                  branch_to=np.concatenate([net.branch_to, net.branch_to[twin]]),
+                                  branch_z_pu=np.concatenate([net.branch_z_pu, net.branch_z_pu[twin]]))
     states = network_states(site, net)
     n, m = len(net.bus_ids), net.branch_from.size
     rng = np.random.default_rng(4)
