@@ -345,7 +345,11 @@ class NetworkStates:
         fault_bus = np.asarray(fault_bus, dtype=np.intp)
         return self.solve_pairs([key] * fault_bus.size, fault_bus)
 
-    def solve_pairs(self, keys, fault_bus):
+    def part_of_node(self):
+        """The connected part of each node with every branch closed (equal numbers, one part) [-]."""
+        return self._forest().base
+
+    def solve_pairs(self, keys, fault_bus, devices=None):
         """Fault k at bus ``fault_bus[k]`` in state ``keys[k]``, for every k.
 
         A state reached by opening branches is solved from the base state's
@@ -361,15 +365,19 @@ class NetworkStates:
             The state of each fault; with a split, the fault is on the split node.
         fault_bus : numpy.ndarray of int
             Faulted buses [-]
+        devices : numpy.ndarray of int, optional
+            The devices whose currents are wanted (columns of ``device_current_ka`` in this order); every
+            device when None [-]
 
         Returns
         -------
         StageFaults
         """
         fault_bus = np.asarray(fault_bus, dtype=np.intp)
+        devices = np.arange(self.device_branch.size) if devices is None else np.asarray(devices, dtype=np.intp)
         count = fault_bus.size
         bolted = np.zeros(count)
-        current = np.zeros((count, self.device_branch.size))
+        current = np.zeros((count, devices.size))
         on = np.zeros(count, dtype=bool)
         plans = [self._update_plan(key) if key.opened else None for key in keys]
         from_base = [k for k in range(count) if plans[k] is not None or keys[k] == StateKey()]
@@ -380,17 +388,20 @@ class NetworkStates:
         base = StateKey()
         for lo in range(0, len(from_base), BLOCK_COLUMNS):
             rows = np.array(from_base[lo:lo + BLOCK_COLUMNS], dtype=np.intp)
-            self._fill(base, rows, fault_bus, [keys[k] for k in rows], [plans[k] for k in rows], bolted, current, on)
+            self._fill(base, rows, fault_bus, [keys[k] for k in rows], [plans[k] for k in rows], devices, bolted,
+                       current, on)
         for key, rows in own.items():
             for lo in range(0, len(rows), BLOCK_COLUMNS):
                 part = np.array(rows[lo:lo + BLOCK_COLUMNS], dtype=np.intp)
-                self._fill(key, part, fault_bus, [key] * part.size, [None] * part.size, bolted, current, on)
+                self._fill(key, part, fault_bus, [key] * part.size, [None] * part.size, devices, bolted, current, on)
         return StageFaults(energized=on, bolted_ka=bolted, device_current_ka=current)
 
-    def _fill(self, solved_key, rows, fault_bus, keys, plans, bolted, current, on):
-        """Solve faults ``rows`` with the factorisation of ``solved_key``, each updated by its plan."""
+    def _fill(self, solved_key, rows, fault_bus, keys, plans, devices, bolted, current, on):
+        """Solve faults ``rows`` with the factorisation of ``solved_key``, each updated by its plan; currents of
+        ``devices`` (the columns of ``current``)."""
         index, lu = self._prepared(solved_key)
-        b = self.device_branch
+        b = self.device_branch[devices]
+        scale = self._device_scale[devices]
         points, live_rows = [], []
         for row, key in zip(rows, keys):
             energized = self._topology(key)[3]
@@ -449,7 +460,7 @@ class NetworkStates:
             zt = np.ascontiguousarray(z.T)
             i_dev = np.abs(zt[:, ends_f] - zt[:, ends_t])
             i_dev *= np.abs(i_fault)[:, None]
-            i_dev *= self._device_scale[idx][None, :]
+            i_dev *= scale[idx][None, :]
             if idx.size == b.size:
                 current[rows_js] = i_dev
             else:

@@ -31,6 +31,7 @@ their sources in ``docs/protection.md``):
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -156,7 +157,74 @@ def follow_arcs(context, buses, named=None, reduced=None):
     return arcs
 
 
+class _DevicesOf:
+    """The devices of the network parts a chunk's arcs are in, numbered 0, 1, ... (``subset``: their
+    indices in the whole network): a solve reports only their currents, the bank is read through them.
+    A device of another part carries no current in any state of these arcs (opening branches and
+    splitting a bus never join parts), so it never operates and leaving it out changes nothing."""
+
+    def __init__(self, states, bank, subset):
+        self.states, self.bank, self.subset = states, bank, subset
+        self.branch_from, self.branch_to = states.branch_from, states.branch_to
+        self.element_count = bank.element_count
+
+    def solve_pairs(self, keys, fault_bus):
+        return self.states.solve_pairs(keys, fault_bus, devices=self.subset)
+
+    def reaches_source(self, key, bus):
+        return self.states.reaches_source(key, bus)
+
+    def hops_from(self, bus):
+        return self.states.hops_from(bus)
+
+    def elements(self, device, current_a):
+        return self.bank.elements(self.subset[device], current_a)
+
+
+def _local(context, chunk):
+    """``context`` with only the devices of the parts the arcs of ``chunk`` are in (:class:`_DevicesOf`),
+    and those devices' indices in the whole network; ``context`` itself where that is every device."""
+    states = context.states
+    device_part = states.part_of_node()[states.branch_from[context.device_branch]]
+    mine = np.isin(device_part, states.part_of_node()[[arc.bus for arc in chunk]])
+    mine[[arc.named for arc in chunk if arc.named >= 0]] = True  # each arc's own numbers, whatever its part
+    subset = np.flatnonzero(mine)
+    if subset.size == device_part.size:
+        return context, None
+    local = np.full(device_part.size, -1, dtype=np.intp)
+    local[subset] = np.arange(subset.size)
+    view = _DevicesOf(states, context.bank, subset)
+    buses = {arc.bus for arc in chunk}
+
+    def renumbered(sets):
+        return {bus: {int(local[d]) for d in devices if local[d] >= 0} for bus, devices in sets.items() if bus in buses}
+
+    return dataclasses.replace(context, states=view, bank=view, device_branch=context.device_branch[subset],
+                               operating_a=context.operating_a[subset], hot_a=context.hot_a[subset],
+                               excluded=renumbered(context.excluded), line_side=renumbered(context.line_side)), local
+
+
 def _follow_chunk(context, chunk):
+    """Advance the arcs of ``chunk`` together, one stage per round, until each ends (in the numbering of the
+    devices of their own parts, see :func:`_local`; the arcs report the whole network's numbers)."""
+    context, local = _local(context, chunk)
+    if local is None:
+        _follow_local(context, chunk)
+        return
+    for arc in chunk:
+        arc.named = int(local[arc.named]) if arc.named >= 0 else -1
+    _follow_local(context, chunk)
+    subset = context.states.subset
+    for arc in chunk:
+        arc.named = int(subset[arc.named]) if arc.named >= 0 else -1
+        arc.governing = int(subset[arc.governing]) if arc.governing >= 0 else -1
+        for step in arc.steps:
+            step[0] = int(subset[step[0]])
+        arc.opened = {int(subset[d]) for d in arc.opened}
+        arc.opening = {int(subset[d]): at for d, at in arc.opening.items()}
+
+
+def _follow_local(context, chunk):
     """Advance the arcs of ``chunk`` together, one stage per round, until each ends."""
     active = list(chunk)
     for _ in range(MAX_STAGES + 1):

@@ -170,3 +170,24 @@ def test_a_block_diagonal_solve_touches_only_the_parts_of_its_right_hand_side():
     assert not solved[rows[0], 1].any() and not solved[rows[1], 1].any()
     assert not solved[rows[2], 2].any()
     np.testing.assert_array_equal(parts.solve(rhs[:, 0]), solved[:, 0])
+
+
+def test_a_solve_asked_for_some_devices_gives_their_columns_of_the_full_solve(tmp_path):
+    # solve_pairs(devices=...) reports only those devices' currents (staged clearing asks for the devices of
+    # its arcs' own parts): each must equal its column of the full solve, bit for bit (the same arithmetic
+    # per device), in the base state and after openings
+    from arcflash.models.network_stages import StateKey
+    from arcflash.study.staging import network_states
+
+    site = arcflash.load_site(synthetic_site(tmp_path / "s", 200, ties=3, substation_size=50))
+    net = build_network(site, site.scenario("ties-closed"))
+    states = network_states(site, net)
+    rng = np.random.default_rng(8)
+    devices = np.sort(rng.choice(net.device_branch.size, net.device_branch.size // 3, replace=False))
+    buses = rng.choice(len(net.bus_ids), 30, replace=False)
+    keys = [StateKey()] * 10 + [StateKey(frozenset({int(b)})) for b in rng.choice(net.device_branch, 20)]
+    full = states.solve_pairs(keys, buses)
+    some = states.solve_pairs(keys, buses, devices=devices)
+    assert np.array_equal(some.bolted_ka, full.bolted_ka) and np.array_equal(some.energized, full.energized)
+    assert np.array_equal(some.device_current_ka, full.device_current_ka[:, devices])
+    assert (some.device_current_ka > 0).any()
