@@ -39,6 +39,31 @@ BASE_COLUMNS_KEPT = 160
 #: Branches of smaller impedance (closed switches, 1e-6 pu) are not removed by a low-rank
 #: update: the update's small matrix would lose most of its digits; the state is factorised [pu].
 LOW_RANK_MIN_Z_PU = 1e-4
+#: Non-zeros of the matrices whose LU factors are remembered (:func:`_lu`), at most: past it the memory
+#: starts afresh [-].
+FACTORS_KEPT_NONZEROS = 2_000_000
+
+#: LU factors by the CSC arrays of the matrix they factorise.
+_FACTORS = {}
+_FACTORS_NONZEROS = [0]
+
+
+def _lu(n, indptr, indices, data, matrix=None):
+    """SuperLU factors of the n × n CSC matrix of these arrays (``matrix``, when already built), remembered
+    by its arrays: the same matrix met again (a part of the network a scenario leaves as another had it, a
+    scenario whose network equals another's, in any study) is not factorised again. A factorisation
+    depends on its matrix alone, so the remembered one is the one a new factorisation would give."""
+    key = (n, indptr.tobytes(), indices.tobytes(), data.tobytes())
+    lu = _FACTORS.get(key)
+    if lu is None:
+        if _FACTORS_NONZEROS[0] + data.size > FACTORS_KEPT_NONZEROS:
+            _FACTORS.clear()
+            _FACTORS_NONZEROS[0] = 0
+        if matrix is None:
+            matrix = sp.csc_matrix((data, indices, indptr), shape=(n, n))
+        lu = _FACTORS[key] = splu(matrix)
+        _FACTORS_NONZEROS[0] += data.size
+    return lu
 
 
 class _PartsLU:
@@ -211,8 +236,7 @@ class NetworkStates:
         that changes one part refactorises only that one."""
         parts = np.unique(part)
         if parts.size == 1:
-            return splu(y)
-        blocks = self._states.setdefault("blocks", {})
+            return _lu(y.shape[0], y.indptr, y.indices, y.data, y)
         y = y.tocsc()  # canonical (sorted, summed): each part's columns hold only that part's rows
         order = np.argsort(part, kind="stable")
         bounds = np.flatnonzero(np.diff(part[order])) + 1
@@ -230,11 +254,7 @@ class NetworkStates:
             rows = order[lo:hi]
             indptr = (ends[lo:hi + 1] - ends[lo]).astype(np.int32)
             sub_indices, sub_data = indices[ends[lo]:ends[hi]], data[ends[lo]:ends[hi]]
-            content = (rows.tobytes(), indptr.tobytes(), sub_indices.tobytes(), sub_data.tobytes())
-            lu = blocks.get(content)
-            if lu is None:
-                lu = blocks[content] = splu(sp.csc_matrix((sub_data, sub_indices, indptr), shape=(rows.size, rows.size)))
-            factors.append((rows, lu))
+            factors.append((rows, _lu(rows.size, indptr, sub_indices, sub_data)))
         return _PartsLU(y.shape, factors)
 
     @property

@@ -191,3 +191,34 @@ def test_a_solve_asked_for_some_devices_gives_their_columns_of_the_full_solve(tm
     assert np.array_equal(some.bolted_ka, full.bolted_ka) and np.array_equal(some.energized, full.energized)
     assert np.array_equal(some.device_current_ka, full.device_current_ka[:, devices])
     assert (some.device_current_ka > 0).any()
+
+
+def test_a_matrix_met_again_reuses_its_factors_and_solves_the_same(monkeypatch):
+    # LU factors are remembered by the matrix they factorise: the demo's maintenance scenario has the
+    # network of its normal one, so its base state is not factorised again, and its faults solve the same,
+    # bit for bit, as with a factorisation of its own (a factorisation depends on its matrix alone)
+    import arcflash.models.network_stages as stages
+    from tests.output.test_label_fields import DEMO
+
+    site = arcflash.load_site(DEMO)
+    nets = [build_network(site, site.scenario(name)) for name in ("normal", "maintenance-a")]
+    assert all(np.array_equal(getattr(nets[0], f), getattr(nets[1], f))
+               for f in ("branch_from", "branch_to", "branch_z_pu", "shunt_bus", "shunt_z_pu"))
+    buses = np.arange(len(nets[0].bus_ids))
+    first = network_states(site, nets[0])
+    expected = first.solve(StateKey(), buses)
+    made = []
+    monkeypatch.setattr(stages, "splu", lambda matrix: made.append(matrix) or stages.sp.linalg.splu(matrix))
+    again = network_states(site, nets[1])
+    solved = again.solve(StateKey(), buses)
+    def factors(states):
+        lu = states._prepared(StateKey())[1]
+        return [part for _, part in lu.factors] if isinstance(lu, stages._PartsLU) else [lu]
+
+    assert made == [] and all(a is b for a, b in zip(factors(again), factors(first), strict=True))
+    assert np.array_equal(solved.bolted_ka, expected.bolted_ka)
+    assert np.array_equal(solved.device_current_ka, expected.device_current_ka)
+    monkeypatch.setattr(stages, "_FACTORS", {})  # forgotten: factorised afresh, the same answer
+    fresh = network_states(site, nets[1]).solve(StateKey(), buses)
+    assert len(made) == len(factors(again)) and np.array_equal(fresh.bolted_ka, expected.bolted_ka)
+    assert np.array_equal(fresh.device_current_ka, expected.device_current_ka)
