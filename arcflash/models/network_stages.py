@@ -446,10 +446,16 @@ class NetworkStates:
             position = np.arange(lu.shape[0])
         base_f, base_t = index[self.branch_from[b]], index[self.branch_to[b]]
         # Faults in the same state and the same part of the network are taken together.
-        groups = {}
+        groups, in_base = {}, []
         for j, (row, point) in enumerate(zip(live_rows.tolist(), points)):
             key = by_row[row][0]
+            if from_base and key == solved_key:  # faults in the base state itself: taken together below
+                in_base.append(j)
+                continue
             groups.setdefault((key, int(self._topology(key)[4][point])), []).append(j)
+        if in_base:
+            self._fill_base(np.array(in_base, dtype=np.intp), col, np.array(points, dtype=np.intp), live_rows,
+                            fault_bus, base_columns, b, scale, bolted, current, on)
         for (key, part), js in groups.items():
             js = np.array(js, dtype=np.intp)
             plan = by_row[int(live_rows[js[0]])][1]
@@ -485,6 +491,48 @@ class NetworkStates:
                 current[rows_js] = i_dev
             else:
                 current[np.ix_(rows_js, idx)] = i_dev
+
+    def _fill_base(self, js, col, points, live_rows, fault_bus, base_columns, b, scale, bolted, current, on):
+        """Faults ``js`` in the base state, every part at once: each fault's column on the rows of its own part
+        (``base_columns``), the currents of the devices ``b`` (branches; ``scale`` [kA/pu]) closed and
+        energised in its part; the arithmetic of each value is that of :meth:`_fill`'s groups."""
+        f, _, closed, energized, label = self._topology(StateKey())
+        index, _ = self._prepared(StateKey())
+        local = self._base_local()
+        sizes = np.array([base_columns[j].size for j in js.tolist()], dtype=np.intp)
+        offsets = np.cumsum(sizes) - sizes
+        flat = np.concatenate([base_columns[j] for j in js.tolist()])
+        i_fault = self.voltage_factor / flat[offsets + local[col[js]]]  # [pu]
+        rows_js = live_rows[js]
+        on[rows_js] = True
+        bolted[rows_js] = np.abs(i_fault) * base_current_ka(self.s_base_mva, self.base_kv[fault_bus[rows_js]])
+        # (fault, device) pairs: the devices closed and energised in the fault's part, sorted by part
+        usable = np.flatnonzero(closed[b] & energized[f[b]])
+        part = label[f[b[usable]]]
+        order = np.argsort(part, kind="stable")
+        usable, part = usable[order], part[order]
+        fault_part = label[points[js]]
+        lo = np.searchsorted(part, fault_part, "left")
+        count = np.searchsorted(part, fault_part, "right") - lo
+        fault = np.repeat(np.arange(js.size), count)
+        d = usable[np.repeat(lo, count) + np.arange(fault.size) - np.repeat(np.cumsum(count) - count, count)]
+        start = offsets[fault]
+        ends_f, ends_t = local[index[self.branch_from[b[d]]]], local[index[self.branch_to[b[d]]]]
+        # |I_d| = |Z[f, k] - Z[t, k]| |I_k| / |z_d| in the device's own kV
+        i_dev = np.abs(flat[start + ends_f] - flat[start + ends_t])
+        i_dev *= np.abs(i_fault)[fault]
+        i_dev *= scale[d]
+        current[rows_js[fault], d] = i_dev
+
+    def _base_local(self):
+        """Position of each row of the base state's factorisation within its part (cached) [-]."""
+        if "base_local" not in self._states:
+            row_part, factors = self._base_parts()
+            local = np.empty(row_part.size, dtype=np.intp)
+            for rows, _ in factors:
+                local[rows] = np.arange(rows.size)
+            self._states["base_local"] = local
+        return self._states["base_local"]
 
     def hops_from(self, bus):
         """Number of branches between ``bus`` and every bus, all branches closed (cached) [-]."""
