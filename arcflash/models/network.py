@@ -391,7 +391,6 @@ def _tree_plus_loops(sub, merged, device_branch, live, voltage_factor, min_share
     bdev = device_branch[live]
     i, j = sub.f[bdev], sub.t[bdev]
     all_loops = np.flatnonzero(~in_tree)
-    columns = tree.columns(np.concatenate([ea[all_loops], eb[all_loops]]))
     # The update part by part (several parts: the copies of an uncertainty run), each with its own rows,
     # closing edges and devices, so that a part's arithmetic is the one it has alone.
     diag = tree.z_kk.copy()
@@ -404,7 +403,8 @@ def _tree_plus_loops(sub, merged, device_branch, live, voltage_factor, min_share
         mine = np.flatnonzero(tree.top[ea[all_loops]] == top)
         loops = all_loops[mine]
         a, b = local[ea[loops]], local[eb[loops]]
-        w = columns[nodes][:, mine] - columns[nodes][:, all_loops.size + mine]  # Z_T U
+        columns = tree.columns(np.concatenate([ea[loops], eb[loops]]), nodes=nodes)  # the part's rows only
+        w = columns[:, :loops.size] - columns[:, loops.size:]  # Z_T U
         m_inv = np.linalg.inv(np.diag(1.0 / edge_y[loops]) + (w[a] - w[b]))
         wm = w @ m_inv
         diag[nodes] = tree.z_kk[nodes] - np.einsum("kc,kc->k", wm, w)
@@ -436,10 +436,10 @@ def _tree_plus_loops(sub, merged, device_branch, live, voltage_factor, min_share
                 part = group[lo:lo + BLOCK_COLUMNS // 2]
                 half = part.size
                 if single:
-                    tree_diff = tree.columns(child[part], scale_in[part], scale_out[part])[nodes]
+                    tree_diff = tree.columns(child[part], scale_in[part], scale_out[part], nodes=nodes)
                     diff = tree_diff - w @ g[row[part]].T  # Z[:, i] - Z[:, j]
                 else:
-                    cols = tree.columns(np.concatenate([i[part], j[part]]))[nodes]
+                    cols = tree.columns(np.concatenate([i[part], j[part]]), nodes=nodes)
                     diff = cols[:, :half]
                     diff -= cols[:, half:]
                     diff -= w @ g[row[part]].T

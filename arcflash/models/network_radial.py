@@ -241,7 +241,7 @@ class RadialNetwork:
             out_value.append(value)
         return np.concatenate(out_col), np.concatenate(out_node), np.concatenate(out_value)
 
-    def columns(self, sources, scale_in=None, scale_out=None):
+    def columns(self, sources, scale_in=None, scale_out=None, nodes=None):
         """Z[:, s] for each bus s in ``sources`` (N × len(sources)) [pu].
 
         With ``scale_in`` and ``scale_out`` (one factor per source), the rows
@@ -249,6 +249,10 @@ class RadialNetwork:
         ``scale_in`` and the others by its ``scale_out`` (the spreading down
         the tree is linear, so the two regions are scaled where they start:
         the source itself, and its ancestors) [-].
+
+        With ``nodes`` (the buses of one tree of the forest, every source in it), only their rows, in that
+        order (len(nodes) × len(sources)): the other rows are zero, and each row kept is computed as in
+        the whole array.
         """
         n, b = self.parent.size, len(sources)
         cols = np.arange(b)
@@ -267,13 +271,21 @@ class RadialNetwork:
         order = np.argsort(self.depth[path_node], kind="stable")
         path_node, path_col, path_value = path_node[order], path_col[order], path_value[order]
         bounds = np.searchsorted(self.depth[path_node], np.arange(self.depth.max() + 2))
-        v = np.empty((n, b), dtype=complex)
-        roots = self.levels_root
-        v[roots] = 0.0
+        if nodes is None:
+            row, roots, levels = np.arange(n), self.levels_root, self.levels
+        else:
+            nodes = np.asarray(nodes, dtype=np.intp)
+            row = np.full(n, -1, dtype=np.intp)
+            row[nodes] = np.arange(nodes.size)
+            depth = self.depth[nodes]
+            roots = nodes[depth == 0]
+            levels = [nodes[depth == d] for d in range(1, int(depth.max(initial=0)) + 1)]
+        v = np.empty((row.size if nodes is None else nodes.size, b), dtype=complex)
+        v[row[roots]] = 0.0
         at = slice(bounds[0], bounds[1])
-        v[path_node[at], path_col[at]] = path_value[at]
-        for depth, level in enumerate(self.levels, start=1):
-            v[level] = v[self.parent[level]] * self.down[level][:, None]
+        v[row[path_node[at]], path_col[at]] = path_value[at]
+        for depth, level in enumerate(levels, start=1):
+            v[row[level]] = v[row[self.parent[level]]] * self.down[level][:, None]
             at = slice(bounds[depth], bounds[depth + 1])
-            v[path_node[at], path_col[at]] = path_value[at]
+            v[row[path_node[at]], path_col[at]] = path_value[at]
         return v

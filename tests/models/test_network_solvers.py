@@ -162,6 +162,36 @@ def test_scaled_tree_columns_scale_each_side_of_the_source(tmp_path):
                                    rtol=1e-12)
 
 
+def test_tree_columns_of_one_part_are_its_rows_of_the_whole_columns():
+    # RadialNetwork.columns(nodes=...) computes only the rows of one tree of a forest (the meshed solve of
+    # a stacked site asks for each copy's rows alone): they must be those rows of the whole array, bit for
+    # bit, scaled or not, and the rows of the other trees of the whole array are zero
+    from arcflash.models.network_radial import RadialNetwork
+
+    rng = np.random.default_rng(6)
+    sizes = [25, 40, 18]
+    starts = np.cumsum([0] + sizes)
+    n = int(starts[-1])
+    a, b = [], []
+    for lo, size in zip(starts[:-1], sizes):
+        for k in range(1, size):
+            a.append(lo + int(rng.integers(0, k)))
+            b.append(lo + k)
+    a, b = np.array(a), np.array(b)
+    edge_y = 1.0 / (rng.uniform(0.01, 0.2, a.size) + 1j * rng.uniform(0.05, 0.5, a.size))
+    shunt = np.where(rng.random(n) < 0.3, 1.0 / (0.5 + 3j), 0.0)
+    shunt[starts[:-1]] = 1.0 / (0.001 + 0.01j)
+    tree = RadialNetwork(n, a, b, edge_y, shunt, list(starts[:-1]))
+    for lo, hi in zip(starts[:-1], starts[1:]):
+        nodes = np.arange(lo, hi)
+        sources = rng.choice(nodes, 6, replace=False)
+        s_in, s_out = rng.normal(size=6) + 1j * rng.normal(size=6), rng.normal(size=6) + 1j * rng.normal(size=6)
+        for scales in ((), (s_in, s_out)):
+            whole = tree.columns(sources, *scales)
+            assert np.array_equal(tree.columns(sources, *scales, nodes=nodes), whole[nodes])
+            assert not whole[np.setdiff1d(np.arange(n), nodes)].any()
+
+
 @pytest.mark.parametrize("scenario, most_loops", [("normal", None), ("tie-closed", None), ("on-generator", None),
                                                   ("tie-closed", 0)])
 def test_two_separate_networks_solved_together_equal_each_solved_alone(scenario, most_loops, monkeypatch):
