@@ -39,30 +39,16 @@ BASE_COLUMNS_KEPT = 160
 #: Branches of smaller impedance (closed switches, 1e-6 pu) are not removed by a low-rank
 #: update: the update's small matrix would lose most of its digits; the state is factorised [pu].
 LOW_RANK_MIN_Z_PU = 1e-4
-#: Non-zeros of the matrices whose LU factors are remembered (:func:`_lu`), at most: past it the memory
-#: starts afresh [-].
-FACTORS_KEPT_NONZEROS = 2_000_000
-
-#: LU factors by the CSC arrays of the matrix they factorise.
-_FACTORS = {}
-_FACTORS_NONZEROS = [0]
-
-
-def _lu(n, indptr, indices, data, matrix=None):
+def _lu(n, indptr, indices, data, memo, matrix=None):
     """SuperLU factors of the n × n CSC matrix of these arrays (``matrix``, when already built), remembered
-    by its arrays: the same matrix met again (a part of the network a scenario leaves as another had it, a
-    scenario whose network equals another's, in any study) is not factorised again. A factorisation
-    depends on its matrix alone, so the remembered one is the one a new factorisation would give."""
+    in ``memo`` by its arrays: the same matrix met again is not factorised again. A factorisation depends
+    on its matrix alone, so the remembered one is the one a new factorisation would give."""
     key = (n, indptr.tobytes(), indices.tobytes(), data.tobytes())
-    lu = _FACTORS.get(key)
+    lu = memo.get(key)
     if lu is None:
-        if _FACTORS_NONZEROS[0] + data.size > FACTORS_KEPT_NONZEROS:
-            _FACTORS.clear()
-            _FACTORS_NONZEROS[0] = 0
         if matrix is None:
             matrix = sp.csc_matrix((data, indices, indptr), shape=(n, n))
-        lu = _FACTORS[key] = splu(matrix)
-        _FACTORS_NONZEROS[0] += data.size
+        lu = memo[key] = splu(matrix)
     return lu
 
 
@@ -155,10 +141,14 @@ class NetworkStates:
         Prefault voltage c [pu]
     s_base_mva : float
         Power base [MVA]
+    base_factors : dict, optional
+        Where the LU factors of the base state's parts are remembered by their matrices; networks given
+        the same dict (the scenarios of one site) share them: a part a scenario leaves as another had it,
+        or a scenario whose network equals another's, is not factorised again [-]
     """
 
     def __init__(self, base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_z_pu, shunt_is_motor,
-                 source_bus, device_branch, device_kv, voltage_factor=1.0, s_base_mva=100.0):
+                 source_bus, device_branch, device_kv, voltage_factor=1.0, s_base_mva=100.0, base_factors=None):
         self.base_kv = np.asarray(base_kv, dtype=float)
         self.n = self.base_kv.size
         self.branch_from = np.asarray(branch_from, dtype=np.intp)
@@ -174,6 +164,7 @@ class NetworkStates:
         self.voltage_factor = float(voltage_factor)
         self.s_base_mva = float(s_base_mva)
         self._states = {}
+        self._base_factors = {} if base_factors is None else base_factors
 
     def _topology(self, key):
         """Branch ends (after any split), closed branches and energised nodes of a state (cached)."""
@@ -226,17 +217,18 @@ class NetworkStates:
         if active.size:
             y = admittance_matrix(active.size, index[f[use]], index[t[use]], self.branch_z_pu[use],
                                   index[self.shunt_bus[shunt]], self.shunt_z_pu[shunt])
-            lu = self._factorised(y, self._topology(key)[4][active])
+            memo = self._base_factors if key == StateKey() else self._states.setdefault("blocks", {})
+            lu = self._factorised(y, self._topology(key)[4][active], memo)
         self._states[key] = (index, lu)
         return index, lu
 
-    def _factorised(self, y, part):
+    def _factorised(self, y, part, memo):
         """The LU factorisation of ``y``, one per connected part (``part``: the part of each row), each part's
-        factors remembered by its matrix: a part's arithmetic never depends on the other parts, and a state
-        that changes one part refactorises only that one."""
+        factors remembered by its matrix in ``memo``: a part's arithmetic never depends on the other parts,
+        and a state that changes one part refactorises only that one."""
         parts = np.unique(part)
         if parts.size == 1:
-            return _lu(y.shape[0], y.indptr, y.indices, y.data, y)
+            return _lu(y.shape[0], y.indptr, y.indices, y.data, memo, y)
         y = y.tocsc()  # canonical (sorted, summed): each part's columns hold only that part's rows
         order = np.argsort(part, kind="stable")
         bounds = np.flatnonzero(np.diff(part[order])) + 1
@@ -254,7 +246,7 @@ class NetworkStates:
             rows = order[lo:hi]
             indptr = (ends[lo:hi + 1] - ends[lo]).astype(np.int32)
             sub_indices, sub_data = indices[ends[lo]:ends[hi]], data[ends[lo]:ends[hi]]
-            factors.append((rows, _lu(rows.size, indptr, sub_indices, sub_data)))
+            factors.append((rows, _lu(rows.size, indptr, sub_indices, sub_data, memo)))
         return _PartsLU(y.shape, factors)
 
     @property

@@ -32,6 +32,7 @@ their sources in ``docs/protection.md``):
 from __future__ import annotations
 
 import dataclasses
+import weakref
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -463,13 +464,29 @@ def _governing(context, arc, devices):
 
 
 def network_states(site, net):
-    """:class:`~arcflash.models.network_stages.NetworkStates` of a scenario's network arrays."""
+    """:class:`~arcflash.models.network_stages.NetworkStates` of a scenario's network arrays (the site's
+    scenarios share the factors of their base states, see :func:`_base_factors`)."""
     sources = set(net.source_ids)
     return NetworkStates(
         net.base_kv, net.branch_from, net.branch_to, net.branch_z_pu, net.shunt_bus, net.shunt_z_pu,
         np.array([ident not in sources for ident in net.shunt_ids], dtype=bool), net.source_bus,
         net.device_branch, net.device_kv, voltage_factor=site.facility.voltage_factor,
-        s_base_mva=site.facility.s_base_mva)
+        s_base_mva=site.facility.s_base_mva, base_factors=_base_factors(site))
+
+
+#: id(site) -> (weak reference to the site, the LU factors of its scenarios' base states by matrix).
+_SITE_FACTORS = {}
+
+
+def _base_factors(site):
+    """Where the scenarios of ``site`` remember the factors of their base states: kept while the site lives
+    (an uncertainty run's stacked site: one chunk), dropped with it."""
+    entry = _SITE_FACTORS.get(id(site))
+    if entry is not None and entry[0]() is site:
+        return entry[1]
+    memo = {}
+    _SITE_FACTORS[id(site)] = (weakref.ref(site, lambda _, key=id(site): _SITE_FACTORS.pop(key, None)), memo)
+    return memo
 
 
 def stage_arcing(net, equipment):

@@ -194,9 +194,10 @@ def test_a_solve_asked_for_some_devices_gives_their_columns_of_the_full_solve(tm
 
 
 def test_a_matrix_met_again_reuses_its_factors_and_solves_the_same(monkeypatch):
-    # LU factors are remembered by the matrix they factorise: the demo's maintenance scenario has the
-    # network of its normal one, so its base state is not factorised again, and its faults solve the same,
-    # bit for bit, as with a factorisation of its own (a factorisation depends on its matrix alone)
+    # The scenarios of a site share the LU factors of their base states, remembered by matrix: the demo's
+    # maintenance scenario has the network of its normal one, so its base state is not factorised again,
+    # and its faults solve the same, bit for bit, as with a factorisation of its own (a factorisation
+    # depends on its matrix alone)
     import arcflash.models.network_stages as stages
     from tests.output.test_label_fields import DEMO
 
@@ -209,16 +210,17 @@ def test_a_matrix_met_again_reuses_its_factors_and_solves_the_same(monkeypatch):
     expected = first.solve(StateKey(), buses)
     made = []
     monkeypatch.setattr(stages, "splu", lambda matrix: made.append(matrix) or stages.sp.linalg.splu(matrix))
-    again = network_states(site, nets[1])
-    solved = again.solve(StateKey(), buses)
+
     def factors(states):
         lu = states._prepared(StateKey())[1]
         return [part for _, part in lu.factors] if isinstance(lu, stages._PartsLU) else [lu]
 
+    again = network_states(site, nets[1])  # the same site: its scenarios share the memory
+    solved = again.solve(StateKey(), buses)
     assert made == [] and all(a is b for a, b in zip(factors(again), factors(first), strict=True))
     assert np.array_equal(solved.bolted_ka, expected.bolted_ka)
     assert np.array_equal(solved.device_current_ka, expected.device_current_ka)
-    monkeypatch.setattr(stages, "_FACTORS", {})  # forgotten: factorised afresh, the same answer
-    fresh = network_states(site, nets[1]).solve(StateKey(), buses)
-    assert len(made) == len(factors(again)) and np.array_equal(fresh.bolted_ka, expected.bolted_ka)
+    alone = network_states(arcflash.load_site(DEMO), nets[1])  # another site: factorised afresh, the same answer
+    fresh = alone.solve(StateKey(), buses)
+    assert len(made) == len(factors(alone)) and np.array_equal(fresh.bolted_ka, expected.bolted_ka)
     assert np.array_equal(fresh.device_current_ka, expected.device_current_ka)
