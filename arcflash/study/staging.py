@@ -32,7 +32,6 @@ their sources in ``docs/protection.md``):
 from __future__ import annotations
 
 import dataclasses
-import weakref
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -474,19 +473,11 @@ def network_states(site, net):
         s_base_mva=site.facility.s_base_mva, base_factors=_base_factors(site))
 
 
-#: id(site) -> (weak reference to the site, the LU factors of its scenarios' base states by matrix).
-_SITE_FACTORS = {}
-
-
 def _base_factors(site):
-    """Where the scenarios of ``site`` remember the factors of their base states: kept while the site lives
-    (an uncertainty run's stacked site: one chunk), dropped with it."""
-    entry = _SITE_FACTORS.get(id(site))
-    if entry is not None and entry[0]() is site:
-        return entry[1]
-    memo = {}
-    _SITE_FACTORS[id(site)] = (weakref.ref(site, lambda _, key=id(site): _SITE_FACTORS.pop(key, None)), memo)
-    return memo
+    """Where the scenarios of ``site`` remember the LU factors of their base states (while the site lives)."""
+    from .remembered import site_memory
+
+    return site_memory("base_factors", site)
 
 
 def stage_arcing(net, equipment):
