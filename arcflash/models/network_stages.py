@@ -52,6 +52,19 @@ def _lu(n, indptr, indices, data, memo, matrix=None):
     return lu
 
 
+def _solve_each(lu, rhs):
+    """``lu.solve(rhs)`` column by column: each column's arithmetic is then its own, whatever else is solved
+    with it (SuperLU's solve of several right-hand sides at once rounds a column differently from its solve
+    alone, so a batch's make-up would reach the last digits of the results: a copy of a stacked site would
+    differ from its sample studied alone, a split of the samples from another)."""
+    if rhs.ndim == 1:
+        return lu.solve(np.ascontiguousarray(rhs))
+    out = np.empty(rhs.shape, dtype=np.result_type(rhs.dtype, complex))
+    for column in range(rhs.shape[1]):
+        out[:, column] = lu.solve(np.ascontiguousarray(rhs[:, column]))
+    return out
+
+
 class _PartsLU:
     """Factors of a block-diagonal matrix, one per part: ``solve`` as SuperLU's, part by part.
 
@@ -75,7 +88,7 @@ class _PartsLU:
         for number in np.unique(self.row_part[rows_in]):
             rows, lu = self.factors[number]
             cols = np.unique(cols_in[self.row_part[rows_in] == number])
-            solved = lu.solve(np.ascontiguousarray(wide[rows][:, cols]))
+            solved = _solve_each(lu, wide[rows][:, cols])
             if single:
                 out[rows] = solved[:, 0]
             else:
@@ -323,7 +336,7 @@ class NetworkStates:
                 mine = [k for k, p in zip(missing, part.tolist()) if p == number]
                 rhs = np.zeros((rows.size, len(mine)), dtype=complex)
                 fill(rhs, mine, local)
-                solved = lu.solve(rhs)
+                solved = _solve_each(lu, rhs)
                 for column, k in enumerate(mine):
                     cache[k] = solved[:, column]
         return [cache[k] for k in keys]
@@ -434,7 +447,7 @@ class NetworkStates:
         else:
             rhs = np.zeros((lu.shape[0], col.size), dtype=complex)
             rhs[col, np.arange(col.size)] = 1.0
-            z_all = lu.solve(rhs)  # Z[:, k] of each fault in the factorised state
+            z_all = _solve_each(lu, rhs)  # Z[:, k] of each fault in the factorised state
             position = np.arange(lu.shape[0])
         base_f, base_t = index[self.branch_from[b]], index[self.branch_to[b]]
         # Faults in the same state and the same part of the network are taken together.
@@ -462,7 +475,11 @@ class NetworkStates:
                 w = self._update_columns(plan)
                 ends = (position[index[self.branch_from[plan]]], position[index[self.branch_to[plan]]])
                 small = np.diag(-self.branch_z_pu[plan]) + (w[ends[0]] - w[ends[1]])
-                z = z - w @ np.linalg.solve(small, w[position[col[js]]].T)
+                rhs = w[position[col[js]]].T
+                if len(plan) == 1:  # one branch: a quotient and a product per entry, element by element
+                    z = z - w * (rhs / small[0, 0])
+                else:  # each fault on its own: a batch's make-up would reach the last digits of its sums
+                    z = z - np.column_stack([w @ np.linalg.solve(small, rhs[:, [c]]) for c in range(js.size)])
             f, t, closed, energized, label = self._topology(key)
             i_fault = self.voltage_factor / z[position[col[js]], np.arange(js.size)]  # [pu]
             rows_js = live_rows[js]

@@ -43,8 +43,8 @@ from ..models.network_stages import NetworkStates, StateKey
 SIMULTANEOUS_S = 1e-9
 #: Most openings followed for one arc [-].
 MAX_STAGES = 64
-#: Arcs solved together (memory: two arrays of this many rows by the number of devices) [-].
-CHUNK_ARCS = 64
+#: Arcs solved together (memory: two arrays of this many rows by the devices of their network parts) [-].
+CHUNK_ARCS = 128
 
 
 #: Shared defaults of a new arc (read-only; an arc replaces them, never changes them in place).
