@@ -26,11 +26,13 @@ from dataclasses import dataclass
 
 import numpy as np
 import scipy.sparse as sp
-from scipy.sparse.csgraph import breadth_first_order, connected_components, depth_first_order, shortest_path
-from scipy.sparse.linalg import splu
+from scipy.sparse.csgraph import connected_components, shortest_path
 
 from .network import admittance_matrix, base_current_ka
-from .network_radial import joined_at
+from .network_factors import PartsLU, remembered_lu, solve_each
+from .network_forest import SpanningForest
+
+__all__ = ["NetworkStates", "SpanningForest", "StageFaults", "StateKey"]
 
 #: Fault columns solved together [-].
 BLOCK_COLUMNS = 128
@@ -39,63 +41,6 @@ BASE_COLUMNS_KEPT = 160
 #: Branches of smaller impedance (closed switches, 1e-6 pu) are not removed by a low-rank
 #: update: the update's small matrix would lose most of its digits; the state is factorised [pu].
 LOW_RANK_MIN_Z_PU = 1e-4
-def _lu(n, indptr, indices, data, memo, matrix=None):
-    """SuperLU factors of the n × n CSC matrix of these arrays (``matrix``, when already built), remembered
-    in ``memo`` by its arrays: the same matrix met again is not factorised again. A factorisation depends
-    on its matrix alone, so the remembered one is the one a new factorisation would give."""
-    key = (n, indptr.tobytes(), indices.tobytes(), data.tobytes())
-    lu = memo.get(key)
-    if lu is None:
-        if matrix is None:
-            matrix = sp.csc_matrix((data, indices, indptr), shape=(n, n))
-        lu = memo[key] = splu(matrix)
-    return lu
-
-
-def _solve_each(lu, rhs):
-    """``lu.solve(rhs)`` column by column: each column's arithmetic is then its own, whatever else is solved
-    with it (SuperLU's solve of several right-hand sides at once rounds a column differently from its solve
-    alone, so a batch's make-up would reach the last digits of the results: a copy of a stacked site would
-    differ from its sample studied alone, a split of the samples from another)."""
-    if rhs.ndim == 1:
-        return lu.solve(np.ascontiguousarray(rhs))
-    out = np.empty(rhs.shape, dtype=np.result_type(rhs.dtype, complex))
-    for column in range(rhs.shape[1]):
-        out[:, column] = lu.solve(np.ascontiguousarray(rhs[:, column]))
-    return out
-
-
-class _PartsLU:
-    """Factors of a block-diagonal matrix, one per part: ``solve`` as SuperLU's, part by part.
-
-    Only the parts where the right-hand side has entries are solved, each with only the columns that
-    have entries in it: every other block of the solution is zero (a regular part with a zero right-hand
-    side), so a column costs the work of its own part however many parts there are.
-    """
-
-    def __init__(self, shape, factors):
-        self.shape = shape
-        self.factors = factors
-        self.row_part = np.empty(shape[0], dtype=np.intp)
-        for number, (rows, _) in enumerate(factors):
-            self.row_part[rows] = number
-
-    def solve(self, rhs):
-        out = np.zeros(rhs.shape, dtype=np.result_type(rhs.dtype, complex))
-        single = rhs.ndim == 1
-        wide = rhs[:, None] if single else rhs
-        rows_in, cols_in = np.nonzero(wide)
-        for number in np.unique(self.row_part[rows_in]):
-            rows, lu = self.factors[number]
-            cols = np.unique(cols_in[self.row_part[rows_in] == number])
-            solved = _solve_each(lu, wide[rows][:, cols])
-            if single:
-                out[rows] = solved[:, 0]
-            else:
-                out[np.ix_(rows, cols)] = solved
-        return out
-
-
 @dataclass(frozen=True)
 class StateKey:
     """A network state: opened branches, motors ended, line-side split.
@@ -241,7 +186,7 @@ class NetworkStates:
         and a state that changes one part refactorises only that one."""
         parts = np.unique(part)
         if parts.size == 1:
-            return _lu(y.shape[0], y.indptr, y.indices, y.data, memo, y)
+            return remembered_lu(y.shape[0], y.indptr, y.indices, y.data, memo, y)
         y = y.tocsc()  # canonical (sorted, summed): each part's columns hold only that part's rows
         order = np.argsort(part, kind="stable")
         bounds = np.flatnonzero(np.diff(part[order])) + 1
@@ -259,8 +204,8 @@ class NetworkStates:
             rows = order[lo:hi]
             indptr = (ends[lo:hi + 1] - ends[lo]).astype(np.int32)
             sub_indices, sub_data = indices[ends[lo]:ends[hi]], data[ends[lo]:ends[hi]]
-            factors.append((rows, _lu(rows.size, indptr, sub_indices, sub_data, memo)))
-        return _PartsLU(y.shape, factors)
+            factors.append((rows, remembered_lu(rows.size, indptr, sub_indices, sub_data, memo)))
+        return PartsLU(y.shape, factors)
 
     @property
     def factorisations(self):
@@ -312,7 +257,7 @@ class NetworkStates:
         """The base state's factors part by part: the part of each row, and (rows, LU) of each part."""
         if "base_parts" not in self._states:
             _, lu = self._prepared(StateKey())
-            if isinstance(lu, _PartsLU):
+            if isinstance(lu, PartsLU):
                 parts = (lu.row_part, lu.factors)
             else:
                 parts = (np.zeros(lu.shape[0], dtype=np.intp), [(np.arange(lu.shape[0]), lu)])
@@ -336,7 +281,7 @@ class NetworkStates:
                 mine = [k for k, p in zip(missing, part.tolist()) if p == number]
                 rhs = np.zeros((rows.size, len(mine)), dtype=complex)
                 fill(rhs, mine, local)
-                solved = _solve_each(lu, rhs)
+                solved = solve_each(lu, rhs)
                 for column, k in enumerate(mine):
                     cache[k] = solved[:, column]
         return [cache[k] for k in keys]
@@ -447,7 +392,7 @@ class NetworkStates:
         else:
             rhs = np.zeros((lu.shape[0], col.size), dtype=complex)
             rhs[col, np.arange(col.size)] = 1.0
-            z_all = _solve_each(lu, rhs)  # Z[:, k] of each fault in the factorised state
+            z_all = solve_each(lu, rhs)  # Z[:, k] of each fault in the factorised state
             position = np.arange(lu.shape[0])
         base_f, base_t = index[self.branch_from[b]], index[self.branch_to[b]]
         # Faults in the same state and the same part of the network are taken together.
@@ -595,94 +540,3 @@ class NetworkStates:
             return inside > 0 if lo <= tin[bus] < hi else inside < len(mine)
         energized = self._topology(key)[3]
         return bool(energized[self.n if key.split is not None else bus])
-
-
-class SpanningForest:
-    """A breadth-first spanning forest of a network's branches.
-
-    Attributes: ``parent`` (-1 at a root), ``depth``, ``parent_branch`` (the
-    forest branch from each node to its parent, -1 at a root), ``child_of``
-    (per branch, the child node it joins to its parent, -1 outside the
-    forest), ``others`` (branches outside the forest: each closes a loop).
-
-    :meth:`components` finds the connected parts of a state quickly: opening
-    forest branches cuts subtrees off (nested intervals of a preorder
-    numbering); the branches outside the forest that are still closed then
-    join some of those pieces again (a small graph of pieces).
-    """
-
-    def __init__(self, n, branch_from, branch_to):
-        m = branch_from.size
-        graph = sp.coo_matrix((np.arange(1, m + 1), (branch_from, branch_to)), shape=(n, n)).tocsr()
-        graph = (graph + graph.T).tocsr()  # parallel branches: one entry (sum), found by the tree test below
-        parts, base = connected_components(graph, directed=False)
-        roots = np.unique(base, return_index=True)[1]
-        # One search from an extra node n joined to every part's root: each part is searched as from its
-        # root alone (the parts never meet), in one call however many parts there are.
-        order, pred = breadth_first_order(joined_at(graph, roots), n, directed=False, return_predecessors=True)
-        parent = np.full(n, -1, dtype=np.intp)
-        nodes = order[1:]
-        parent[nodes] = np.where(pred[nodes] == n, -1, pred[nodes])
-        depth = np.zeros(n, dtype=np.intp)
-        up = parent.copy()
-        while (up >= 0).any():  # one step up the forest per round, every node at once
-            depth += up >= 0
-            up = np.where(up >= 0, parent[np.maximum(up, 0)], -1)
-        # Preorder of the forest itself (not of the whole graph): each subtree is one interval.
-        child = np.flatnonzero(parent >= 0)
-        forest = sp.coo_matrix((np.ones(child.size), (child, parent[child])), shape=(n, n)).tocsr()
-        self.preorder = depth_first_order(joined_at(forest, roots), n, directed=False, return_predecessors=False)[1:]
-        self.tin = np.empty(n, dtype=np.intp)
-        self.tin[self.preorder] = np.arange(n)
-        self.size = np.ones(n, dtype=np.intp)
-        for d in range(depth.max(initial=0), 0, -1):
-            level = np.flatnonzero(depth == d)
-            np.add.at(self.size, parent[level], self.size[level])
-        # The forest branch of each child node: the first of the branches between it and its parent.
-        child = np.where(parent[branch_to] == branch_from, branch_to,
-                         np.where(parent[branch_from] == branch_to, branch_from, -1))
-        self.child_of = np.full(m, -1, dtype=np.intp)
-        joins = np.flatnonzero(child >= 0)
-        first = joins[np.unique(child[joins], return_index=True)[1]]
-        self.child_of[first] = child[first]
-        self.depth, self.parent = depth, parent
-        self.parent_branch = np.full(n, -1, dtype=np.intp)
-        in_forest = self.child_of >= 0
-        self.parent_branch[self.child_of[in_forest]] = np.flatnonzero(in_forest)
-        self.base = base.astype(np.int32)
-        self.parts = int(parts)
-        self.branch_from, self.branch_to = branch_from, branch_to
-        self.others = np.flatnonzero(self.child_of < 0)  # branches outside the forest
-
-    def components(self, closed):
-        """Connected-part label of each node with only the ``closed`` branches in (int32; equal labels, one
-        part: the labels are not numbered 0, 1, 2, ...) [-]."""
-        cut = self.child_of[~closed]
-        cut = cut[cut >= 0]
-        by_position = self.base[self.preorder].astype(np.int32)
-        if cut.size:
-            cut = cut[np.argsort(self.depth[cut], kind="stable")]  # deeper cuts overwrite shallower ones
-            for number, child in enumerate(cut):
-                by_position[self.tin[child]:self.tin[child] + self.size[child]] = self.parts + number
-        label = by_position[self.tin]
-        joining = self.others[closed[self.others]]
-        if cut.size and joining.size:
-            ends = label[self.branch_from[joining]], label[self.branch_to[joining]]
-            apart = ends[0] != ends[1]  # a closed loop branch joining two pieces again (others join nothing)
-            if apart.any():
-                lookup = np.arange(label.max() + 1, dtype=np.int32)
-                root = {}
-
-                def find(x):
-                    while root.get(x, x) != x:
-                        x = root[x]
-                    return x
-
-                for a, b in zip(ends[0][apart].tolist(), ends[1][apart].tolist()):
-                    a, b = find(a), find(b)
-                    if a != b:
-                        root[max(a, b)] = min(a, b)  # each joined group: its lowest piece
-                for piece in root:
-                    lookup[piece] = find(piece)
-                label = lookup[label]
-        return label

@@ -252,7 +252,7 @@ def non_bridge_branches(net):
     which makes it and the forest's branches between its two buses
     non-bridges (parallel branches between two buses included).
     """
-    from ..models.network_stages import SpanningForest
+    from ..models.network_forest import SpanningForest
 
     forest = SpanningForest(len(net.bus_ids), net.branch_from, net.branch_to)
     loop = forest.child_of < 0

@@ -94,7 +94,7 @@ def test_parts_of_a_state_from_the_forest_equal_a_graph_search(tmp_path, scenari
     import scipy.sparse as sp
     from scipy.sparse.csgraph import connected_components
 
-    from arcflash.models.network_stages import SpanningForest
+    from arcflash.models.network_forest import SpanningForest
 
     site = arcflash.load_site(synthetic_site(tmp_path / "s", 400, ties=6, substation_size=80))
     net = build_network(site, site.scenario(scenario))
@@ -145,13 +145,13 @@ def test_a_source_reaches_a_bus_after_one_opening_as_the_parts_of_the_state_say(
 
 
 def test_a_block_diagonal_solve_touches_only_the_parts_of_its_right_hand_side():
-    # _PartsLU solves only the parts (and columns) where the right-hand side has entries: the solution must
+    # PartsLU solves only the parts (and columns) where the right-hand side has entries: the solution must
     # equal a solve of the whole matrix (linear algebra: the blocks are independent), and be exactly zero
     # in the parts the right-hand side leaves untouched.
     import scipy.sparse as sp
     from scipy.sparse.linalg import splu
 
-    from arcflash.models.network_stages import _PartsLU
+    from arcflash.models.network_factors import PartsLU
 
     rng = np.random.default_rng(2)
     sizes = [4, 6, 5]
@@ -159,7 +159,7 @@ def test_a_block_diagonal_solve_touches_only_the_parts_of_its_right_hand_side():
     whole = sp.block_diag(blocks, format="csc")
     starts = np.cumsum([0] + sizes)
     rows = [np.arange(a, b) for a, b in zip(starts[:-1], starts[1:])]
-    parts = _PartsLU(whole.shape, [(r, splu(sp.csc_matrix(block))) for r, block in zip(rows, blocks)])
+    parts = PartsLU(whole.shape, [(r, splu(sp.csc_matrix(block))) for r, block in zip(rows, blocks)])
     rhs = np.zeros((whole.shape[0], 3), dtype=complex)
     rhs[1, 0] = 1.0  # part 0 only
     rhs[12, 1] = 2.0 - 1.0j  # part 2 only
@@ -198,7 +198,8 @@ def test_a_matrix_met_again_reuses_its_factors_and_solves_the_same(monkeypatch):
     # maintenance scenario has the network of its normal one, so its base state is not factorised again,
     # and its faults solve the same, bit for bit, as with a factorisation of its own (a factorisation
     # depends on its matrix alone)
-    import arcflash.models.network_stages as stages
+    import arcflash.models.network_factors as factors_module
+    from arcflash.models.network_factors import PartsLU
     from tests.output.test_label_fields import DEMO
 
     site = arcflash.load_site(DEMO)
@@ -209,11 +210,12 @@ def test_a_matrix_met_again_reuses_its_factors_and_solves_the_same(monkeypatch):
     first = network_states(site, nets[0])
     expected = first.solve(StateKey(), buses)
     made = []
-    monkeypatch.setattr(stages, "splu", lambda matrix: made.append(matrix) or stages.sp.linalg.splu(matrix))
+    real_splu = factors_module.splu
+    monkeypatch.setattr(factors_module, "splu", lambda matrix: made.append(matrix) or real_splu(matrix))
 
     def factors(states):
         lu = states._prepared(StateKey())[1]
-        return [part for _, part in lu.factors] if isinstance(lu, stages._PartsLU) else [lu]
+        return [part for _, part in lu.factors] if isinstance(lu, PartsLU) else [lu]
 
     again = network_states(site, nets[1])  # the same site: its scenarios share the memory
     solved = again.solve(StateKey(), buses)

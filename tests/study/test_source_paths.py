@@ -12,7 +12,7 @@ import numpy as np
 import scipy.sparse as sp
 from scipy.sparse.csgraph import shortest_path
 
-from arcflash.models.network_stages import SpanningForest
+from arcflash.models.network_forest import SpanningForest
 from arcflash.study.clearing import all_source_paths
 
 

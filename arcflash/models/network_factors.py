@@ -1,0 +1,69 @@
+"""LU factors of a network's admittance matrix, part by part, and their solves.
+
+Each connected part of a network has its own SuperLU factorisation (a part's arithmetic never depends on
+another part), remembered by its matrix; a right-hand side is solved only in the parts where it has entries,
+column by column. Used by :mod:`.network_stages`. Pure: numpy and scipy only, no I/O.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import scipy.sparse as sp
+from scipy.sparse.linalg import splu
+
+
+def remembered_lu(n, indptr, indices, data, memo, matrix=None):
+    """SuperLU factors of the n × n CSC matrix of these arrays (``matrix``, when already built), remembered
+    in ``memo`` by its arrays: the same matrix met again is not factorised again. A factorisation depends
+    on its matrix alone, so the remembered one is the one a new factorisation would give."""
+    key = (n, indptr.tobytes(), indices.tobytes(), data.tobytes())
+    lu = memo.get(key)
+    if lu is None:
+        if matrix is None:
+            matrix = sp.csc_matrix((data, indices, indptr), shape=(n, n))
+        lu = memo[key] = splu(matrix)
+    return lu
+
+
+def solve_each(lu, rhs):
+    """``lu.solve(rhs)`` column by column: each column's arithmetic is then its own, whatever else is solved
+    with it (SuperLU's solve of several right-hand sides at once rounds a column differently from its solve
+    alone, so a batch's make-up would reach the last digits of the results: a copy of a stacked site would
+    differ from its sample studied alone, a split of the samples from another)."""
+    if rhs.ndim == 1:
+        return lu.solve(np.ascontiguousarray(rhs))
+    out = np.empty(rhs.shape, dtype=np.result_type(rhs.dtype, complex))
+    for column in range(rhs.shape[1]):
+        out[:, column] = lu.solve(np.ascontiguousarray(rhs[:, column]))
+    return out
+
+
+class PartsLU:
+    """Factors of a block-diagonal matrix, one per part: ``solve`` as SuperLU's, part by part.
+
+    Only the parts where the right-hand side has entries are solved, each with only the columns that
+    have entries in it: every other block of the solution is zero (a regular part with a zero right-hand
+    side), so a column costs the work of its own part however many parts there are.
+    """
+
+    def __init__(self, shape, factors):
+        self.shape = shape
+        self.factors = factors
+        self.row_part = np.empty(shape[0], dtype=np.intp)
+        for number, (rows, _) in enumerate(factors):
+            self.row_part[rows] = number
+
+    def solve(self, rhs):
+        out = np.zeros(rhs.shape, dtype=np.result_type(rhs.dtype, complex))
+        single = rhs.ndim == 1
+        wide = rhs[:, None] if single else rhs
+        rows_in, cols_in = np.nonzero(wide)
+        for number in np.unique(self.row_part[rows_in]):
+            rows, lu = self.factors[number]
+            cols = np.unique(cols_in[self.row_part[rows_in] == number])
+            solved = solve_each(lu, wide[rows][:, cols])
+            if single:
+                out[rows] = solved[:, 0]
+            else:
+                out[np.ix_(rows, cols)] = solved
+        return out
