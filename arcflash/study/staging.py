@@ -38,6 +38,7 @@ import numpy as np
 
 from ..models import ieee1584
 from ..models.network_stages import NetworkStates, StateKey
+from .remembered import site_memory
 
 #: Two openings closer than this are simultaneous [s].
 SIMULTANEOUS_S = 1e-9
@@ -464,20 +465,13 @@ def _governing(context, arc, devices):
 
 def network_states(site, net):
     """:class:`~arcflash.models.network_stages.NetworkStates` of a scenario's network arrays (the site's
-    scenarios share the factors of their base states, see :func:`_base_factors`)."""
+    scenarios share the factors of their base states while the site lives: :mod:`.remembered`)."""
     sources = set(net.source_ids)
     return NetworkStates(
         net.base_kv, net.branch_from, net.branch_to, net.branch_z_pu, net.shunt_bus, net.shunt_z_pu,
         np.array([ident not in sources for ident in net.shunt_ids], dtype=bool), net.source_bus,
         net.device_branch, net.device_kv, voltage_factor=site.facility.voltage_factor,
-        s_base_mva=site.facility.s_base_mva, base_factors=_base_factors(site))
-
-
-def _base_factors(site):
-    """Where the scenarios of ``site`` remember the LU factors of their base states (while the site lives)."""
-    from .remembered import site_memory
-
-    return site_memory("base_factors", site)
+        s_base_mva=site.facility.s_base_mva, base_factors=site_memory("base_factors", site))
 
 
 def stage_arcing(net, equipment):
