@@ -15,7 +15,7 @@ import re
 from typing import Annotated, Literal
 
 import yaml
-from pydantic import AfterValidator, Field, field_validator, model_validator
+from pydantic import AfterValidator, Field, PrivateAttr, field_validator, model_validator
 
 from ..models.conductors import CONDUITS, MATERIALS, SIZES, normalize_size
 from ..models.ieee1584_tables import CONFIGURATIONS, EQUIPMENT_CLASSES
@@ -151,7 +151,9 @@ class Tolerances(_Element):
                          "it; 1 runs it as stated (a motor may state its own running_fraction_min).")
     device_band: Literal["within_band", "slowest"] = Field(
         "within_band", description="An electronic trip unit trips anywhere inside its band (its pickup and time "
-                                   "tolerances), or on the slowest edge, as the study takes it.")
+                                   "tolerances), a fuse or thermal-magnetic breaker anywhere between its minimum "
+                                   "and total-clearing curves (where the library gives both), or each on its "
+                                   "slowest edge, as the study takes it.")
 
 
 class Facility(_Element):
@@ -476,6 +478,9 @@ class Device(_Element):
     curve: Identifier | None = Field(None, description="Id of a curve of the device library.")
     maintenance: dict = Field(default_factory=dict,
                               description="Alternate settings (a subset of relay or trip_unit fields).")
+    #: Where a digitised curve's device clears inside its band: -1 on the minimum curve, +1 on the total-clearing
+    #: curve (what a study takes). Never read from site data: only an uncertainty sample moves it.
+    _curve_band_position: float = PrivateAttr(1.0)
 
     @model_validator(mode="after")
     def _settings_match_kind(self):

@@ -95,6 +95,8 @@ class DeviceBank:
         self.curves = {name: site.curves[name].to_model() for name in self.curve_names}
         lookup = {name: k for k, name in enumerate(self.curve_names)}
         self.point_curve = np.array([lookup[n] if n else -1 for n in named], dtype=np.intp)
+        # where each digitised curve's device clears inside its band (+1: the total-clearing curve)
+        self.curve_position = np.array([d._curve_band_position if d.curve else 1.0 for d in devices])
 
     def clearing_time_s(self, device, current_a):
         """Clearing time of device ``device[k]`` at ``current_a[k]`` (max band) [s].
@@ -120,7 +122,25 @@ class DeviceBank:
         for number, name in enumerate(self.curve_names):
             rows = pick[which == number]
             if rows.size:
-                t[rows] = point_curve_time_s(current_a[rows], self.curves[name], band="max")
+                t[rows] = self._point_times(device[rows], current_a[rows], name)
+        return t
+
+    def _point_times(self, device, current, name):
+        """Clearing times of devices ``device`` on digitised curve ``name`` at ``current`` [A] [s]: the
+        total-clearing curve, or for a device placed inside its band (position p < 1) the curve that lies
+        (1 - p)/2 of the way from it to the minimum curve in lg t at every current (log-log interpolation
+        between the two, as between the points of one curve); where the two curves agree (the
+        instantaneous region, a point they share), their time."""
+        curve = self.curves[name]
+        t = point_curve_time_s(current, curve, band="max")
+        position = self.curve_position[device]
+        inside = np.flatnonzero((position < 1.0) & np.isfinite(t))
+        if inside.size and curve.min_time_s is not None:
+            slow = t[inside]
+            fast = point_curve_time_s(current[inside], curve, band="min")
+            p = position[inside]
+            between = np.power(10.0, (1.0 - p) / 2.0 * np.log10(fast) + (1.0 + p) / 2.0 * np.log10(slow))
+            t[inside] = np.where(fast == slow, slow, between)
         return t
 
     def _relays(self, current, rows):
@@ -171,7 +191,7 @@ class DeviceBank:
         for number, name in enumerate(self.curve_names):
             rows = pick[which == number]
             if rows.size:
-                times[rows, 0] = point_curve_time_s(current[rows], self.curves[name], band="max")
+                times[rows, 0] = self._point_times(device[rows], current[rows], name)
         return times, reset, breaker
 
     def threshold_a(self, within_s):

@@ -20,9 +20,10 @@ global sensitivity measure that needs no special sampling design; a Sobol analys
 design of several times as many runs).
 
 Also each contributing motor's running share (between its smallest running fraction and all of it) and
-each electronic trip unit's position inside its band (pickups and delays moved by their tolerances: -1 the
-fastest edge, +1 the slowest, which the plain study uses). Not yet: band positions of relays and digitised
-curves (fuses, thermal-magnetic breakers), which stay on their total-clearing curves.
+each device's position inside its band (-1 the fastest edge, +1 the slowest, which the plain study uses):
+an electronic trip unit's pickups and delays moved by their tolerances, a fuse's or thermal-magnetic
+breaker's curve between its minimum and total-clearing curves where the library gives both. Relays have no
+band in the site data (one characteristic each) and stay on it.
 """
 
 from __future__ import annotations
@@ -83,7 +84,9 @@ def uncertain_inputs(site):
     if t.device_band == "within_band":
         for d in site.devices.values():
             unit = d.trip_unit
-            if unit is not None and (unit.pickup_tolerance > 0 or unit.time_tolerance > 0):
+            banded = (unit is not None and (unit.pickup_tolerance > 0 or unit.time_tolerance > 0)
+                      or d.curve is not None and site.curves[d.curve].min_time_s is not None)
+            if banded:
                 found.append(UncertainInput(f"devices[{d.id}].band_position", "devices", d.id, "band_position",
                                             -1.0, 1.0, "-"))
     equipment = equipment_table(site)
@@ -109,9 +112,15 @@ _DELAYS = ("long_time_delay_s", "short_time_delay_s")
 
 
 def _at_band_position(device, position):
-    """A copy of a trip-unit device whose settings sit at ``position`` in its band (-1 the fastest edge, +1
-    the slowest, which the study uses), its tolerances zero: the study's slowest edge of the copy is that
-    curve. Maintenance settings of the same fields move alike."""
+    """A copy of a device that clears at ``position`` in its band (-1 the fastest edge, +1 the slowest,
+    which the study uses). A trip unit: its settings moved there, its tolerances zero (the study's slowest
+    edge of the copy is that curve; maintenance settings of the same fields move alike). A digitised curve
+    (fuse, thermal-magnetic breaker): the position between its minimum and total-clearing curves, which
+    the study's device bank reads (:meth:`~arcflash.study.device_bank.DeviceBank.clearing_time_s`)."""
+    if device.trip_unit is None:
+        moved = device.model_copy()
+        moved._curve_band_position = float(position)
+        return moved
     unit = device.trip_unit
     p, d = 1.0 + position * unit.pickup_tolerance, 1.0 + position * unit.time_tolerance
     scale = {**{f: p for f in _PICKUPS}, **{f: d for f in _DELAYS}}

@@ -270,3 +270,47 @@ def test_a_site_with_loops_gives_the_same_result_whatever_the_chunks(tmp_path):
         parts = [run_chunk(site, inputs, design[lo:lo + size]) for lo in range(0, len(design), size)]
         for k in range(3):
             assert np.array_equal(np.concatenate([p[k] for p in parts]), whole[k], equal_nan=True)
+
+
+def test_a_digitised_curve_inside_its_band_lies_between_its_minimum_and_total_clearing_curves():
+    # a fuse or thermal-magnetic breaker sampled inside its band: +1 is the total-clearing curve the study
+    # uses (bit for bit), -1 the library's minimum curve, and in between lg t moves monotonically from one
+    # to the other at every current (the band as the library draws it; instantaneous region unchanged)
+    from arcflash.models.curves import point_curve_time_s
+    from arcflash.study.device_bank import DeviceBank
+    from arcflash.study.faults import build_network
+    from arcflash.study.uncertainty import _at_band_position
+
+    site = arcflash.load_site(DEMO)
+    scenario = site.scenario("normal")
+    ids = build_network(site, scenario).device_ids
+    fuse = ids.index("F-TA")
+    curve = site.curves[site.devices["F-TA"].curve].to_model()
+    current = np.geomspace(curve.current_a[0], curve.current_a[-1] * 3.0, 200)
+    device = np.full(current.size, fuse)
+    plain = DeviceBank(site, scenario, ids).clearing_time_s(device, current)
+    times = {}
+    for position in (-1.0, -0.5, 0.0, 0.5, 1.0):
+        devices = dict(site.devices, **{"F-TA": _at_band_position(site.devices["F-TA"], position)})
+        moved = type(site)(**{**site.__dict__, "devices": devices})
+        times[position] = DeviceBank(moved, scenario, ids).clearing_time_s(device, current)
+    assert np.array_equal(times[1.0], plain)
+    assert np.array_equal(plain, point_curve_time_s(current, curve, band="max"))
+    np.testing.assert_allclose(times[-1.0], point_curve_time_s(current, curve, band="min"), rtol=1e-12)
+    ordered = [times[p] for p in (-1.0, -0.5, 0.0, 0.5, 1.0)]
+    assert all((a <= b * (1 + 1e-12)).all() for a, b in zip(ordered, ordered[1:]))
+    assert (times[0.0] < plain * (1 - 1e-3)).any()
+
+
+def test_devices_sampled_inside_their_band_are_trip_units_with_tolerances_and_curves_with_a_minimum_curve():
+    site = arcflash.load_site(DEMO)
+    banded = {i.ident for i in uncertain_inputs(site) if i.section == "devices"}
+    for ident, device in site.devices.items():
+        if device.trip_unit is not None:
+            expected = device.trip_unit.pickup_tolerance > 0 or device.trip_unit.time_tolerance > 0
+        elif device.curve is not None:
+            expected = site.curves[device.curve].min_time_s is not None
+        else:  # a relay: one characteristic, no band in the site data
+            expected = False
+        assert (ident in banded) == expected, ident
+    assert any(site.devices[i].curve for i in banded) and any(site.devices[i].trip_unit for i in banded)
