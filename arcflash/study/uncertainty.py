@@ -213,7 +213,7 @@ def run_chunk(site, inputs, rows, scenario=None):
 def _run_chunk(site, inputs, rows, scenario=None):
     """The work of :func:`run_chunk`."""
     from .arcing import equipment_table
-    from .pipeline import _governing_case, _scenario_rows, governing_rows
+    from .pipeline import _scenario_rows
     from .stacking import stack_size, stacked_site, tagged
 
     buses = list(site.buses)
@@ -226,18 +226,35 @@ def _run_chunk(site, inputs, rows, scenario=None):
         group = rows[lo:lo + size]
         stacked = stacked_site([sample_site(site, inputs, values) for values in group])
         equipment = equipment_table(stacked)
-        parts = [_scenario_rows(stacked, stacked.scenarios[name], equipment, sequences=False)[0].reset_index()
-                 .assign(scenario=name)
-                 for name in names]
-        table = pd.concat(parts, ignore_index=True)
-        _governing_case(table)  # the samples need the governing energy and boundary, not the flags
-        governing = governing_rows(table)
-        mine = governing.reindex([tagged(bus, copy) for copy in range(len(group)) for bus in buses])
+        order = pd.Index([tagged(bus, copy) for copy in range(len(group)) for bus in buses])
+        tables = [_scenario_rows(stacked, stacked.scenarios[name], equipment, sequences=False)[0] for name in names]
         shape = (len(group), len(buses))
-        energy[lo:lo + len(group)] = mine["incident_energy_governing_cal_cm2"].to_numpy(float).reshape(shape)
-        boundary[lo:lo + len(group)] = mine["arc_flash_boundary_governing_mm"].to_numpy(float).reshape(shape)
-        bolted[lo:lo + len(group)] = mine["bolted_ka"].to_numpy(float).reshape(shape)
+        for into, values in zip((energy, boundary, bolted), _governing_values(tables, order)):
+            into[lo:lo + len(group)] = values.reshape(shape)
     return energy, boundary, bolted
+
+
+def _governing_values(tables, order):
+    """Governing incident energy, arc-flash boundary and bolted current of each bus of ``order`` over the
+    scenario ``tables`` (one each, indexed by bus): per row the larger-energy arcing case, per bus the row
+    of the largest energy, the first scenario's on a tie or where none is energised — the choices of
+    :func:`~arcflash.study.pipeline._governing_case` and :func:`~arcflash.study.pipeline.governing_rows`,
+    taken on arrays (a run's samples need these numbers, not the rows)."""
+    energy, boundary, bolted = [], [], []
+    for table in tables:
+        if not table.index.equals(order):
+            table = table.reindex(order)
+        full, reduced = (table[c].to_numpy(float) for c in ("incident_energy_cal_cm2",
+                                                             "reduced_incident_energy_cal_cm2"))
+        governs = reduced > full
+        energy.append(np.where(governs, reduced, full))
+        boundary.append(np.where(governs, table["reduced_arc_flash_boundary_mm"].to_numpy(float),
+                                 table["arc_flash_boundary_mm"].to_numpy(float)))
+        bolted.append(table["bolted_ka"].to_numpy(float))
+    energy, boundary, bolted = np.array(energy), np.array(boundary), np.array(bolted)
+    row = np.argmax(np.where(np.isnan(energy), -1.0, energy), axis=0)  # the first of the largest
+    at = np.arange(order.size)
+    return energy[row, at], boundary[row, at], bolted[row, at]
 
 
 @dataclass(frozen=True)
