@@ -21,7 +21,6 @@ Pure: numpy and scipy only, no I/O.
 
 from __future__ import annotations
 
-from bisect import bisect_left
 from dataclasses import dataclass
 
 import numpy as np
@@ -41,6 +40,9 @@ BASE_COLUMNS_KEPT = 160
 #: Branches of smaller impedance (closed switches, 1e-6 pu) are not removed by a low-rank
 #: update: the update's small matrix would lose most of its digits; the state is factorised [pu].
 LOW_RANK_MIN_Z_PU = 1e-4
+#: States of at most this many opened branches are answered by :meth:`NetworkStates.reaches_source` from the
+#: spanning forest (each opening a cut; more: the state's parts are found once and kept) [-].
+MAX_CUTS_FROM_FOREST = 4
 @dataclass(frozen=True)
 class StateKey:
     """A network state: opened branches, motors ended, line-side split.
@@ -497,46 +499,59 @@ class NetworkStates:
             cache[bus] = shortest_path(graph, directed=False, unweighted=True, indices=bus)
         return cache[bus]
 
-    def _one_cut(self):
-        """What :meth:`reaches_source` reads for one opening, as Python lists (cached): the forest's preorder
-        number and subtree size of each node, the child node of each forest branch, the part of each node,
-        per part the sorted preorder numbers of its sources and the preorder numbers of the ends of its
-        branches outside the forest."""
-        if "one_cut" not in self._states:
+    def _cuts(self):
+        """What :meth:`reaches_source` reads for a few openings, as Python lists (cached): the forest's
+        preorder number and subtree size of each node, the child node of each forest branch, the part of
+        each node, and per part the preorder numbers of its sources and (branch, preorder numbers of the
+        ends) of its branches outside the forest."""
+        if "cuts" not in self._states:
             forest = self._forest()
             sources, loops = {}, {}
             for node in self.source_bus.tolist():
                 sources.setdefault(int(forest.base[node]), []).append(int(forest.tin[node]))
-            for values in sources.values():
-                values.sort()
-            for a, b in zip(forest.branch_from[forest.others].tolist(), forest.branch_to[forest.others].tolist()):
-                loops.setdefault(int(forest.base[a]), []).append((int(forest.tin[a]), int(forest.tin[b])))
-            self._states["one_cut"] = (forest.tin.tolist(), forest.size.tolist(), forest.child_of.tolist(),
-                                       forest.base.tolist(), sources, loops)
-        return self._states["one_cut"]
+            ends = zip(forest.others.tolist(), forest.branch_from[forest.others].tolist(),
+                       forest.branch_to[forest.others].tolist())
+            for branch, a, b in ends:
+                loops.setdefault(int(forest.base[a]), []).append((branch, int(forest.tin[a]), int(forest.tin[b])))
+            self._states["cuts"] = (forest.tin.tolist(), forest.size.tolist(), forest.child_of.tolist(),
+                                    forest.base.tolist(), sources, loops)
+        return self._states["cuts"]
 
     def reaches_source(self, key, bus):
         """Whether a source still reaches ``bus`` (the split node when the state splits it) [-].
 
-        One branch opened (the usual first opening of an arc) is answered from the spanning forest alone:
-        a branch outside the forest cuts nothing; a forest branch cuts off the subtree below it, which a
-        branch outside the forest with one end on each side joins again (the whole part stays one piece);
-        otherwise the bus is fed if a source of its part lies on the same side of the cut."""
-        if key.split is None and len(key.opened) == 1 and ("topology", key) not in self._states:
-            tin, size, child_of, part_of, sources, loops = self._one_cut()
-            (branch,) = key.opened
+        A few branches opened (an arc's openings) are answered from the spanning forest alone: each opened
+        forest branch cuts off the subtree below it (an interval of the preorder numbering), so a node's
+        piece is the innermost cut around it; the closed branches outside the forest join pieces again
+        (a small union of pieces); the bus is fed if a source lies in a piece joined to its own."""
+        if key.split is None and len(key.opened) <= MAX_CUTS_FROM_FOREST and ("topology", key) not in self._states:
+            tin, size, child_of, part_of, sources, loops = self._cuts()
             part = part_of[bus]
             mine = sources.get(part)
             if not mine:
                 return False
-            child = child_of[branch]
-            if child < 0:  # outside the forest: every node keeps its forest path
-                return True
-            lo, hi = tin[child], tin[child] + size[child]
-            for a, b in loops.get(part, ()):
-                if (lo <= a < hi) != (lo <= b < hi):  # joined again around the cut
-                    return True
-            inside = bisect_left(mine, hi) - bisect_left(mine, lo)  # sources below the cut
-            return inside > 0 if lo <= tin[bus] < hi else inside < len(mine)
+            cuts = [(tin[child_of[b]], tin[child_of[b]] + size[child_of[b]]) for b in key.opened if child_of[b] >= 0]
+
+            def piece(x):  # the innermost cut around preorder number x (-1: none, the part's own piece)
+                inner, start = -1, -1
+                for number, (lo, hi) in enumerate(cuts):
+                    if lo <= x < hi and lo > start:
+                        inner, start = number, lo
+                return inner
+
+            root = {}
+
+            def find(x):
+                while root.get(x, x) != x:
+                    x = root[x]
+                return x
+
+            for branch, a, b in loops.get(part, ()):
+                if branch not in key.opened:
+                    pa, pb = find(piece(a)), find(piece(b))
+                    if pa != pb:
+                        root[max(pa, pb)] = min(pa, pb)
+            own = find(piece(tin[bus]))
+            return any(find(piece(s)) == own for s in mine)
         energized = self._topology(key)[3]
         return bool(energized[self.n if key.split is not None else bus])

@@ -114,8 +114,9 @@ def test_parts_of_a_state_from_the_forest_equal_a_graph_search(tmp_path, scenari
 
 @pytest.mark.parametrize("scenario", ["normal", "ties-closed", "twin"])
 def test_a_source_reaches_a_bus_after_one_opening_as_the_parts_of_the_state_say(tmp_path, scenario):
-    # reaches_source answers one opening from the spanning forest alone (radial or with loops closed); it must agree
+    # reaches_source answers a few openings from the spanning forest alone (radial or with loops closed); it must agree
     # with the energised parts of the whole state (computed here with a plain graph search) for every branch
+    # opened alone and for random sets of two to four
     import scipy.sparse as sp
     from scipy.sparse.csgraph import connected_components
 
@@ -134,14 +135,18 @@ def test_a_source_reaches_a_bus_after_one_opening_as_the_parts_of_the_state_say(
     states = network_states(site, net)
     n, m = len(net.bus_ids), net.branch_from.size
     rng = np.random.default_rng(4)
-    for branch in range(m):
+    openings = [[branch] for branch in range(m)]  # every branch alone, then random sets of two to four
+    openings += [list(rng.choice(m, size, replace=False)) for size in (2, 3, 4) for _ in range(m // 3)]
+    for opened in openings:
         closed = np.ones(m, dtype=bool)
-        closed[branch] = False
-        graph = sp.coo_matrix((np.ones(m - 1), (net.branch_from[closed], net.branch_to[closed])), shape=(n, n))
+        closed[opened] = False
+        graph = sp.coo_matrix((np.ones(int(closed.sum())), (net.branch_from[closed], net.branch_to[closed])),
+                              shape=(n, n))
         label = connected_components(graph, directed=False)[1]
         fed = np.isin(label, label[net.source_bus])
+        key = StateKey(frozenset(int(b) for b in opened))
         for bus in rng.choice(n, 5):
-            assert states.reaches_source(StateKey(frozenset({branch})), int(bus)) == bool(fed[bus])
+            assert states.reaches_source(key, int(bus)) == bool(fed[bus])
 
 
 def test_a_block_diagonal_solve_touches_only_the_parts_of_its_right_hand_side():
