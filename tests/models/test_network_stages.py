@@ -113,10 +113,10 @@ def test_parts_of_a_state_from_the_forest_equal_a_graph_search(tmp_path, scenari
 
 
 @pytest.mark.parametrize("scenario", ["normal", "ties-closed", "twin"])
-def test_a_source_reaches_a_bus_after_one_opening_as_the_parts_of_the_state_say(tmp_path, scenario):
-    # reaches_source answers a few openings from the spanning forest alone (radial or with loops closed); it must agree
-    # with the energised parts of the whole state (computed here with a plain graph search) for every branch
-    # opened alone and for random sets of two to four
+def test_a_source_reaches_a_bus_after_a_few_openings_as_the_parts_of_the_state_say(tmp_path, scenario):
+    # reaches_source answers a few openings from the spanning forest alone (radial or with loops closed); it
+    # must agree with the energised parts of the whole state (computed here with a plain graph search) for
+    # every branch opened alone and for random sets of two to four
     import scipy.sparse as sp
     from scipy.sparse.csgraph import connected_components
 
