@@ -131,21 +131,14 @@ FLAG_NOTES = {
 }
 
 
-def _governing_case(table):
-    """The governing arcing case of each row (the larger incident energy) and its energy and boundary;
-    returns whether the reduced case governs."""
+def _finish(table):
+    """Governing arcing case of each row, PPE, shock boundaries and flags."""
     reduced = table["reduced_incident_energy_cal_cm2"] > table["incident_energy_cal_cm2"]
     table["governing_case"] = np.where(table["energized"], np.where(reduced, "reduced", "full"), "")
     table["incident_energy_governing_cal_cm2"] = np.where(
         reduced, table["reduced_incident_energy_cal_cm2"], table["incident_energy_cal_cm2"])
     table["arc_flash_boundary_governing_mm"] = np.where(
         reduced, table["reduced_arc_flash_boundary_mm"], table["arc_flash_boundary_mm"])
-    return reduced
-
-
-def _finish(table):
-    """Governing arcing case of each row, PPE, shock boundaries and flags."""
-    reduced = _governing_case(table)
     table["clearing_time_governing_s"] = np.where(reduced, table["reduced_clearing_time_s"], table["clearing_time_s"])
     table["device_governing"] = np.where(reduced, table["reduced_governing_device"], table["governing_device"])
     table["clearing_sequence_governing"] = np.where(reduced, table["reduced_clearing_sequence"],

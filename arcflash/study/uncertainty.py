@@ -238,7 +238,7 @@ def _governing_values(tables, order):
     """Governing incident energy, arc-flash boundary and bolted current of each bus of ``order`` over the
     scenario ``tables`` (one each, indexed by bus): per row the larger-energy arcing case, per bus the row
     of the largest energy, the first scenario's on a tie or where none is energised — the choices of
-    :func:`~arcflash.study.pipeline._governing_case` and :func:`~arcflash.study.pipeline.governing_rows`,
+    :func:`~arcflash.study.pipeline._finish` and :func:`~arcflash.study.pipeline.governing_rows`,
     taken on arrays (a run's samples need these numbers, not the rows)."""
     energy, boundary, bolted = [], [], []
     for table in tables:
