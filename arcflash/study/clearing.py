@@ -35,6 +35,7 @@ import pandas as pd
 import scipy.sparse as sp
 from scipy.sparse.csgraph import breadth_first_order, connected_components
 
+from ..models.network_forest import SpanningForest
 from ..models.network_radial import joined_at
 from .device_bank import DeviceBank, DeviceCurve, device_bank, device_curve  # noqa: F401 (re-exported)
 
@@ -190,6 +191,8 @@ class ClearingPaths:
     sources_reaching: np.ndarray
     excluded: dict
     line_side: dict
+    back_feed: np.ndarray
+    bus_part: np.ndarray
 
 
 def clearing_paths(site, scenario, faults):
@@ -232,6 +235,8 @@ def clearing_paths(site, scenario, faults):
     has_device = np.zeros(len(sources) * n_bus, dtype=bool)
     has_device[path] = True
     bare = reached & ~has_device.reshape(len(sources), n_bus)  # a source reaches the bus through no device
+    forest = SpanningForest(n_bus, net.branch_from, net.branch_to)
+    on_loop = non_bridge_branches(net, forest)
     return ClearingPaths(
         bus_ids=net.bus_ids, device_ids=np.array(net.device_ids, dtype=object), bus=bus, device=dev,
         path=path, device_ka=device_ka, live=path_share[path] >= NEGLIGIBLE_PATH_SHARE, bolted_ka=bolted,
@@ -240,21 +245,22 @@ def clearing_paths(site, scenario, faults):
                for number, (source, _) in enumerate(sources)],
         bank=device_bank(site, scenario, net.device_ids), cap_s=site.facility.arc_duration_cap_s,
         source_bus=np.array([b for _, b in sources], dtype=np.intp),
-        on_loop=non_bridge_branches(net), sources_reaching=reached.sum(axis=0), excluded=excluded_by_bus,
-        line_side=line_side,
+        on_loop=on_loop, sources_reaching=reached.sum(axis=0), excluded=excluded_by_bus,
+        line_side=line_side, back_feed=back_feeding_devices(net, forest, on_loop), bus_part=forest.base,
     )
 
 
-def non_bridge_branches(net):
+def non_bridge_branches(net, forest=None):
     """Branches whose opening alone cannot split the network (they lie on a loop) [-].
 
     In a breadth-first spanning forest every branch outside it closes a loop,
     which makes it and the forest's branches between its two buses
-    non-bridges (parallel branches between two buses included).
+    non-bridges (parallel branches between two buses included). ``forest``:
+    the network's :class:`~arcflash.models.network_forest.SpanningForest`
+    (made when not given).
     """
-    from ..models.network_forest import SpanningForest
-
-    forest = SpanningForest(len(net.bus_ids), net.branch_from, net.branch_to)
+    if forest is None:
+        forest = SpanningForest(len(net.bus_ids), net.branch_from, net.branch_to)
     loop = forest.child_of < 0
     for b in forest.others:
         u, v = net.branch_from[b], net.branch_to[b]
@@ -264,6 +270,28 @@ def non_bridge_branches(net):
             loop[forest.parent_branch[u]] = True
             u = forest.parent[u]
     return loop
+
+
+def back_feeding_devices(net, forest, on_loop):
+    """Devices that may carry a small share of a fault's current: those on a loop, and those on a branch
+    that splits the network with a shunt source (utility, generator, motor) on each side [-].
+
+    Any other device carries, for a fault at a bus, either nothing or the whole fault current: its branch
+    splits its part in two, one side holds no shunt at all (the network's only shunts are its sources), and
+    a fault on the side with the shunts leaves that passive side with no path to ground (no current),
+    while a fault on the passive side is fed through the device alone (all of it) [-].
+    """
+    count = np.bincount(net.shunt_bus, minlength=len(net.bus_ids)) if len(net.shunt_bus) else \
+        np.zeros(len(net.bus_ids), dtype=np.intp)
+    below = np.concatenate(([0], np.cumsum(count[forest.preorder])))  # shunts before each preorder number
+    in_part = np.bincount(forest.base, weights=count, minlength=forest.parts)
+    child = forest.child_of[net.device_branch]
+    tree = child >= 0
+    start = forest.tin[child[tree]]
+    inside = np.zeros(child.size)
+    inside[tree] = below[start + forest.size[child[tree]]] - below[start]  # shunts in the subtree cut off
+    outside = in_part[forest.base[net.branch_from[net.device_branch]]] - inside
+    return on_loop[net.device_branch] | ~tree | ((inside > 0) & (outside > 0))
 
 
 @dataclass(frozen=True)
@@ -339,7 +367,9 @@ def _needs_stages(faults, paths, ratio, arcing_pu, duration, governing, threshol
 
     The one-stage answer is exact where no device left out of the device
     table (under 0.1 % of the bolted current) could clear within the
-    duration cap at the largest current it may carry there, no motor
+    duration cap at the largest current it may carry there (``threshold_pu``
+    per bus: the lowest level at which a device of its part that may carry
+    such a share clears within the cap, :func:`back_feeding_devices`), no motor
     contribution ends before the answer's time, and either
 
     - exactly one source reaches the bus, the governing device's branch
@@ -414,7 +444,12 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
     motor_end_s = site.facility.motor_contribution_end_s
     device_base_ka = base_current_ka(site.facility.s_base_mva, net.device_kv)
     cap_level_a = paths.bank.threshold_a(cap if cap is not None else np.inf)  # clears within the cap from here
-    threshold_pu = (cap_level_a / 1000.0 / device_base_ka).min(initial=np.inf)
+    # Per bus: the lowest such level of a device of its part that may carry a share under the device table's
+    # threshold (any other device carries nothing or the whole current there: back_feeding_devices) [pu].
+    level_pu = np.where(paths.back_feed, cap_level_a / 1000.0 / device_base_ka, np.inf)
+    threshold_pu = np.full(int(paths.bus_part.max(initial=-1)) + 1, np.inf)
+    np.minimum.at(threshold_pu, paths.bus_part[net.branch_from[net.device_branch]], level_pu)
+    threshold_pu = threshold_pu[paths.bus_part]
     bus_base_ka = base_current_ka(site.facility.s_base_mva, net.base_kv)
     result = pd.DataFrame(index=pd.Index(paths.bus_ids, name="bus"))
     notes = list(paths.notes)

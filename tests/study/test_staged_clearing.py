@@ -336,6 +336,70 @@ def test_staged_equals_one_stage_where_one_stage_is_exact(demo, scenario, monkey
     assert (forced.loc[exact, "governing_device"] == plain.loc[exact, "governing_device"]).all()
 
 
+class _Net:
+    """Network arrays of a hand-made network: nodes 0-5 one part (a utility at 0, a motor at 2, a loop
+    1-4-5), nodes 6-7 another (a source at 6 only); one device on every branch."""
+
+    bus_ids = list(range(8))
+    branch_from = np.array([0, 1, 2, 1, 4, 5, 6])
+    branch_to = np.array([1, 2, 3, 4, 5, 1, 7])
+    shunt_bus = np.array([0, 2, 6])
+    device_branch = np.arange(7)
+
+
+def test_only_devices_with_sources_on_both_sides_or_on_a_loop_can_carry_a_small_share():
+    from arcflash.models.network_forest import SpanningForest
+    from arcflash.models.network_stages import NetworkStates, StateKey
+    from arcflash.study.clearing import back_feeding_devices, non_bridge_branches
+
+    net = _Net()
+    forest = SpanningForest(8, net.branch_from, net.branch_to)
+    back = back_feeding_devices(net, forest, non_bridge_branches(net, forest))
+    # 0-1 and 1-2 have a source on each side; 2-3 has none beyond it; 1-4, 4-5, 5-1 form a loop; 6-7 has
+    # none beyond it.
+    assert back.tolist() == [True, True, False, True, True, True, False]
+    # Checked against the network solved with every bus faulted: a device not flagged carries nothing
+    # (under 1e-12 of the fault) or the whole fault; each flagged one carries a share strictly between for
+    # some fault (common practice: Kirchhoff's current law on a passive side with no path to ground).
+    z = np.array([0.01 + 0.05j, 0.02 + 0.04j, 0.03 + 0.03j, 0.01 + 0.02j, 0.02 + 0.02j, 0.015 + 0.01j,
+                  0.02 + 0.06j])
+    states = NetworkStates(np.ones(8), net.branch_from, net.branch_to, z, net.shunt_bus,
+                           np.array([0.001 + 0.01j, 0.5 + 2.0j, 0.002 + 0.02j]), np.array([False, True, False]),
+                           np.array([0, 6]), net.device_branch, np.ones(7))
+    solved = states.solve(StateKey(), np.arange(8))
+    share = solved.device_current_ka / solved.bolted_ka[:, None]
+    nothing_or_all = (share < 1e-12) | (np.abs(share - 1.0) < 1e-9)
+    assert nothing_or_all[:, ~back].all()
+    assert (~nothing_or_all[:, back]).any(axis=0).all()
+
+
+@pytest.mark.parametrize("back_feeding", [True, False])
+def test_a_sensitive_device_that_may_carry_a_small_share_makes_a_bus_followed(demo, monkeypatch, back_feeding):
+    # A device left out of the device table may still carry up to 0.1 % of a fault's current. Made to clear
+    # within the cap at 1 A, a device with a source on each side must make the medium-voltage buses of its
+    # part followed stage by stage; the same made of a device with no source beyond it changes nothing.
+    from arcflash.study import clearing
+    from arcflash.study.faults import solve_scenario
+
+    faults = solve_scenario(demo, "normal", for_clearing=True)
+    paths = clearing.clearing_paths(demo, demo.scenario("normal"), faults)
+    candidates = np.flatnonzero((paths.back_feed == back_feeding) & ~paths.on_loop[faults.net.device_branch])
+    chosen = int(candidates[0])
+    real = clearing.DeviceBank.threshold_a
+
+    def sensitive(bank, within_s):
+        level = real(bank, within_s).copy()
+        level[chosen] = 1.0
+        return level
+
+    plain = clearing_table(demo, "normal")
+    monkeypatch.setattr(clearing.DeviceBank, "threshold_a", sensitive)
+    made = clearing_table(demo, "normal")
+    medium = [bus for bus in plain.index if demo.buses[bus].nominal_kv > 1.0]
+    assert not plain.loc[medium, "staged"].any()
+    assert made.loc[medium, "staged"].any() == back_feeding
+
+
 def test_staged_equals_one_stage_where_nothing_opens_within_the_cap(tmp_path, monkeypatch):
     # A bus where no device opens within the duration cap at the inception currents is taken as exact even
     # when fed over several paths (closed ties): followed stage by stage, its arc must burn unchanged until
@@ -448,7 +512,8 @@ def test_following_only_devices_that_can_clear_within_the_cap_changes_nothing(de
     # Devices whose current stays below the level at which they clear within the cap are followed only
     # once their current reaches it, their progress then replayed from the arc's history. Following every
     # device from the start (each device's cap level lowered to its smallest pickup) must give the same arcs.
-    from arcflash.study import staging
+    # Every bus is followed stage by stage here, not only those whose one-stage answer is not exact.
+    from arcflash.study import clearing, staging
     from arcflash.study.arcing import arcing_currents
     from arcflash.study.clearing import clear_arcs
     from arcflash.study.faults import solve_scenario
@@ -459,6 +524,7 @@ def test_following_only_devices_that_can_clear_within_the_cap_changes_nothing(de
     chosen = site.scenario(scenario)
     faults = solve_scenario(site, scenario, for_clearing=True)
     arcs = arcing_currents(site, faults.buses)
+    monkeypatch.setattr(clearing, "_needs_stages", lambda faults, paths, *args: paths.energized & ~paths.no_device)
     lazy = clear_arcs(site, chosen, faults, arcs["arcing_current_ka"], arcs["reduced_arcing_current_ka"])
     real = staging.StagingContext
     monkeypatch.setattr(staging, "StagingContext", lambda **kw: real(**{**kw, "hot_a": kw["operating_a"]}))
