@@ -7,6 +7,9 @@ from pydantic import BaseModel, ConfigDict, ValidationInfo, field_validator
 from .slips import unit_slip
 
 
+_set = object.__setattr__
+
+
 class SiteModel(BaseModel):
     """Base of the site-data models.
 
@@ -20,6 +23,22 @@ class SiteModel(BaseModel):
     """
 
     model_config = ConfigDict(extra="forbid", str_strip_whitespace=True, allow_inf_nan=False)
+
+    def replaced(self, update=None):
+        """A shallow copy with the fields of ``update`` set, unvalidated: what ``model_copy(update=update)``
+        gives (the caller passes values of each field's type), made directly rather than by pydantic's
+        generic copy (an uncertainty run makes hundreds of copies a sample)."""
+        made = type(self).__new__(type(self))
+        fields = self.__dict__.copy()
+        if update:
+            fields.update(update)
+        _set(made, "__dict__", fields)
+        _set(made, "__pydantic_fields_set__", self.__pydantic_fields_set__ | update.keys() if update
+             else set(self.__pydantic_fields_set__))
+        extra, private = self.__pydantic_extra__, self.__pydantic_private__
+        _set(made, "__pydantic_extra__", None if extra is None else dict(extra))
+        _set(made, "__pydantic_private__", None if private is None else dict(private))
+        return made
 
     @field_validator("*", mode="before")
     @classmethod

@@ -482,6 +482,11 @@ class Device(_Element):
     #: curve (what a study takes). Never read from site data: only an uncertainty sample moves it.
     _curve_band_position: float = PrivateAttr(1.0)
 
+    @property
+    def curve_band_position(self):
+        """Where the device clears inside its digitised curve's band (see ``_curve_band_position``) [-]."""
+        return self.__pydantic_private__["_curve_band_position"]
+
     @model_validator(mode="after")
     def _settings_match_kind(self):
         return check_device_settings(self)

@@ -96,7 +96,7 @@ class DeviceBank:
         lookup = {name: k for k, name in enumerate(self.curve_names)}
         self.point_curve = np.array([lookup[n] if n else -1 for n in named], dtype=np.intp)
         # where each digitised curve's device clears inside its band (+1: the total-clearing curve)
-        self.curve_position = np.array([d._curve_band_position if d.curve else 1.0 for d in devices])
+        self.curve_position = np.array([d.curve_band_position if d.curve else 1.0 for d in devices])
 
     def clearing_time_s(self, device, current_a):
         """Clearing time of device ``device[k]`` at ``current_a[k]`` (max band) [s].

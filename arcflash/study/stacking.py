@@ -80,7 +80,7 @@ def _tagged_element(element, copy, fields, remember):
     for field in fields:
         value = getattr(element, field)
         update[field] = [tagged(v, copy) for v in value] if isinstance(value, list) else tagged(value, copy)
-    made = element.model_copy(update=update)
+    made = element.replaced(update)
     if not remember:
         return made
     if len(_TAGGED) >= _TAGGED_KEPT:

@@ -118,7 +118,7 @@ def _at_band_position(device, position):
     (fuse, thermal-magnetic breaker): the position between its minimum and total-clearing curves, which
     the study's device bank reads (:meth:`~arcflash.study.device_bank.DeviceBank.clearing_time_s`)."""
     if device.trip_unit is None:
-        moved = device.model_copy()
+        moved = device.replaced()
         moved._curve_band_position = float(position)
         return moved
     unit = device.trip_unit
@@ -129,8 +129,8 @@ def _at_band_position(device, position):
         return {f: v * scale[f] if f in scale and v is not None else v for f, v in settings.items()}
 
     update = {f: getattr(unit, f) * scale[f] for f in scale if getattr(unit, f) is not None}
-    unit = unit.model_copy(update={**update, "pickup_tolerance": 0.0, "time_tolerance": 0.0})
-    return device.model_copy(update={"trip_unit": unit, "maintenance": moved(device.maintenance)})
+    unit = unit.replaced({**update, "pickup_tolerance": 0.0, "time_tolerance": 0.0})
+    return device.replaced({"trip_unit": unit, "maintenance": moved(device.maintenance)})
 
 
 def sample_design(inputs, samples, seed):
@@ -163,15 +163,15 @@ def sample_site(site, inputs, values):
     for item, value in zip(inputs, values):
         element = sections[item.section][item.ident]
         if item.section == "utilities":
-            level = element.max.model_copy(update={"fault": _quantity(float(value), "MVA")})
-            element = element.model_copy(update={"max": level, "min": level})
+            level = element.max.replaced({"fault": _quantity(float(value), "MVA")})
+            element = element.replaced({"max": level, "min": level})
         elif item.section == "transformers":
-            element = element.model_copy(update={"z_percent": float(value), "test": None, "z_tolerance_percent": 0.0})
+            element = element.replaced({"z_percent": float(value), "test": None, "z_tolerance_percent": 0.0})
         elif item.section == "cables":
-            element = element.model_copy(update={"length": _quantity(float(value), "ft")})
+            element = element.replaced({"length": _quantity(float(value), "ft")})
         elif item.section == "motors":
             size = _quantity(element.size.value * float(value), element.size.unit)
-            element = element.model_copy(update={"size": size})
+            element = element.replaced({"size": size})
         elif item.section == "devices":
             element = _at_band_position(element, float(value))
         else:
@@ -180,7 +180,7 @@ def sample_site(site, inputs, values):
             fixed = {f: (getattr(element, f) if getattr(element, f) is not None else equipment.loc[item.ident, f])
                      for f in ("config", "gap_mm", "working_distance_mm", "height_mm", "width_mm", "depth_mm")}
             fixed = {k: (None if isinstance(v, float) and math.isnan(v) else v) for k, v in fixed.items()}
-            element = element.model_copy(update={**fixed, item.field: float(value)})
+            element = element.replaced({**fixed, item.field: float(value)})
         sections[item.section][item.ident] = element
     return dataclasses.replace(site, **sections)
 

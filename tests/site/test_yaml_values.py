@@ -94,3 +94,24 @@ def test_quantities_reach_the_study_as_numbers_in_the_units_of_their_names(tmp_p
     assert utility.fault_mva("max") == pytest.approx(3 ** 0.5 * 13.8 * 10)
     metres = arcflash.load_site(write_site(tmp_path / "m", chain(cables=[{**CHAIN["cables"][0], "length": "45 m"}])))
     assert metres.cables["C"].length_ft == pytest.approx(45 / 0.3048)  # 1 ft = 0.3048 m exactly (definition)
+
+
+def test_a_replaced_copy_is_what_pydantic_gives_and_shares_no_mutable_state():
+    from tests.study.test_clearing import DEMO
+
+    demo = arcflash.load_site(DEMO)
+    # SiteModel.replaced makes the copies of an uncertainty run without pydantic's generic copy: it must
+    # give what model_copy(update=...) gives, field by field, and leave the original untouched.
+    device = next(d for d in demo.devices.values() if d.curve)
+    unit_device = next(d for d in demo.devices.values() if d.trip_unit is not None)
+    for element, update in ((device, {"id": "X"}), (unit_device, {"maintenance": {"instantaneous_pickup": 2.0}}),
+                            (demo.transformers[next(iter(demo.transformers))], {"z_percent": 6.1}),
+                            (device, None)):
+        made, expected = element.replaced(update), element.model_copy(update=update)
+        assert type(made) is type(expected)
+        assert made == expected
+        assert made.model_fields_set == expected.model_fields_set
+        assert made.__pydantic_private__ == expected.__pydantic_private__
+    moved = device.replaced()
+    moved._curve_band_position = -0.5
+    assert moved.curve_band_position == -0.5 and device.curve_band_position == 1.0
