@@ -29,6 +29,7 @@ import pandas as pd
 from ..models.conductors import cable_impedance_ohm
 from ..models.network import solve_faults
 from ..models.transformer import apply_tolerance
+from .remembered import site_memory
 
 #: Impedance of a closed switch [pu].
 SWITCH_Z_PU = 1e-6j
@@ -67,18 +68,29 @@ def _from_z(z_pu, x_over_r):
     return complex(r, r * x_over_r)
 
 
-def build_network(site, scenario):
-    """The per-unit arrays of ``site`` in ``scenario`` (a Scenario object)."""
+def _fixed_branches(site, side):
+    """(id, from bus, to bus, z_pu) of the transformers (their %Z at ``side`` of its tolerance), cables and
+    impedances, which no scenario changes: remembered per site (:mod:`.remembered`) and used again while the
+    site holds the same elements (compared item by item: the same objects, or equal ones)."""
+    made_of = (tuple(site.transformers.items()), tuple(site.cables.items()), tuple(site.impedances.items()),
+               tuple(site.buses.items()), site.facility)
+    memory = site_memory("fixed_branches", site)
+    if memory.get("made_of") != made_of:
+        memory.clear()
+        memory["made_of"] = made_of
+    if side not in memory:
+        memory[side] = _branches_of(site, side)
+    return memory[side]
+
+
+def _branches_of(site, side):
+    """The work of :func:`_fixed_branches`."""
     s_base = site.facility.s_base_mva
-    bus_ids = list(site.buses)
-    index = {b: i for i, b in enumerate(bus_ids)}
-    base_kv = np.array([site.buses[b].nominal_kv for b in bus_ids])
 
     def z_base(bus):
         return site.buses[bus].nominal_kv ** 2 / s_base
 
     branches = []  # (id, from, to, z_pu)
-    side = scenario.transformer_z or ("low" if scenario.utility == "max" else "high")
     for ident, t in site.transformers.items():
         z_percent = float(apply_tolerance(t.z_percent_used, t.z_tolerance_percent, side))
         ratio = t.secondary_kv / site.buses[t.secondary_bus].nominal_kv
@@ -93,6 +105,17 @@ def build_network(site, scenario):
         branches.append((ident, c.from_bus, c.to_bus, z_ohm / z_base(c.from_bus)))
     for ident, i in site.impedances.items():
         branches.append((ident, i.from_bus, i.to_bus, _complex(i.r_ohm, i.x_ohm) / z_base(i.from_bus)))
+    return branches
+
+
+def build_network(site, scenario):
+    """The per-unit arrays of ``site`` in ``scenario`` (a Scenario object)."""
+    s_base = site.facility.s_base_mva
+    bus_ids = list(site.buses)
+    index = {b: i for i, b in enumerate(bus_ids)}
+    base_kv = np.array([site.buses[b].nominal_kv for b in bus_ids])
+    side = scenario.transformer_z or ("low" if scenario.utility == "max" else "high")
+    branches = list(_fixed_branches(site, side))
     for ident, s in site.switches.items():
         closed = (s.normally == "closed" or ident in scenario.close) and ident not in scenario.open
         if closed:

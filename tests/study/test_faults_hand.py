@@ -106,3 +106,25 @@ def test_motor_contribution_by_hand(tmp_path):
     motor_ka = v_phase / abs(z_m)
     assert motor_ka == pytest.approx(400 / (math.sqrt(3) * 0.46) / 1000 / 0.167 * (0.48 / 0.46), rel=0.01)
     assert table.loc["LV", "bolted_ka"] - without.loc["LV", "bolted_ka"] > 0.9 * motor_ka
+
+
+def test_remembered_branches_follow_a_replaced_element():
+    # The branches no scenario changes are remembered per site while it holds the same elements: a cable
+    # replaced in the site (twice as long) must give the new impedance, and putting the old one back the old.
+    from arcflash.study.faults import build_network
+    from tests.study.test_clearing import DEMO
+
+    site = arcflash.load_site(DEMO)
+    scenario = site.scenario(None)
+    ident = next(c for c, cable in site.cables.items() if cable.size is not None)
+    before = build_network(site, scenario)
+    k = before.branch_ids.index(ident)
+    original = site.cables[ident]
+    from arcflash.study.uncertainty import _quantity
+
+    longer = _quantity(original.length_ft * 2.0, "ft")
+    site.cables[ident] = original.model_copy(update={"length": longer})
+    after = build_network(site, scenario)
+    assert after.branch_z_pu[k] == pytest.approx(2.0 * before.branch_z_pu[k], rel=1e-12)  # common practice: z ∝ length
+    site.cables[ident] = original
+    assert build_network(site, scenario).branch_z_pu[k] == before.branch_z_pu[k]
