@@ -128,11 +128,13 @@ def all_source_paths(net, source_buses):
         arranged = np.lexsort((steps, owner))  # stable: one source's rows step by step, as searched alone
         buses, devices, owner = buses[arranged], devices[arranged], owner[arranged]
         bounds = np.searchsorted(owner, np.arange(roots.size + 1))
+        reached = nodes[np.argsort(root_of[nodes], kind="stable")]  # each source's nodes together, in search order
+        ends = np.searchsorted(np.sort(root_of[nodes]), np.arange(roots.size + 1))
         for k, number in enumerate(numbers):
             p = part[roots[k]]
             found[number] = (buses[bounds[k]:bounds[k + 1]], devices[bounds[k]:bounds[k + 1]],
                              bool(branches_in[p] > nodes_in[p] - 1),
-                             np.concatenate(([roots[k]], nodes[root_of[nodes] == k])))
+                             np.concatenate(([roots[k]], reached[ends[k]:ends[k + 1]])))
     return found
 
 
@@ -152,12 +154,13 @@ def _first_of_groups(keys, values):
 
 
 def _joined_notes(n, notes):
-    """Per-case text: the notes whose mask holds, joined by '; '."""
+    """Per-case text: the notes at the rows each names (a mask, or row indices), joined by '; '."""
     text = np.full(n, "", dtype=object)
-    for mask, note in notes:
-        if mask.any():
-            sep = np.where(text[mask] == "", "", "; ")
-            text[mask] = text[mask] + sep + note
+    for rows, note in notes:
+        where = np.flatnonzero(rows) if rows.dtype == bool else rows
+        if where.size:
+            sep = np.where(text[where] == "", "", "; ")
+            text[where] = text[where] + sep + note
     return text
 
 
@@ -200,17 +203,17 @@ def clearing_paths(site, scenario, faults):
     net, solution = faults.net, faults.solution
     n_bus, n_dev = len(net.bus_ids), len(net.device_ids)
     sources = energising_sources(site, scenario, net)
-    bus_parts, dev_parts, src_parts, reached = [], [], [], np.zeros((len(sources), n_bus), dtype=bool)
+    bus_parts, dev_parts, src_parts, reached_bus, reached_src = [], [], [], [], []  # path rows; (source, bus) reached
     meshed_any = False
     for number, (buses, devices, meshed, nodes) in enumerate(all_source_paths(net, [bus for _, bus in sources])):
         meshed_any |= meshed
         bus_parts.append(buses)
         dev_parts.append(devices)
         src_parts.append(np.full(buses.size, number, dtype=np.intp))
-        reached[number, nodes] = True
-    bus = np.concatenate(bus_parts) if bus_parts else np.array([], dtype=np.intp)
-    dev = np.concatenate(dev_parts) if dev_parts else np.array([], dtype=np.intp)
-    src = np.concatenate(src_parts) if src_parts else np.array([], dtype=np.intp)
+        reached_bus.append(nodes)
+        reached_src.append(np.full(nodes.size, number, dtype=np.intp))
+    bus, dev, src, reached_bus, reached_src = (np.concatenate(x) if x else np.array([], dtype=np.intp)
+                                               for x in (bus_parts, dev_parts, src_parts, reached_bus, reached_src))
     bus_index = {b: i for i, b in enumerate(net.bus_ids)}
     device_index = {d: i for i, d in enumerate(net.device_ids)}
     excluded_by_bus, line_side = {}, {}
@@ -230,22 +233,24 @@ def clearing_paths(site, scenario, faults):
     device_ka = np.asarray(currents[bus, dev]).ravel() if bus.size else np.zeros(0)
     bolted = solution.bolted_ka
     path = src * n_bus + bus
-    path_share = np.zeros(len(sources) * n_bus)
-    np.maximum.at(path_share, path, device_ka / bolted[bus])
-    has_device = np.zeros(len(sources) * n_bus, dtype=bool)
-    has_device[path] = True
-    bare = reached & ~has_device.reshape(len(sources), n_bus)  # a source reaches the bus through no device
+    paths_found, row_path = np.unique(path, return_inverse=True)
+    path_share = np.zeros(paths_found.size)
+    np.maximum.at(path_share, row_path, device_ka / bolted[bus])
+    bare = ~np.isin(reached_src * n_bus + reached_bus, paths_found)  # a source reaches the bus through no device
+    no_device = np.zeros(n_bus, dtype=bool)
+    no_device[reached_bus[bare]] = True
+    bare_src, bare_bus = reached_src[bare], reached_bus[bare]
     forest = SpanningForest(n_bus, net.branch_from, net.branch_to)
     on_loop = non_bridge_branches(net, forest)
     return ClearingPaths(
         bus_ids=net.bus_ids, device_ids=np.array(net.device_ids, dtype=object), bus=bus, device=dev,
-        path=path, device_ka=device_ka, live=path_share[path] >= NEGLIGIBLE_PATH_SHARE, bolted_ka=bolted,
-        no_device=bare.any(axis=0), energized=reached.any(axis=0), meshed=meshed_any,
-        notes=[(bare[number], f"no protective device between source {source} and this bus")
-               for number, (source, _) in enumerate(sources)],
+        path=path, device_ka=device_ka, live=path_share[row_path] >= NEGLIGIBLE_PATH_SHARE, bolted_ka=bolted,
+        no_device=no_device, energized=np.bincount(reached_bus, minlength=n_bus) > 0, meshed=meshed_any,
+        notes=[(bare_bus[bare_src == number], f"no protective device between source {sources[number][0]} and this bus")
+               for number in np.unique(bare_src).tolist()],
         bank=device_bank(site, scenario, net.device_ids), cap_s=site.facility.arc_duration_cap_s,
         source_bus=np.array([b for _, b in sources], dtype=np.intp),
-        on_loop=on_loop, sources_reaching=reached.sum(axis=0), excluded=excluded_by_bus,
+        on_loop=on_loop, sources_reaching=np.bincount(reached_bus, minlength=n_bus), excluded=excluded_by_bus,
         line_side=line_side, back_feed=back_feeding_devices(net, forest, on_loop), bus_part=forest.base,
     )
 
