@@ -8,9 +8,13 @@ from __future__ import annotations
 
 import numpy as np
 import scipy.sparse as sp
-from scipy.sparse.csgraph import breadth_first_order, connected_components, depth_first_order
+from scipy.sparse.csgraph import breadth_first_order, connected_components, depth_first_order, shortest_path
 
 from .network_radial import joined_at
+
+#: States of at most this many opened branches are answered by :meth:`ForestQueries.reaches_source` from the
+#: spanning forest (each opening a cut; more: the state's parts are found once and kept) [-].
+MAX_CUTS_FROM_FOREST = 4
 
 
 class SpanningForest:
@@ -102,3 +106,76 @@ class SpanningForest:
                     lookup[piece] = find(piece)
                 label = lookup[label]
         return label
+
+
+class ForestQueries:
+    """What a network in changing states (:class:`~arcflash.models.network_stages.NetworkStates`) reads from
+    its spanning forest: distances in branches, and whether a source still reaches a bus. The class using
+    it provides ``_forest()``, ``_topology(key)``, ``_states`` (a cache dict), ``n``, ``branch_from``,
+    ``branch_to`` and ``source_bus``."""
+
+    def hops_from(self, bus):
+        """Number of branches between ``bus`` and every bus, all branches closed (cached) [-]."""
+        cache = self._states.setdefault("hops", {})
+        if bus not in cache:
+            graph = sp.coo_matrix((np.ones(self.branch_from.size), (self.branch_from, self.branch_to)),
+                                  shape=(self.n, self.n))
+            cache[bus] = shortest_path(graph, directed=False, unweighted=True, indices=bus)
+        return cache[bus]
+
+    def _cuts(self):
+        """What :meth:`reaches_source` reads for a few openings, as Python lists (cached): the forest's
+        preorder number and subtree size of each node, the child node of each forest branch, the part of
+        each node, and per part the preorder numbers of its sources and (branch, preorder numbers of the
+        ends) of its branches outside the forest."""
+        if "cuts" not in self._states:
+            forest = self._forest()
+            sources, loops = {}, {}
+            for node in self.source_bus.tolist():
+                sources.setdefault(int(forest.base[node]), []).append(int(forest.tin[node]))
+            ends = zip(forest.others.tolist(), forest.branch_from[forest.others].tolist(),
+                       forest.branch_to[forest.others].tolist())
+            for branch, a, b in ends:
+                loops.setdefault(int(forest.base[a]), []).append((branch, int(forest.tin[a]), int(forest.tin[b])))
+            self._states["cuts"] = (forest.tin.tolist(), forest.size.tolist(), forest.child_of.tolist(),
+                                    forest.base.tolist(), sources, loops)
+        return self._states["cuts"]
+
+    def reaches_source(self, key, bus):
+        """Whether a source still reaches ``bus`` (the split node when the state splits it) [-].
+
+        A few branches opened (an arc's openings) are answered from the spanning forest alone: each opened
+        forest branch cuts off the subtree below it (an interval of the preorder numbering), so a node's
+        piece is the innermost cut around it; the closed branches outside the forest join pieces again
+        (a small union of pieces); the bus is fed if a source lies in a piece joined to its own."""
+        if key.split is None and len(key.opened) <= MAX_CUTS_FROM_FOREST and ("topology", key) not in self._states:
+            tin, size, child_of, part_of, sources, loops = self._cuts()
+            part = part_of[bus]
+            mine = sources.get(part)
+            if not mine:
+                return False
+            cuts = [(tin[child_of[b]], tin[child_of[b]] + size[child_of[b]]) for b in key.opened if child_of[b] >= 0]
+
+            def piece(x):  # the innermost cut around preorder number x (-1: none, the part's own piece)
+                inner, start = -1, -1
+                for number, (lo, hi) in enumerate(cuts):
+                    if lo <= x < hi and lo > start:
+                        inner, start = number, lo
+                return inner
+
+            root = {}
+
+            def find(x):
+                while root.get(x, x) != x:
+                    x = root[x]
+                return x
+
+            for branch, a, b in loops.get(part, ()):
+                if branch not in key.opened:
+                    pa, pb = find(piece(a)), find(piece(b))
+                    if pa != pb:
+                        root[max(pa, pb)] = min(pa, pb)
+            own = find(piece(tin[bus]))
+            return any(find(piece(s)) == own for s in mine)
+        energized = self._topology(key)[3]
+        return bool(energized[self.n if key.split is not None else bus])

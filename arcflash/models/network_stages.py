@@ -25,11 +25,11 @@ from dataclasses import dataclass
 
 import numpy as np
 import scipy.sparse as sp
-from scipy.sparse.csgraph import connected_components, shortest_path
+from scipy.sparse.csgraph import connected_components
 
 from .network import admittance_matrix, base_current_ka
 from .network_factors import PartsLU, remembered_lu, solve_each
-from .network_forest import SpanningForest
+from .network_forest import ForestQueries, SpanningForest
 
 __all__ = ["NetworkStates", "SpanningForest", "StageFaults", "StateKey"]
 
@@ -40,9 +40,6 @@ BASE_COLUMNS_KEPT = 160
 #: Branches of smaller impedance (closed switches, 1e-6 pu) are not removed by a low-rank
 #: update: the update's small matrix would lose most of its digits; the state is factorised [pu].
 LOW_RANK_MIN_Z_PU = 1e-4
-#: States of at most this many opened branches are answered by :meth:`NetworkStates.reaches_source` from the
-#: spanning forest (each opening a cut; more: the state's parts are found once and kept) [-].
-MAX_CUTS_FROM_FOREST = 4
 @dataclass(frozen=True)
 class StateKey:
     """A network state: opened branches, motors ended, line-side split.
@@ -78,7 +75,7 @@ class StageFaults:
     device_current_ka: np.ndarray
 
 
-class NetworkStates:
+class NetworkStates(ForestQueries):
     """A per-unit network and its devices, solved in any state (see the module docstring).
 
     Parameters
@@ -303,14 +300,8 @@ class NetworkStates:
     def _update_columns(self, branches):
         """Z u_b of the base state for each branch b, on the rows of b's part (cached) [pu]."""
         index, _ = self._prepared(StateKey())
-
-        def fill(rhs, missing, local):
-            cols = np.arange(len(missing))
-            rhs[local[index[self.branch_from[missing]]], cols] += 1.0
-            rhs[local[index[self.branch_to[missing]]], cols] -= 1.0
-
         return np.column_stack(self._cached_columns("update_columns", list(branches),
-                                                    lambda b: index[self.branch_from[b]], fill))
+                                                    lambda b: index[self.branch_from[b]], self._update_fill(index)))
 
     def solve(self, key, fault_bus):
         """Faults at ``fault_bus`` (bus indices), all in state ``key`` (see :meth:`solve_pairs`)."""
@@ -408,6 +399,12 @@ class NetworkStates:
         if in_base:
             self._fill_base(np.array(in_base, dtype=np.intp), col, np.array(points, dtype=np.intp), live_rows,
                             fault_bus, base_columns, b, scale, bolted, current, on)
+        if from_base:  # states one branch (or none) away from the base state: every such group at once
+            single = {g: js for g, js in groups.items() if len(by_row[int(live_rows[js[0]])][1]) <= 1}
+            if single:
+                self._fill_rank_one(single, by_row, col, live_rows, fault_bus, base_columns, b, scale, bolted,
+                                    current, on)
+                groups = {g: js for g, js in groups.items() if g not in single}
         for (key, part), js in groups.items():
             js = np.array(js, dtype=np.intp)
             plan = by_row[int(live_rows[js[0]])][1]
@@ -447,6 +444,63 @@ class NetworkStates:
                 current[rows_js] = i_dev
             else:
                 current[np.ix_(rows_js, idx)] = i_dev
+
+    def _fill_rank_one(self, groups, by_row, col, live_rows, fault_bus, base_columns, b, scale, bolted, current, on):
+        """Faults ``groups`` ((state, part) -> positions) in states that differ from the base state by one
+        opened branch or none (their plans), all at once: each fault's base column (``base_columns``, on its
+        part's rows) updated by its branch (Woodbury, rank one), element by element as :meth:`_fill` does
+        for one group; faults whose parts differ in size are taken size by size."""
+        index, _ = self._prepared(StateKey())
+        local = self._base_local()
+        f_all, t_all = self.branch_from, self.branch_to
+        faults, branch, pairs_fault, pairs_device = [], [], [], []
+        for (key, part), js in groups.items():
+            plan = by_row[int(live_rows[js[0]])][1]
+            f, _, closed, energized, label = self._topology(key)
+            idx = np.flatnonzero(closed[b] & (label[f[b]] == part) & energized[f[b]])
+            for j in js:
+                pairs_fault.append(np.full(idx.size, len(faults), dtype=np.intp))
+                pairs_device.append(idx)
+                faults.append(j)
+                branch.append(plan[0] if plan else -1)
+        faults, branch = np.array(faults, dtype=np.intp), np.array(branch, dtype=np.intp)
+        pair_fault, pair_device = np.concatenate(pairs_fault), np.concatenate(pairs_device)
+        sizes = np.array([base_columns[j].size for j in faults.tolist()], dtype=np.intp)
+        for size in np.unique(sizes).tolist():
+            mine = np.flatnonzero(sizes == size)
+            z = np.stack([base_columns[j] for j in faults[mine].tolist()])  # one row per fault
+            point = local[col[faults[mine]]]
+            updated = np.flatnonzero(branch[mine] >= 0)
+            if updated.size:
+                opened = branch[mine][updated]
+                w = np.stack(self._cached_columns("update_columns", opened.tolist(), lambda x: index[f_all[x]],
+                                                  self._update_fill(index)))
+                rows = np.arange(updated.size)
+                small = -self.branch_z_pu[opened] + (w[rows, local[index[f_all[opened]]]]
+                                                    - w[rows, local[index[t_all[opened]]]])
+                ratio = w[rows, point[updated]] / small
+                z[updated] = z[updated] - w * ratio[:, None]
+            i_fault = self.voltage_factor / z[np.arange(mine.size), point]  # [pu]
+            rows_js = live_rows[faults[mine]]
+            on[rows_js] = True
+            bolted[rows_js] = np.abs(i_fault) * base_current_ka(self.s_base_mva, self.base_kv[fault_bus[rows_js]])
+            # |I_d| = |Z[f, k] - Z[t, k]| |I_k| / |z_d| in the device's own kV, for each fault's devices
+            position = np.full(faults.size, -1, dtype=np.intp)
+            position[mine] = np.arange(mine.size)
+            pick = np.flatnonzero(position[pair_fault] >= 0)
+            at, d = position[pair_fault[pick]], pair_device[pick]
+            i_dev = np.abs(z[at, local[index[f_all[b[d]]]]] - z[at, local[index[t_all[b[d]]]]])
+            i_dev *= np.abs(i_fault)[at]
+            i_dev *= scale[d]
+            current[rows_js[at], d] = i_dev
+
+    def _update_fill(self, index):
+        """Right-hand sides of the update columns Z u_b (see :meth:`_update_columns`)."""
+        def fill(rhs, missing, local):
+            cols = np.arange(len(missing))
+            rhs[local[index[self.branch_from[missing]]], cols] += 1.0
+            rhs[local[index[self.branch_to[missing]]], cols] -= 1.0
+        return fill
 
     def _fill_base(self, js, col, points, live_rows, fault_bus, base_columns, b, scale, bolted, current, on):
         """Faults ``js`` in the base state, every part at once: each fault's column on the rows of its own part
@@ -489,69 +543,3 @@ class NetworkStates:
                 local[rows] = np.arange(rows.size)
             self._states["base_local"] = local
         return self._states["base_local"]
-
-    def hops_from(self, bus):
-        """Number of branches between ``bus`` and every bus, all branches closed (cached) [-]."""
-        cache = self._states.setdefault("hops", {})
-        if bus not in cache:
-            graph = sp.coo_matrix((np.ones(self.branch_from.size), (self.branch_from, self.branch_to)),
-                                  shape=(self.n, self.n))
-            cache[bus] = shortest_path(graph, directed=False, unweighted=True, indices=bus)
-        return cache[bus]
-
-    def _cuts(self):
-        """What :meth:`reaches_source` reads for a few openings, as Python lists (cached): the forest's
-        preorder number and subtree size of each node, the child node of each forest branch, the part of
-        each node, and per part the preorder numbers of its sources and (branch, preorder numbers of the
-        ends) of its branches outside the forest."""
-        if "cuts" not in self._states:
-            forest = self._forest()
-            sources, loops = {}, {}
-            for node in self.source_bus.tolist():
-                sources.setdefault(int(forest.base[node]), []).append(int(forest.tin[node]))
-            ends = zip(forest.others.tolist(), forest.branch_from[forest.others].tolist(),
-                       forest.branch_to[forest.others].tolist())
-            for branch, a, b in ends:
-                loops.setdefault(int(forest.base[a]), []).append((branch, int(forest.tin[a]), int(forest.tin[b])))
-            self._states["cuts"] = (forest.tin.tolist(), forest.size.tolist(), forest.child_of.tolist(),
-                                    forest.base.tolist(), sources, loops)
-        return self._states["cuts"]
-
-    def reaches_source(self, key, bus):
-        """Whether a source still reaches ``bus`` (the split node when the state splits it) [-].
-
-        A few branches opened (an arc's openings) are answered from the spanning forest alone: each opened
-        forest branch cuts off the subtree below it (an interval of the preorder numbering), so a node's
-        piece is the innermost cut around it; the closed branches outside the forest join pieces again
-        (a small union of pieces); the bus is fed if a source lies in a piece joined to its own."""
-        if key.split is None and len(key.opened) <= MAX_CUTS_FROM_FOREST and ("topology", key) not in self._states:
-            tin, size, child_of, part_of, sources, loops = self._cuts()
-            part = part_of[bus]
-            mine = sources.get(part)
-            if not mine:
-                return False
-            cuts = [(tin[child_of[b]], tin[child_of[b]] + size[child_of[b]]) for b in key.opened if child_of[b] >= 0]
-
-            def piece(x):  # the innermost cut around preorder number x (-1: none, the part's own piece)
-                inner, start = -1, -1
-                for number, (lo, hi) in enumerate(cuts):
-                    if lo <= x < hi and lo > start:
-                        inner, start = number, lo
-                return inner
-
-            root = {}
-
-            def find(x):
-                while root.get(x, x) != x:
-                    x = root[x]
-                return x
-
-            for branch, a, b in loops.get(part, ()):
-                if branch not in key.opened:
-                    pa, pb = find(piece(a)), find(piece(b))
-                    if pa != pb:
-                        root[max(pa, pb)] = min(pa, pb)
-            own = find(piece(tin[bus]))
-            return any(find(piece(s)) == own for s in mine)
-        energized = self._topology(key)[3]
-        return bool(energized[self.n if key.split is not None else bus])

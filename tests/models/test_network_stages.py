@@ -35,6 +35,32 @@ def test_update_equals_fresh_factorisation(tmp_path, scenario):
     assert updated.factorisations == 1 and fresh.factorisations > 10  # one factorisation serves every state
 
 
+@pytest.mark.parametrize("scenario", ["normal", "ties-closed"])
+def test_one_branch_updates_solved_together_equal_each_alone_and_a_fresh_factorisation(tmp_path, scenario):
+    # States one opened branch away from the base state are updated all at once, mixed with base-state and
+    # multi-branch faults in one call: each fault must get the bits it gets alone, and the currents of
+    # factorising its state itself.
+    site = arcflash.load_site(synthetic_site(tmp_path / "s", 300, ties=6, substation_size=60))
+    net = build_network(site, site.scenario(scenario))
+    together, fresh = network_states(site, net), network_states(site, net)
+    fresh._update_plan = lambda key: None
+    rng = np.random.default_rng(5)
+    branches = net.device_branch[rng.choice(net.device_branch.size, 30, replace=False)].tolist()
+    keys = [StateKey(frozenset({b})) for b in branches] + [StateKey()] * 5
+    keys += [StateKey(frozenset(branches[k:k + 2])) for k in range(0, 10, 2)]
+    buses = rng.choice(len(net.bus_ids), len(keys))
+    batch = together.solve_pairs(keys, buses)
+    for k, (key, bus) in enumerate(zip(keys, buses)):
+        alone = network_states(site, net).solve_pairs([key], [bus])
+        assert batch.energized[k] == alone.energized[0]
+        assert batch.bolted_ka[k] == alone.bolted_ka[0]
+        assert (batch.device_current_ka[k] == alone.device_current_ka[0]).all()
+        other = fresh.solve(key, [bus])
+        np.testing.assert_allclose(batch.bolted_ka[k], other.bolted_ka[0], rtol=1e-7)
+        scale = max(other.bolted_ka.max(), 1.0)
+        assert np.abs(batch.device_current_ka[k] - other.device_current_ka[0]).max() <= 1e-7 * scale * 1000
+
+
 def test_line_side_split_moves_the_fault_off_the_bus(tmp_path):
     # A state that splits a transformer branch's end off its secondary bus: the fault on the split node is
     # fed through the transformer only; the bus (with its motors) no longer feeds it.
