@@ -21,6 +21,7 @@ import scipy.sparse as sp
 from scipy.sparse.csgraph import breadth_first_order, connected_components
 from scipy.sparse.linalg import splu
 
+from .network_loops import loop_rows, parts_alike
 from .network_radial import RadialNetwork, edge_between, joined_at
 
 _SQRT3 = float(np.sqrt(3.0))
@@ -392,27 +393,29 @@ def _tree_plus_loops(sub, merged, device_branch, live, voltage_factor, min_share
     i, j = sub.f[bdev], sub.t[bdev]
     all_loops = np.flatnonzero(~in_tree)
     # The update part by part (several parts: the copies of an uncertainty run), each with its own rows,
-    # closing edges and devices, so that a part's arithmetic is the one it has alone.
+    # closing edges and devices, so that a part's arithmetic is the one it has alone; parts of the same
+    # size (buses, closing edges, devices) are taken together, one array per quantity with a part axis.
     diag = tree.z_kk.copy()
     affected = tree_merged[0][bdev] < 0
-    parts = []
-    for top in np.unique(tree.top[ea[all_loops]]):
-        nodes = np.flatnonzero(tree.top == top)
-        local = np.full(sub.m, -1, dtype=np.intp)
-        local[nodes] = np.arange(nodes.size)
-        mine = np.flatnonzero(tree.top[ea[all_loops]] == top)
-        loops = all_loops[mine]
+    local = np.full(sub.m, -1, dtype=np.intp)  # each bus's position within its part
+    batches = []
+    for nodes, loops, devices in parts_alike(tree, ea[all_loops], all_loops, i):
+        trees, size = nodes.shape
+        r = loops.shape[1]
+        local[nodes] = np.arange(size)
+        at = np.arange(trees)[:, None]
         a, b = local[ea[loops]], local[eb[loops]]
-        columns = tree.columns(np.concatenate([ea[loops], eb[loops]]), nodes=nodes)  # the part's rows only
-        w = columns[:, :loops.size] - columns[:, loops.size:]  # Z_T U
-        m_inv = np.linalg.inv(np.diag(1.0 / edge_y[loops]) + (w[a] - w[b]))
+        columns = tree.columns(np.concatenate([ea[loops], eb[loops]], axis=1), nodes=nodes)  # each part's rows
+        w = columns[:, :, :r] - columns[:, :, r:]  # Z_T U
+        m = np.zeros((trees, r, r), dtype=complex)
+        m[:, np.arange(r), np.arange(r)] = 1.0 / edge_y[loops]
+        m_inv = np.linalg.inv(m + (w[at, a] - w[at, b]))
         wm = w @ m_inv
-        diag[nodes] = tree.z_kk[nodes] - np.einsum("kc,kc->k", wm, w)
-        devices = np.flatnonzero(tree.top[i] == top)
-        g = (w[local[i[devices]]] - w[local[j[devices]]]) @ m_inv  # one row per device of the part
-        bound = np.abs(1.0 / sub.z[bdev[devices]]) * (np.abs(g) @ np.abs(w).max(axis=0))
+        diag[nodes] = tree.z_kk[nodes] - np.einsum("kc,kc->k", wm.reshape(-1, r), w.reshape(-1, r)).reshape(trees, size)
+        g = (w[at, local[i[devices]]] - w[at, local[j[devices]]]) @ m_inv  # one row per device of each part
+        bound = np.abs(1.0 / sub.z[bdev[devices]]) * (np.abs(g) @ np.abs(w).max(axis=1)[:, :, None])[:, :, 0]
         affected[devices] |= bound >= LOOP_SHARE_TOLERANCE
-        parts.append((nodes, local, w, wm, g, devices))
+        batches.append((nodes, w, wm, g, devices))
     _, (k, d, current, direction) = _radial(sub, tree_merged, device_branch, live[~affected], voltage_factor,
                                             min_share, None if floor is None else floor[~affected], tree=tree)
     out = [[k], [d], [current * tree.z_kk[k] / diag[k]], [direction]]
@@ -426,47 +429,19 @@ def _tree_plus_loops(sub, merged, device_branch, live, voltage_factor, min_share
     scale_in = sign * (tree.up[child] - 1.0)
     scale_out = sign * (1.0 / tree.down[child] - 1.0)
     one = affected & (edge_id >= 0) & (np.abs(scale_out) > 1e-100)
-    for nodes, local, w, wm, g, devices in parts:
-        in_part = np.zeros(bdev.size, dtype=bool)
-        in_part[devices] = True
-        row = np.full(bdev.size, -1, dtype=np.intp)
-        row[devices] = np.arange(devices.size)  # each device's row of g
-        for group, single in ((np.flatnonzero(one & in_part), True), (np.flatnonzero(affected & ~one & in_part), False)):
-            for lo in range(0, group.size, BLOCK_COLUMNS // 2):
-                part = group[lo:lo + BLOCK_COLUMNS // 2]
-                half = part.size
-                if single:
-                    tree_diff = tree.columns(child[part], scale_in[part], scale_out[part], nodes=nodes)
-                    diff = tree_diff - w @ g[row[part]].T  # Z[:, i] - Z[:, j]
-                else:
-                    cols = tree.columns(np.concatenate([i[part], j[part]]), nodes=nodes)
-                    diff = cols[:, :half]
-                    diff -= cols[:, half:]
-                    diff -= w @ g[row[part]].T
-                z_b = sub.z[bdev[part]]
-                limit = (min_share * np.abs(z_b)) ** 2
-                kk, dd = np.nonzero(diff.real ** 2 + diff.imag ** 2 >= limit[None, :])
-                picked = diff[kk, dd]
-                at = nodes[kk]  # the faulted buses
-                current_pu = -picked * i_fault[at] / z_b[dd]
-                if single:  # Z_T[k, j] at the picked rows, from the scaled column
-                    c_d = child[part][dd]
-                    inside = tree.in_subtree(c_d, at)
-                    z_c = tree_diff[kk, dd] / np.where(inside, scale_in[part][dd], scale_out[part][dd])
-                    z_p = z_c * np.where(inside, tree.up[c_d], 1.0 / tree.down[c_d])
-                    z_j_tree = np.where(j[part][dd] == c_d, z_c, z_p)
-                else:
-                    z_j_tree = cols[kk, half + dd]
-                # Direction: that of the active power through the branch, Re((V_i + V_j)/2 conj(I_ij)), with
-                # Z[:, i] + Z[:, j] = (Z[:, i] - Z[:, j]) + 2 Z[:, j], Z[k, j] corrected at the picked rows only.
-                z_j = z_j_tree - np.einsum("pc,pc->p", wm[kk], w[local[j[part]]][dd])
-                both = picked + 2.0 * z_j
-                volts = 2.0 * voltage_factor - both * i_fault[at]
-                toward_j = (volts * np.conj(current_pu)).real >= 0.0
-                out[0].append(at)
-                out[1].append(live[part][dd])
-                out[2].append(current_pu)
-                out[3].append(np.where(toward_j, 1, -1))
+    for nodes, w, wm, g, devices in batches:
+        wanted = [(affected[devices] & one[devices], True), (affected[devices] & ~one[devices], False)]
+        # parts with as many devices of each kind are taken together, each part's devices in its own order
+        counts = np.stack([picked.sum(axis=1) for picked, _ in wanted], axis=1)
+        for kind in np.unique(counts, axis=0):
+            same = np.flatnonzero((counts == kind).all(axis=1))
+            for (picked, single), count in zip(wanted, kind.tolist()):
+                if count:
+                    chosen = devices[same][picked[same]].reshape(same.size, count)
+                    rows = np.argsort(~picked[same], axis=1, kind="stable")[:, :count]  # their rows of g
+                    loop_rows(out, tree, sub, nodes[same], w[same], wm[same], g[same], chosen, rows, single,
+                              (i, j, child, scale_in, scale_out, bdev, live), local, i_fault, voltage_factor,
+                              min_share, BLOCK_COLUMNS // 2)
     return diag, tuple(np.concatenate(x) for x in out)
 
 

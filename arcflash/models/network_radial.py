@@ -252,19 +252,38 @@ class RadialNetwork:
 
         With ``nodes`` (the buses of one tree of the forest, every source in it), only their rows, in that
         order (len(nodes) × len(sources)): the other rows are zero, and each row kept is computed as in
-        the whole array.
+        the whole array. With 2-D ``sources`` and ``nodes`` (one row each per tree, G trees with as many
+        buses and sources each; ``scale_in`` and ``scale_out`` shaped like ``sources``), the columns of
+        each tree on its own rows (G × len(nodes[0]) × len(sources[0])), each value as that tree's call
+        alone gives it.
         """
-        n, b = self.parent.size, len(sources)
-        cols = np.arange(b)
-        node = np.asarray(sources, dtype=np.intp)
+        if np.ndim(sources) == 2:
+            return self._columns_of_trees(np.asarray(sources, dtype=np.intp), scale_in, scale_out,
+                                          np.asarray(nodes, dtype=np.intp))
+        cols = np.arange(len(sources))
+        return self._spread(np.asarray(sources, dtype=np.intp), cols, cols, scale_in, scale_out, cols.size, nodes)
+
+    def _columns_of_trees(self, sources, scale_in, scale_out, nodes):
+        """:meth:`columns` of several trees at once (2-D ``sources`` and ``nodes``, see there)."""
+        trees, b = sources.shape
+        flat_in = None if scale_in is None else np.asarray(scale_in).ravel()
+        flat_out = None if scale_out is None else np.asarray(scale_out).ravel()
+        v = self._spread(sources.ravel(), np.arange(sources.size), np.tile(np.arange(b), trees), flat_in,
+                         flat_out, b, nodes.ravel())
+        return v.reshape(trees, nodes.shape[1], b)
+
+    def _spread(self, node, source, cols, scale_in, scale_out, b, nodes):
+        """The columns of sources ``node`` (numbered ``source``, written to columns ``cols``): each source's
+        value walked up to its root, then spread down level by level [pu]."""
+        n = self.parent.size
         value = self.z_kk[node].copy()
         path = [(node, cols, value if scale_in is None else value * scale_in)]  # sources, ancestors, values
-        while cols.size:
+        while source.size:
             live = self.parent[node] >= 0
-            node, value, cols = node[live], value[live], cols[live]
+            node, value, cols, source = node[live], value[live], cols[live], source[live]
             value = value * self.up[node]
             node = self.parent[node]
-            path.append((node, cols, value if scale_out is None else value * scale_out[cols]))
+            path.append((node, cols, value if scale_out is None else value * scale_out[source]))
         path_node = np.concatenate([p[0] for p in path])
         path_col = np.concatenate([p[1] for p in path])
         path_value = np.concatenate([p[2] for p in path])

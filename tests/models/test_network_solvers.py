@@ -227,3 +227,72 @@ def test_two_separate_networks_solved_together_equal_each_solved_alone(scenario,
         assert np.array_equal(key[mine], _key(alone)[0][theirs])
         assert np.array_equal(both.device_current_ka[rows][mine], alone.device_current_ka[theirs])
         assert np.array_equal(both.device_direction[rows][mine], alone.device_direction[theirs])
+
+
+def test_tree_columns_of_several_trees_at_once_equal_each_tree_alone():
+    # RadialNetwork.columns with one row of sources and buses per tree (parts alike of a stacked site, their
+    # loop updates taken together) must give each tree's columns bit for bit as its own call does.
+    from arcflash.models.network_radial import RadialNetwork
+
+    rng = np.random.default_rng(8)
+    size, trees = 30, 4
+    n = size * trees
+    a, b = [], []
+    for t in range(trees):
+        for k in range(1, size):
+            a.append(t * size + int(rng.integers(0, k)))
+            b.append(t * size + k)
+    a, b = np.array(a), np.array(b)
+    edge_y = 1.0 / (rng.uniform(0.01, 0.2, a.size) + 1j * rng.uniform(0.05, 0.5, a.size))
+    shunt = np.where(rng.random(n) < 0.3, 1.0 / (0.5 + 3j), 0.0)
+    shunt[::size] = 1.0 / (0.001 + 0.01j)
+    tree = RadialNetwork(n, a, b, edge_y, shunt, list(range(0, n, size)))
+    nodes = np.arange(n).reshape(trees, size)
+    sources = np.stack([rng.choice(row, 5, replace=False) for row in nodes])
+    s_in, s_out = rng.normal(size=(2,) + sources.shape) + 1j * rng.normal(size=(2,) + sources.shape)
+    for scales in ((), (s_in, s_out)):
+        together = tree.columns(sources, *scales, nodes=nodes)
+        for t in range(trees):
+            alone = tree.columns(sources[t], *(s[t] for s in scales), nodes=nodes[t])
+            assert np.array_equal(together[t], alone)
+
+
+def test_parts_unlike_and_alike_solved_together_equal_each_solved_alone(tmp_path):
+    # Parts with loops are updated in groups of parts alike in size (an uncertainty run's copies); parts of
+    # other sizes, and copies whose values differ (so that other devices come near their loops), must each
+    # get the results they have alone, bit for bit.
+    demo = arcflash.load_site(DEMO)
+    nets = [build_network(demo, demo.scenario("tie-closed"))]
+    synthetic = arcflash.load_site(synthetic_site(tmp_path / "s", 120, ties=3, substation_size=40))
+    nets.append(build_network(synthetic, synthetic.scenario("ties-closed")))
+    rng = np.random.default_rng(4)
+    parts = [nets[0], nets[1], nets[0], nets[0], nets[1]]
+    values = [net.branch_z_pu * (1.0 if k < 2 else 10.0 ** rng.uniform(-1.0, 1.0, net.branch_z_pu.size))
+              for k, net in enumerate(parts)]
+    values[3] = nets[0].branch_z_pu * np.where(np.isin(nets[0].branch_ids, demo.scenario("tie-closed").close), 1e9, 1.0)
+    offsets = np.cumsum([0] + [len(net.base_kv) for net in parts])
+    branch_offsets = np.cumsum([0] + [len(net.branch_from) for net in parts])
+    device_offsets = np.cumsum([0] + [len(net.device_branch) for net in parts])
+
+    def joined(name, shift=None):
+        arrays = [getattr(net, name) for net in parts]
+        if shift is not None:
+            arrays = [x + s for x, s in zip(arrays, shift)]
+        return np.concatenate(arrays)
+
+    both = network.solve_faults(joined("base_kv"), joined("branch_from", offsets), joined("branch_to", offsets),
+                                 np.concatenate(values), joined("shunt_bus", offsets), joined("shunt_z_pu"),
+                                 joined("source_bus", offsets), joined("device_branch", branch_offsets),
+                                 joined("device_kv"))
+    for k, net in enumerate(parts):
+        alone = network.solve_faults(net.base_kv, net.branch_from, net.branch_to, values[k], net.shunt_bus,
+                                     net.shunt_z_pu, net.source_bus, net.device_branch, net.device_kv)
+        buses = slice(offsets[k], offsets[k + 1])
+        assert np.array_equal(both.bolted_ka[buses], alone.bolted_ka)
+        assert np.array_equal(both.z_thevenin_pu[buses], alone.z_thevenin_pu, equal_nan=True)
+        rows = (both.device_fault_bus >= offsets[k]) & (both.device_fault_bus < offsets[k + 1])
+        key = (both.device_fault_bus[rows] - offsets[k]) * 1_000_000 + both.device[rows] - device_offsets[k]
+        mine, (theirs_key, theirs) = np.argsort(key), _key(alone)
+        assert np.array_equal(key[mine], theirs_key[theirs])
+        assert np.array_equal(both.device_current_ka[rows][mine], alone.device_current_ka[theirs])
+        assert np.array_equal(both.device_direction[rows][mine], alone.device_direction[theirs])
