@@ -38,6 +38,7 @@ import numpy as np
 import pandas as pd
 
 from ..models import nfpa70e
+from ..site.schema import Quantity
 
 
 @dataclass(frozen=True)
@@ -119,7 +120,7 @@ def _at_band_position(device, position):
     the study's device bank reads (:meth:`~arcflash.study.device_bank.DeviceBank.clearing_time_s`)."""
     if device.trip_unit is None:
         moved = device.replaced()
-        moved._curve_band_position = float(position)
+        moved.__pydantic_private__["_curve_band_position"] = float(position)  # its own dict (replaced)
         return moved
     unit = device.trip_unit
     p, d = 1.0 + position * unit.pickup_tolerance, 1.0 + position * unit.time_tolerance
@@ -146,8 +147,6 @@ def sample_design(inputs, samples, seed):
 
 
 def _quantity(text_value, unit):
-    from ..site.schema import Quantity
-
     quantity = Quantity(f"{text_value!r} {unit}")
     quantity.value, quantity.unit = float(text_value), unit
     return quantity
