@@ -453,21 +453,23 @@ class NetworkStates(ForestQueries):
         index, _ = self._prepared(StateKey())
         local = self._base_local()
         f_all, t_all = self.branch_from, self.branch_to
-        faults, branch, pairs_fault, pairs_device = [], [], [], []
+        ends_f, ends_t = local[index[f_all[b]]], local[index[t_all[b]]]  # each device's rows in its part
+        faults, branch, pairs = [], [], []  # pairs: (fault, device) of each fault's devices
         for (key, part), js in groups.items():
             plan = by_row[int(live_rows[js[0]])][1]
             f, _, closed, energized, label = self._topology(key)
             idx = np.flatnonzero(closed[b] & (label[f[b]] == part) & energized[f[b]])
             for j in js:
-                pairs_fault.append(np.full(idx.size, len(faults), dtype=np.intp))
-                pairs_device.append(idx)
+                pairs.append((len(faults), idx))
                 faults.append(j)
                 branch.append(plan[0] if plan else -1)
         faults, branch = np.array(faults, dtype=np.intp), np.array(branch, dtype=np.intp)
-        pair_fault, pair_device = np.concatenate(pairs_fault), np.concatenate(pairs_device)
+        pair_fault = np.repeat([k for k, _ in pairs], [idx.size for _, idx in pairs])
+        pair_device = np.concatenate([idx for _, idx in pairs])
         sizes = np.array([base_columns[j].size for j in faults.tolist()], dtype=np.intp)
-        for size in np.unique(sizes).tolist():
-            mine = np.flatnonzero(sizes == size)
+        kinds = np.unique(sizes)
+        for size in kinds.tolist():
+            mine = np.flatnonzero(sizes == size) if kinds.size > 1 else np.arange(faults.size)
             z = np.stack([base_columns[j] for j in faults[mine].tolist()])  # one row per fault
             point = local[col[faults[mine]]]
             updated = np.flatnonzero(branch[mine] >= 0)
@@ -485,11 +487,14 @@ class NetworkStates(ForestQueries):
             on[rows_js] = True
             bolted[rows_js] = np.abs(i_fault) * base_current_ka(self.s_base_mva, self.base_kv[fault_bus[rows_js]])
             # |I_d| = |Z[f, k] - Z[t, k]| |I_k| / |z_d| in the device's own kV, for each fault's devices
-            position = np.full(faults.size, -1, dtype=np.intp)
-            position[mine] = np.arange(mine.size)
-            pick = np.flatnonzero(position[pair_fault] >= 0)
-            at, d = position[pair_fault[pick]], pair_device[pick]
-            i_dev = np.abs(z[at, local[index[f_all[b[d]]]]] - z[at, local[index[t_all[b[d]]]]])
+            if kinds.size > 1:
+                position = np.full(faults.size, -1, dtype=np.intp)
+                position[mine] = np.arange(mine.size)
+                pick = np.flatnonzero(position[pair_fault] >= 0)
+                at, d = position[pair_fault[pick]], pair_device[pick]
+            else:
+                at, d = pair_fault, pair_device
+            i_dev = np.abs(z[at, ends_f[d]] - z[at, ends_t[d]])
             i_dev *= np.abs(i_fault)[at]
             i_dev *= scale[d]
             current[rows_js[at], d] = i_dev
