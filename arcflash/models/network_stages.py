@@ -40,6 +40,8 @@ BASE_COLUMNS_KEPT = 160
 #: Branches of smaller impedance (closed switches, 1e-6 pu) are not removed by a low-rank
 #: update: the update's small matrix would lose most of its digits; the state is factorised [pu].
 LOW_RANK_MIN_Z_PU = 1e-4
+
+
 @dataclass(frozen=True)
 class StateKey:
     """A network state: opened branches, motors ended, line-side split.
