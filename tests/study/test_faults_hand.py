@@ -125,6 +125,7 @@ def test_remembered_branches_follow_a_replaced_element():
     longer = _quantity(original.length_ft * 2.0, "ft")
     site.cables[ident] = original.model_copy(update={"length": longer})
     after = build_network(site, scenario)
-    assert after.branch_z_pu[k] == pytest.approx(2.0 * before.branch_z_pu[k], rel=1e-12)  # common practice: z ∝ length
+    # a cable's impedance is proportional to its length (common practice)
+    assert after.branch_z_pu[k] == pytest.approx(2.0 * before.branch_z_pu[k], rel=1e-12)
     site.cables[ident] = original
     assert build_network(site, scenario).branch_z_pu[k] == before.branch_z_pu[k]
