@@ -214,11 +214,12 @@ def clearing_paths(site, scenario, faults):
         reached_src.append(np.full(nodes.size, number, dtype=np.intp))
     bus, dev, src, reached_bus, reached_src = (np.concatenate(x) if x else np.array([], dtype=np.intp)
                                                for x in (bus_parts, dev_parts, src_parts, reached_bus, reached_src))
-    bus_index = {b: i for i, b in enumerate(net.bus_ids)}
-    device_index = {d: i for i, d in enumerate(net.device_ids)}
+    listed = [(b, item.arc_not_cleared_by) for b, item in site.buses.items() if item.arc_not_cleared_by]
+    bus_index = {b: i for i, b in enumerate(net.bus_ids)} if listed else {}
+    device_index = {d: i for i, d in enumerate(net.device_ids)} if listed else {}
     excluded_by_bus, line_side = {}, {}
-    for b, item in site.buses.items():
-        for d in item.arc_not_cleared_by:
+    for b, devices in listed:
+        for d in devices:
             if d in device_index:
                 excluded_by_bus.setdefault(bus_index[b], set()).add(device_index[d])
                 if site.devices[d].at_bus == b:  # the bus's own device: the arc is on its line side
