@@ -44,12 +44,17 @@ class Sheet:
     columns: list = field(default_factory=list)
 
 
-def _cells(column, style):
-    """The cells of a column as XML, one string per row."""
+#: Rows of a sheet formatted and written at once (the sheet is streamed into the zip, a block at a time) [-].
+ROWS_AT_ONCE = 4096
+
+
+def _cells(column, style, lo, hi):
+    """The cells of rows ``lo:hi`` of a column as XML, one string per row."""
+    values = column.values[lo:hi]
     if column.number_format is None:
         known = {}
         out = []
-        for value in column.values:
+        for value in values:
             if value is None or (isinstance(value, float) and math.isnan(value)) or value == "":
                 out.append("<c/>")
                 continue
@@ -61,22 +66,26 @@ def _cells(column, style):
     empty = f'<c s="{style}"/>'
     start = f'<c s="{style}"><v>'
     return [empty if value is None or value != value or value in (math.inf, -math.inf)
-            else f"{start}{value!r}</v></c>" for value in column.values]
+            else f"{start}{value!r}</v></c>" for value in values]
 
 
-def _sheet_xml(sheet, styles):
+def _write_sheet(stream, sheet, styles):
+    """A sheet's XML written to ``stream`` (bytes), its rows :data:`ROWS_AT_ONCE` at a time: a large table
+    never stands in memory as text all at once."""
     heading = "<row>" + "".join(f'<c t="inlineStr" s="1"><is><t>{_text(c.heading)}</t></is></c>'
                                 for c in sheet.columns) + "</row>"
-    columns = [_cells(c, styles[c.number_format]) for c in sheet.columns]
-    rows = ["<row>" + "".join(cells) + "</row>" for cells in zip(*columns)] if columns else []
     widths = "".join(f'<col min="{i}" max="{i}" width="{c.width:g}" customWidth="1"/>'
                      for i, c in enumerate(sheet.columns, start=1))
-    return ('<?xml version="1.0" encoding="UTF-8" standalone="yes"?>\n'
-            '<worksheet xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main">'
-            '<sheetViews><sheetView workbookViewId="0"><pane ySplit="1" topLeftCell="A2" activePane="bottomLeft" '
-            'state="frozen"/></sheetView></sheetViews>'
-            + (f"<cols>{widths}</cols>" if widths else "") + "<sheetData>" + heading + "".join(rows)
-            + "</sheetData></worksheet>")
+    stream.write(('<?xml version="1.0" encoding="UTF-8" standalone="yes"?>\n'
+                  '<worksheet xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main">'
+                  '<sheetViews><sheetView workbookViewId="0"><pane ySplit="1" topLeftCell="A2" activePane="bottomLeft" '
+                  'state="frozen"/></sheetView></sheetViews>'
+                  + (f"<cols>{widths}</cols>" if widths else "") + "<sheetData>" + heading).encode("utf-8"))
+    count = len(sheet.columns[0].values) if sheet.columns else 0
+    for lo in range(0, count, ROWS_AT_ONCE):
+        columns = [_cells(c, styles[c.number_format], lo, lo + ROWS_AT_ONCE) for c in sheet.columns]
+        stream.write("".join("<row>" + "".join(cells) + "</row>" for cells in zip(*columns)).encode("utf-8"))
+    stream.write(b"</sheetData></worksheet>")
 
 
 def _styles_xml(formats):
@@ -137,4 +146,5 @@ def write_xlsx(path, sheets):
             "</Relationships>"))
         archive.writestr("xl/styles.xml", _styles_xml(formats))
         for i, sheet in enumerate(sheets, start=1):
-            archive.writestr(f"xl/worksheets/sheet{i}.xml", _sheet_xml(sheet, styles))
+            with archive.open(f"xl/worksheets/sheet{i}.xml", "w") as stream:
+                _write_sheet(stream, sheet, styles)
