@@ -25,12 +25,20 @@ def remembered_lu(n, indptr, indices, data, memo, matrix=None):
     return lu
 
 
+#: Factors of at least this many rows solve their right-hand sides together (SuperLU's several-column solve,
+#: about 1.3 times faster at 10,000 buses). Such a part is too large to share an uncertainty run's stack with
+#: another copy (arcflash.study.stacking.STACK_BUSES: a copy of more than half of it is stacked alone, tested),
+#: so which columns it solves together depends only on its own arcs, never on how the samples are split [-].
+COLUMNS_TOGETHER_ROWS = 2100
+
+
 def solve_each(lu, rhs):
     """``lu.solve(rhs)`` column by column: each column's arithmetic is then its own, whatever else is solved
     with it (SuperLU's solve of several right-hand sides at once rounds a column differently from its solve
     alone, so a batch's make-up would reach the last digits of the results: a copy of a stacked site would
-    differ from its sample studied alone, a split of the samples from another)."""
-    if rhs.ndim == 1:
+    differ from its sample studied alone, a split of the samples from another). Factors of at least
+    :data:`COLUMNS_TOGETHER_ROWS` rows solve the columns together."""
+    if rhs.ndim == 1 or lu.shape[0] >= COLUMNS_TOGETHER_ROWS:
         return lu.solve(np.ascontiguousarray(rhs))
     out = np.empty(rhs.shape, dtype=np.result_type(rhs.dtype, complex))
     for column in range(rhs.shape[1]):

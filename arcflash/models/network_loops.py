@@ -56,7 +56,9 @@ def loop_rows(out, tree, sub, nodes, w, wm, g, chosen, rows, single, arrays, loc
             diff -= correction
         z_b = sub.z[bdev[part]]
         limit = (min_share * np.abs(z_b)) ** 2
-        gg, kk, dd = np.nonzero(diff.real ** 2 + diff.imag ** 2 >= limit[:, None, :])
+        square = diff.real ** 2
+        square += diff.imag ** 2
+        gg, kk, dd = np.nonzero(square >= limit[:, None, :])
         picked = diff[gg, kk, dd]
         bus = nodes[gg, kk]  # the faulted buses
         current_pu = -picked * i_fault[bus] / z_b[gg, dd]

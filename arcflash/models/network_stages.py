@@ -28,7 +28,7 @@ import scipy.sparse as sp
 from scipy.sparse.csgraph import connected_components
 
 from .network import admittance_matrix, base_current_ka
-from .network_factors import PartsLU, remembered_lu, solve_each
+from .network_factors import COLUMNS_TOGETHER_ROWS, PartsLU, remembered_lu, solve_each
 from .network_forest import ForestQueries, SpanningForest
 
 __all__ = ["NetworkStates", "SpanningForest", "StageFaults", "StateKey"]
@@ -424,6 +424,8 @@ class NetworkStates(ForestQueries):
                 rhs = w[position[col[js]]].T
                 if len(plan) == 1:  # one branch: a quotient and a product per entry, element by element
                     z = z - w * (rhs / small[0, 0])
+                elif w.shape[0] >= COLUMNS_TOGETHER_ROWS:  # a part alone in its stack: its batch is its own
+                    z = z - w @ np.linalg.solve(small, rhs)
                 else:  # each fault on its own: a batch's make-up would reach the last digits of its sums
                     z = z - np.column_stack([w @ np.linalg.solve(small, rhs[:, [c]]) for c in range(js.size)])
             f, t, closed, energized, label = self._topology(key)
@@ -534,9 +536,9 @@ class NetworkStates(ForestQueries):
         fault = np.repeat(np.arange(js.size), count)
         d = usable[np.repeat(lo, count) + np.arange(fault.size) - np.repeat(np.cumsum(count) - count, count)]
         start = offsets[fault]
-        ends_f, ends_t = local[index[self.branch_from[b[d]]]], local[index[self.branch_to[b[d]]]]
+        ends_f, ends_t = local[index[self.branch_from[b]]], local[index[self.branch_to[b]]]  # per device
         # |I_d| = |Z[f, k] - Z[t, k]| |I_k| / |z_d| in the device's own kV
-        i_dev = np.abs(flat[start + ends_f] - flat[start + ends_t])
+        i_dev = np.abs(flat[start + ends_f[d]] - flat[start + ends_t[d]])
         i_dev *= np.abs(i_fault)[fault]
         i_dev *= scale[d]
         current[rows_js[fault], d] = i_dev

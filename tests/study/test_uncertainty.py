@@ -256,6 +256,21 @@ def test_clearing_thresholds_taken_several_halvings_at_a_time_equal_one_halving_
     assert (above <= within_s).all()  # just above its threshold a device clears in time
 
 
+def test_a_part_that_solves_its_columns_together_is_never_stacked_with_another_copy():
+    # Factors of at least COLUMNS_TOGETHER_ROWS rows solve several right-hand sides in one SuperLU call,
+    # whose rounding depends on the batch; that is safe only because such a part's copy is stacked alone
+    # (its batches are then those of its sample studied alone). A copy's parts have at most its buses plus
+    # the one node a line-side split adds.
+    from types import SimpleNamespace
+
+    from arcflash.models.network_factors import COLUMNS_TOGETHER_ROWS
+    from arcflash.study.stacking import stack_size
+
+    assert stack_size(SimpleNamespace(buses=range(COLUMNS_TOGETHER_ROWS - 1))) == 1
+    largest_shared = max(n for n in range(1, COLUMNS_TOGETHER_ROWS) if stack_size(SimpleNamespace(buses=range(n))) > 1)
+    assert largest_shared + 1 < COLUMNS_TOGETHER_ROWS
+
+
 def test_a_site_with_loops_gives_the_same_result_whatever_the_chunks(tmp_path):
     # the synthetic site with ties closed (staged arcs on loops, states solved from the base state with
     # low-rank updates): a sample's arcs fall into different batches with chunks of 24, 5 or 1 samples, and
