@@ -27,12 +27,19 @@ def _assert_same_currents(a, b):
     assert np.abs(a.device_current_ka - b.device_current_ka).max() <= 1e-7 * scale * 1000
 
 
-@pytest.mark.parametrize("scenario", ["normal", "ties-closed"])
-def test_update_equals_fresh_factorisation(tmp_path, scenario):
-    site = arcflash.load_site(synthetic_site(tmp_path / "s", 400, ties=6, substation_size=80))
+def _solved_two_ways(folder, scenario, buses, substation_size):
+    """A synthetic site's network in ``scenario`` and two NetworkStates of it: one updating states from the
+    base state's factors, one factorising every state on its own."""
+    site = arcflash.load_site(synthetic_site(folder, buses, ties=6, substation_size=substation_size))
     net = build_network(site, site.scenario(scenario))
     updated, fresh = network_states(site, net), network_states(site, net)
     fresh._update_plan = lambda key: None  # every state factorised on its own
+    return site, net, updated, fresh
+
+
+@pytest.mark.parametrize("scenario", ["normal", "ties-closed"])
+def test_update_equals_fresh_factorisation(tmp_path, scenario):
+    _, net, updated, fresh = _solved_two_ways(tmp_path / "s", scenario, 400, 80)
     rng = np.random.default_rng(7)
     for _ in range(12):
         opened = frozenset(int(b) for b in net.device_branch[rng.choice(net.device_branch.size, 3, replace=False)])
@@ -46,10 +53,7 @@ def test_one_branch_updates_solved_together_equal_each_alone_and_a_fresh_factori
     # States one opened branch away from the base state are updated all at once, mixed with base-state and
     # multi-branch faults in one call: each fault must get the bits it gets alone, and the currents of
     # factorising its state itself.
-    site = arcflash.load_site(synthetic_site(tmp_path / "s", 300, ties=6, substation_size=60))
-    net = build_network(site, site.scenario(scenario))
-    together, fresh = network_states(site, net), network_states(site, net)
-    fresh._update_plan = lambda key: None
+    site, net, together, fresh = _solved_two_ways(tmp_path / "s", scenario, 300, 60)
     rng = np.random.default_rng(5)
     branches = net.device_branch[rng.choice(net.device_branch.size, 30, replace=False)].tolist()
     keys = [StateKey(frozenset({b})) for b in branches] + [StateKey()] * 5
@@ -87,10 +91,7 @@ def test_update_ties_on_parts_without_shunts(tmp_path, scenario):
     import scipy.sparse as sp
     from scipy.sparse.csgraph import breadth_first_order
 
-    site = arcflash.load_site(synthetic_site(tmp_path / "s", 400, ties=6, substation_size=80))
-    net = build_network(site, site.scenario(scenario))
-    updated, fresh = network_states(site, net), network_states(site, net)
-    fresh._update_plan = lambda key: None
+    _, net, updated, fresh = _solved_two_ways(tmp_path / "s", scenario, 400, 80)
     n = len(net.bus_ids)
     graph = sp.coo_matrix((np.ones(net.branch_from.size), (net.branch_from, net.branch_to)), shape=(n, n))
     device_branches = set(int(b) for b in net.device_branch)
