@@ -301,9 +301,18 @@ class NetworkStates(ForestQueries):
 
     def _update_columns(self, branches):
         """Z u_b of the base state for each branch b, on the rows of b's part (cached) [pu]."""
+        return np.column_stack(self._update_column_list(branches))
+
+    def _update_column_list(self, branches):
+        """Z u_b of the base state for each branch b, on the rows of b's part (cached), as a list [pu]."""
         index, _ = self._prepared(StateKey())
-        return np.column_stack(self._cached_columns("update_columns", list(branches),
-                                                    lambda b: index[self.branch_from[b]], self._update_fill(index)))
+
+        def fill(rhs, missing, local):
+            cols = np.arange(len(missing))
+            rhs[local[index[self.branch_from[missing]]], cols] += 1.0
+            rhs[local[index[self.branch_to[missing]]], cols] -= 1.0
+
+        return self._cached_columns("update_columns", list(branches), lambda b: index[self.branch_from[b]], fill)
 
     def solve(self, key, fault_bus):
         """Faults at ``fault_bus`` (bus indices), all in state ``key`` (see :meth:`solve_pairs`)."""
@@ -421,10 +430,8 @@ class NetworkStates(ForestQueries):
                 w = self._update_columns(plan)
                 ends = (position[index[self.branch_from[plan]]], position[index[self.branch_to[plan]]])
                 small = np.diag(-self.branch_z_pu[plan]) + (w[ends[0]] - w[ends[1]])
-                rhs = w[position[col[js]]].T
-                if len(plan) == 1:  # one branch: a quotient and a product per entry, element by element
-                    z = z - w * (rhs / small[0, 0])
-                elif w.shape[0] >= COLUMNS_TOGETHER_ROWS:  # a part alone in its stack: its batch is its own
+                rhs = w[position[col[js]]].T  # two branches or more (one or none: _fill_rank_one)
+                if w.shape[0] >= COLUMNS_TOGETHER_ROWS:  # a part alone in its stack: its batch is its own
                     z = z - w @ np.linalg.solve(small, rhs)
                 else:  # each fault on its own: a batch's make-up would reach the last digits of its sums
                     z = z - np.column_stack([w @ np.linalg.solve(small, rhs[:, [c]]) for c in range(js.size)])
@@ -479,8 +486,7 @@ class NetworkStates(ForestQueries):
             updated = np.flatnonzero(branch[mine] >= 0)
             if updated.size:
                 opened = branch[mine][updated]
-                w = np.stack(self._cached_columns("update_columns", opened.tolist(), lambda x: index[f_all[x]],
-                                                  self._update_fill(index)))
+                w = np.stack(self._update_column_list(opened.tolist()))
                 rows = np.arange(updated.size)
                 small = -self.branch_z_pu[opened] + (w[rows, local[index[f_all[opened]]]]
                                                     - w[rows, local[index[t_all[opened]]]])
@@ -502,14 +508,6 @@ class NetworkStates(ForestQueries):
             i_dev *= np.abs(i_fault)[at]
             i_dev *= scale[d]
             current[rows_js[at], d] = i_dev
-
-    def _update_fill(self, index):
-        """Right-hand sides of the update columns Z u_b (see :meth:`_update_columns`)."""
-        def fill(rhs, missing, local):
-            cols = np.arange(len(missing))
-            rhs[local[index[self.branch_from[missing]]], cols] += 1.0
-            rhs[local[index[self.branch_to[missing]]], cols] -= 1.0
-        return fill
 
     def _fill_base(self, js, col, points, live_rows, fault_bus, base_columns, b, scale, bolted, current, on):
         """Faults ``js`` in the base state, every part at once: each fault's column on the rows of its own part

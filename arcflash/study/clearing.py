@@ -128,8 +128,9 @@ def all_source_paths(net, source_buses):
         arranged = np.lexsort((steps, owner))  # stable: one source's rows step by step, as searched alone
         buses, devices, owner = buses[arranged], devices[arranged], owner[arranged]
         bounds = np.searchsorted(owner, np.arange(roots.size + 1))
-        reached = nodes[np.argsort(root_of[nodes], kind="stable")]  # each source's nodes together, in search order
-        ends = np.searchsorted(np.sort(root_of[nodes]), np.arange(roots.size + 1))
+        by_source = np.argsort(root_of[nodes], kind="stable")  # each source's nodes together, in search order
+        reached = nodes[by_source]
+        ends = np.searchsorted(root_of[reached], np.arange(roots.size + 1))
         for k, number in enumerate(numbers):
             p = part[roots[k]]
             found[number] = (buses[bounds[k]:bounds[k + 1]], devices[bounds[k]:bounds[k + 1]],
