@@ -378,7 +378,8 @@ def _tree_plus_loops(sub, merged, device_branch, live, voltage_factor, min_share
     by the update: one tree column each, scaled on either side of the
     device's tree edge (:meth:`RadialNetwork.columns`), or a column pair
     where the device is not on a tree edge or nothing below it feeds back.
-    ``floor`` prunes the tree's back-feed rows as in :func:`_radial`.
+    ``floor`` prunes back-feed rows as in :func:`_radial`: the tree's, and those of the devices near a loop
+    that stand on a bridge (no closing edge has one end below them) for faults outside their subtree.
     """
     branch_edge, ea, eb, edge_y = merged
     in_tree = _spanning_forest(sub, merged)
@@ -429,6 +430,16 @@ def _tree_plus_loops(sub, merged, device_branch, live, voltage_factor, min_share
     scale_in = sign * (tree.up[child] - 1.0)
     scale_out = sign * (1.0 / tree.down[child] - 1.0)
     one = affected & (edge_id >= 0) & (np.abs(scale_out) > 1e-100)
+    # ``floor`` prunes the back-feed rows (faults outside the child's subtree) of devices on a bridge, as
+    # _radial does for the tree's: a tree edge is a bridge when no closing edge has one end below it.
+    back_floor = None
+    if floor is not None and one.any():
+        back_floor = np.zeros(live.size)
+        edge_devices = np.flatnonzero(one)
+        c = child[edge_devices][:, None]
+        crossing = tree.in_subtree(c, ea[all_loops][None, :]) != tree.in_subtree(c, eb[all_loops][None, :])
+        bridge = edge_devices[~crossing.any(axis=1)]
+        back_floor[bridge] = floor[bridge]
     for nodes, w, wm, g, devices in batches:
         wanted = [(affected[devices] & one[devices], True), (affected[devices] & ~one[devices], False)]
         # parts with as many devices of each kind are taken together, each part's devices in its own order
@@ -441,7 +452,7 @@ def _tree_plus_loops(sub, merged, device_branch, live, voltage_factor, min_share
                     rows = np.argsort(~picked[same], axis=1, kind="stable")[:, :count]  # their rows of g
                     loop_rows(out, tree, sub, nodes[same], w[same], wm[same], g[same], chosen, rows, single,
                               (i, j, child, scale_in, scale_out, bdev, live), local, i_fault, voltage_factor,
-                              min_share, BLOCK_COLUMNS // 2)
+                              min_share, BLOCK_COLUMNS // 2, back_floor if single else None)
     return diag, tuple(np.concatenate(x) for x in out)
 
 

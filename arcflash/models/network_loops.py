@@ -35,7 +35,7 @@ def parts_alike(tree, loop_a, loops, device_from):
 
 
 def loop_rows(out, tree, sub, nodes, w, wm, g, chosen, rows, single, arrays, local, i_fault, voltage_factor,
-              min_share, block):
+              min_share, block, back_floor=None):
     """Device rows of parts alike (``nodes``: G × P) for devices near their loops (``chosen``: G × count,
     ``block`` at a time; their rows of ``g``: ``rows``), appended to ``out``: each part's full columns, the
     tree's corrected by the update (``w``, ``wm``, ``g`` per part); ``single``: one scaled tree column per
@@ -65,6 +65,10 @@ def loop_rows(out, tree, sub, nodes, w, wm, g, chosen, rows, single, arrays, loc
         if single:  # Z_T[k, j] at the picked rows, from the scaled column
             c_d = child[part][gg, dd]
             inside = tree.in_subtree(c_d, bus)
+            if back_floor is not None:  # a bridge's back-feed rows below its floor (0 elsewhere) are left out
+                keep = np.flatnonzero(inside | (np.abs(current_pu) >= back_floor[part][gg, dd]))
+                gg, kk, dd, picked, bus, current_pu, c_d, inside = (x[keep] for x in (gg, kk, dd, picked, bus,
+                                                                                       current_pu, c_d, inside))
             z_c = tree_diff[gg, kk, dd] / np.where(inside, scale_in[part][gg, dd], scale_out[part][gg, dd])
             z_p = z_c * np.where(inside, tree.up[c_d], 1.0 / tree.down[c_d])
             z_j_tree = np.where(j[part][gg, dd] == c_d, z_c, z_p)

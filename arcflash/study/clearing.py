@@ -483,7 +483,7 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
         context = StagingContext(
             states=states or network_states(site, net), bank=paths.bank, device_branch=net.device_branch,
             arcing=stage_arcing(net, equipment), excluded=paths.excluded, line_side=paths.line_side,
-            operating_a=paths.bank.threshold_a(np.inf), hot_a=cap_level_a, cap_s=cap, motor_end_s=motor_end_s)
+            hot_a=cap_level_a, cap_s=cap, motor_end_s=motor_end_s)
         # Both cases of a bus side by side: they share the bus's fault columns.
         bus = np.concatenate([np.flatnonzero(one[case][3]) for case, _, _ in cases])
         reduced = np.concatenate([np.full(int(one[case][3].sum()), case == "reduced") for case, _, _ in cases])

@@ -198,16 +198,15 @@ class DeviceBank:
         """Smallest current at which each device clears within ``within_s`` (``inf``: never) [A].
 
         Bisection on the logarithm of the current: clearing times never
-        increase with current. Remembered per bank and duration (a copy is returned).
+        increase with current. ``within_s`` infinite asks for the smallest
+        current at which the device clears at all (a finite time): a lower
+        bound of its smallest pickup. The value returned is always a current
+        at which the device does not yet clear in time (or 1 mA), so a lower
+        bound. Remembered per bank and duration (a copy is returned).
         """
         known = self.__dict__.setdefault("_thresholds", {})
         if within_s not in known:
-            if within_s == np.inf:
-                # Every time is within an infinite one (a device that never trips too: inf <= inf), so the
-                # bisection would end at its lower end, 1 mA, for every device: a lower bound, as stated.
-                known[within_s] = np.full(self.kind.size, 10.0 ** BISECTION_LOW)
-            else:
-                known[within_s] = self._threshold_a(within_s)
+            known[within_s] = self._threshold_a(within_s)
         return known[within_s].copy()
 
     def _threshold_a(self, within_s):
@@ -243,6 +242,7 @@ class DeviceBank:
         the calls, which for few devices cost more than the evaluations."""
         n = device.size
         lo, hi = np.full(n, BISECTION_LOW), np.full(n, 8.0)  # 1 mA .. 100 MA
+        within_s = min(within_s, np.finfo(float).max)  # within an infinite time: a finite one
         never = ~(self.clearing_time_s(device, np.full(n, 1e8)) <= within_s)
         levels = BISECTION_LEVELS if n <= BISECTION_TREE_DEVICES else 1
         column = np.arange(n)

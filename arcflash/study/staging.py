@@ -105,12 +105,10 @@ class StagingContext:
     line_side : dict
         Bus index -> those of them that stand at the bus (``at_bus``): the
         arc is on their line side.
-    operating_a : numpy.ndarray
-        Per device, a current below which none of its elements operates
-        (a lower bound of its smallest pickup) [A]
     hot_a : numpy.ndarray
         Per device, a current below which it does not clear within the cap
-        (a lower bound; equal to ``operating_a`` without a cap) [A]
+        (a lower bound; without a cap, below which none of its elements
+        operates) [A]
     cap_s : float or None
         Arc-duration cap [s]
     motor_end_s : float or None
@@ -123,7 +121,6 @@ class StagingContext:
     arcing: object
     excluded: dict
     line_side: dict
-    operating_a: np.ndarray
     hot_a: np.ndarray
     cap_s: float | None
     motor_end_s: float | None
@@ -181,6 +178,9 @@ class _DevicesOf:
     def elements(self, device, current_a):
         return self.bank.elements(self.subset[device], current_a)
 
+    def threshold_a(self, within_s):
+        return self.bank.threshold_a(within_s)[self.subset]
+
 
 def _local(context, chunk):
     """``context`` with only the devices of the parts the arcs of ``chunk`` are in (:class:`_DevicesOf`),
@@ -201,7 +201,7 @@ def _local(context, chunk):
         return {bus: {int(local[d]) for d in devices if local[d] >= 0} for bus, devices in sets.items() if bus in buses}
 
     return dataclasses.replace(context, states=view, bank=view, device_branch=context.device_branch[subset],
-                               operating_a=context.operating_a[subset], hot_a=context.hot_a[subset],
+                               hot_a=context.hot_a[subset],
                                excluded=renumbered(context.excluded), line_side=renumbered(context.line_side)), local
 
 
@@ -273,8 +273,9 @@ def _follow_local(context, chunk):
 
 def _warm(context, arc, device_a):
     """Devices whose current reaches one of their elements' pickups, less those that have tripped and
-    those that never open for this bus, as a mask [-]."""
-    warm = device_a >= context.operating_a  # below: no element operates
+    those that never open for this bus, as a mask [-] (the bank's lower bounds of the pickups, found when
+    first needed: few arcs come here)."""
+    warm = device_a >= context.bank.threshold_a(np.inf)  # below: no element operates
     if arc.opening or arc.opened:  # tripped (opening pending) or opened: never again
         warm[list(arc.opening) + list(arc.opened)] = False
     excluded = context.excluded.get(arc.bus, set())
@@ -294,7 +295,7 @@ def _devices(context, arcs, device_a):
     progress cannot reach 1 in time): it is not followed until its current first reaches that level;
     then its progress so far is replayed from the arc's history (:func:`_replay`), so nothing is lost.
     """
-    hot = (device_a >= context.operating_a) & (device_a >= context.hot_a)  # below: no element operates
+    hot = device_a >= context.hot_a  # below: it does not clear within the cap (nor operates without one)
     for j, arc in enumerate(arcs):
         if arc.opening or arc.opened:  # tripped (opening pending) or opened: never again
             hot[j, list(arc.opening) + list(arc.opened)] = False

@@ -296,3 +296,46 @@ def test_parts_unlike_and_alike_solved_together_equal_each_solved_alone(tmp_path
         assert np.array_equal(key[mine], theirs_key[theirs])
         assert np.array_equal(both.device_current_ka[rows][mine], alone.device_current_ka[theirs])
         assert np.array_equal(both.device_direction[rows][mine], alone.device_direction[theirs])
+
+
+@pytest.mark.parametrize("scenario", ["normal", "ties-closed"])
+def test_the_back_feed_floor_leaves_out_exactly_the_rows_fed_out_through_a_bridge_below_the_floor(scenario,
+                                                                                                   tmp_path):
+    # The floor (each device's smallest current that clears within the cap) prunes a device's back-feed rows:
+    # those of faults on the side of its branch that holds the utility, fed out through the device by motors
+    # on its other side. A radial network and a meshed one (the loop update's rows too): exactly the rows of
+    # a bridge feeding out below its floor are left out; every other row is kept with the very same current.
+    import scipy.sparse as sp
+    from scipy.sparse.csgraph import connected_components
+
+    from arcflash.study.clearing import non_bridge_branches
+    from arcflash.study.device_bank import DeviceBank
+
+    site = arcflash.load_site(synthetic_site(tmp_path / "s", 240, ties=4, substation_size=60))
+    net = build_network(site, site.scenario(scenario))
+    args = (net.base_kv, net.branch_from, net.branch_to, net.branch_z_pu, net.shunt_bus, net.shunt_z_pu,
+            net.source_bus, net.device_branch, net.device_kv)
+    floor_ka = DeviceBank(site, site.scenario(scenario), net.device_ids).threshold_a(2.0) / 1000.0
+    whole = network.solve_faults(*args)
+    pruned = network.solve_faults(*args, backfeed_min_ka=floor_ka)
+    key_w, current_w = _sorted(whole)
+    key_p, current_p = _sorted(pruned)
+    kept = np.isin(key_w, key_p)
+    np.testing.assert_array_equal(key_w[kept], key_p)
+    np.testing.assert_array_equal(current_w[kept], current_p)
+    order = _key(whole)[1]
+    bus, device = whole.device_fault_bus[order], whole.device[order]
+    # rows fed out through a bridge: the fault on the side with the utility, which the other side lacks
+    fed_out = np.zeros(bus.size, dtype=bool)
+    n, bridge = len(net.bus_ids), ~non_bridge_branches(net)
+    for d in np.flatnonzero(bridge[net.device_branch]).tolist():
+        others = np.flatnonzero(np.arange(net.branch_from.size) != net.device_branch[d])
+        graph = sp.coo_matrix((np.ones(others.size), (net.branch_from[others], net.branch_to[others])), shape=(n, n))
+        part = connected_components(graph, directed=False)[1]
+        rows = np.flatnonzero(device == d)
+        far = part[net.branch_to[net.device_branch[d]]]
+        far = np.where(part[bus[rows]] == far, part[net.branch_from[net.device_branch[d]]], far)
+        fed_out[rows] = np.isin(part[bus[rows]], part[net.source_bus]) & ~np.isin(far, part[net.source_bus])
+    below = current_w < floor_ka[device]
+    assert (fed_out & below).sum() > 0
+    np.testing.assert_array_equal(~kept, fed_out & below)

@@ -511,7 +511,7 @@ def test_following_only_devices_that_can_clear_within_the_cap_changes_nothing(de
                                                                               monkeypatch):
     # Devices whose current stays below the level at which they clear within the cap are followed only
     # once their current reaches it, their progress then replayed from the arc's history. Following every
-    # device from the start (each device's cap level lowered to its smallest pickup) must give the same arcs.
+    # device from the start (each device's cap level lowered to 1 mA) must give the same arcs.
     # Every bus is followed stage by stage here, not only those whose one-stage answer is not exact.
     from arcflash.study import clearing, staging
     from arcflash.study.arcing import arcing_currents
@@ -527,7 +527,9 @@ def test_following_only_devices_that_can_clear_within_the_cap_changes_nothing(de
     monkeypatch.setattr(clearing, "_needs_stages", lambda faults, paths, *args: paths.energized & ~paths.no_device)
     lazy = clear_arcs(site, chosen, faults, arcs["arcing_current_ka"], arcs["reduced_arcing_current_ka"])
     real = staging.StagingContext
-    monkeypatch.setattr(staging, "StagingContext", lambda **kw: real(**{**kw, "hot_a": kw["operating_a"]}))
+    # every device carrying 1 mA or more is followed from the first stage
+    monkeypatch.setattr(staging, "StagingContext", lambda **kw: real(**{**kw, "hot_a": np.full(kw["hot_a"].size,
+                                                                                              1e-3)}))
     every = clear_arcs(site, chosen, faults, arcs["arcing_current_ka"], arcs["reduced_arcing_current_ka"])
     for column in ("clearing_time_s", "reduced_clearing_time_s", "governing_device", "clearing_sequence",
                    "no_trip", "duration_capped"):

@@ -254,6 +254,12 @@ def test_clearing_thresholds_taken_several_halvings_at_a_time_equal_one_halving_
     found = np.isfinite(tree)
     above = bank.clearing_time_s(devices[found], tree[found] * (1.0 + 1e-6))
     assert (above <= within_s).all()  # just above its threshold a device clears in time
+    assert np.isfinite(above).all()  # within an infinite time: within a finite one
+    at = bank.clearing_time_s(devices[found], tree[found])
+    assert (at > within_s).all() or within_s == math.inf  # at it, not yet: a lower bound
+    if within_s == math.inf:  # the smallest current that makes a device clear at all: its smallest pickup
+        assert np.isinf(at).all()
+        assert (tree[found] > 1.0).all()  # above 1 A for every device of the demo, not the bisection's 1 mA end
 
 
 def test_a_part_that_solves_its_columns_together_is_never_stacked_with_another_copy():
