@@ -354,6 +354,10 @@ class NetworkStates(ForestQueries):
         current = np.zeros((count, devices.size))
         on = np.zeros(count, dtype=bool)
         plans = [self._update_plan(key) if key.opened else None for key in keys]
+        base_part = self.part_of_node()
+        for k, plan in enumerate(plans):  # a branch opened in another part changes nothing for this fault
+            if plan and (base_part[self.branch_from[plan]] != base_part[fault_bus[k]]).any():
+                plans[k] = [b for b in plan if base_part[self.branch_from[b]] == base_part[fault_bus[k]]]
         from_base = [k for k in range(count) if plans[k] is not None or keys[k] == StateKey()]
         own = {}
         for k in range(count):

@@ -197,6 +197,8 @@ class ClearingPaths:
     line_side: dict
     back_feed: np.ndarray
     bus_part: np.ndarray
+    forest: object = None
+    sides: tuple = ()
 
 
 def clearing_paths(site, scenario, faults):
@@ -244,6 +246,7 @@ def clearing_paths(site, scenario, faults):
     bare_src, bare_bus = reached_src[bare], reached_bus[bare]
     forest = SpanningForest(n_bus, net.branch_from, net.branch_to)
     on_loop = non_bridge_branches(net, forest)
+    sides = _sides(net, forest, on_loop)
     return ClearingPaths(
         bus_ids=net.bus_ids, device_ids=np.array(net.device_ids, dtype=object), bus=bus, device=dev,
         path=path, device_ka=device_ka, live=path_share[row_path] >= NEGLIGIBLE_PATH_SHARE, bolted_ka=bolted,
@@ -253,7 +256,7 @@ def clearing_paths(site, scenario, faults):
         bank=device_bank(site, scenario, net.device_ids), cap_s=site.facility.arc_duration_cap_s,
         source_bus=np.array([b for _, b in sources], dtype=np.intp),
         on_loop=on_loop, sources_reaching=np.bincount(reached_bus, minlength=n_bus), excluded=excluded_by_bus,
-        line_side=line_side, back_feed=back_feeding_devices(net, forest, on_loop), bus_part=forest.base,
+        line_side=line_side, back_feed=sides[0], bus_part=forest.base, forest=forest, sides=sides,
     )
 
 
@@ -288,6 +291,12 @@ def back_feeding_devices(net, forest, on_loop):
     a fault on the side with the shunts leaves that passive side with no path to ground (no current),
     while a fault on the passive side is fed through the device alone (all of it) [-].
     """
+    return _sides(net, forest, on_loop)[0]
+
+
+def _sides(net, forest, on_loop):
+    """:func:`back_feeding_devices`, and for every other device its forest child node and whether its
+    passive side (no shunt) is the child's subtree (the other side otherwise) [-]."""
     count = np.bincount(net.shunt_bus, minlength=len(net.bus_ids)) if len(net.shunt_bus) else \
         np.zeros(len(net.bus_ids), dtype=np.intp)
     below = np.concatenate(([0], np.cumsum(count[forest.preorder])))  # shunts before each preorder number
@@ -298,7 +307,24 @@ def back_feeding_devices(net, forest, on_loop):
     inside = np.zeros(child.size)
     inside[tree] = below[start + forest.size[child[tree]]] - below[start]  # shunts in the subtree cut off
     outside = in_part[forest.base[net.branch_from[net.device_branch]]] - inside
-    return on_loop[net.device_branch] | ~tree | ((inside > 0) & (outside > 0))
+    return on_loop[net.device_branch] | ~tree | ((inside > 0) & (outside > 0)), child, inside == 0
+
+
+def devices_carrying(paths, buses):
+    """Devices that may carry current for a fault at any of ``buses`` (bus indices), in any state staged
+    clearing reaches, as a mask [-]: those of :func:`back_feeding_devices`, and each other device whose
+    passive side holds one of the buses (it carries the whole fault current there, and nothing for a fault
+    on its other side). Opening branches or splitting a bus adds no source, so a passive side stays one."""
+    forest, (back_feed, child, passive_below) = paths.forest, paths.sides
+    carrying = back_feed.copy()
+    others = np.flatnonzero(~back_feed)
+    if others.size and len(buses):
+        start, size = forest.tin[child[others]], forest.size[child[others]]
+        at = np.sort(forest.tin[np.unique(np.asarray(buses, dtype=np.intp))])
+        below = np.searchsorted(at, start + size) > np.searchsorted(at, start)  # some bus in the subtree
+        above = np.searchsorted(at, start) + (at.size - np.searchsorted(at, start + size)) > 0  # some outside
+        carrying[others] = np.where(passive_below[others], below, above)
+    return carrying
 
 
 @dataclass(frozen=True)
@@ -483,7 +509,8 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
         context = StagingContext(
             states=states or network_states(site, net), bank=paths.bank, device_branch=net.device_branch,
             arcing=stage_arcing(net, equipment), excluded=paths.excluded, line_side=paths.line_side,
-            hot_a=cap_level_a, cap_s=cap, motor_end_s=motor_end_s)
+            hot_a=cap_level_a, cap_s=cap, motor_end_s=motor_end_s,
+            carrying=lambda buses: devices_carrying(paths, buses))
         # Both cases of a bus side by side: they share the bus's fault columns.
         bus = np.concatenate([np.flatnonzero(one[case][3]) for case, _, _ in cases])
         reduced = np.concatenate([np.full(int(one[case][3].sum()), case == "reduced") for case, _, _ in cases])

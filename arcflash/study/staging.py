@@ -113,6 +113,10 @@ class StagingContext:
         Arc-duration cap [s]
     motor_end_s : float or None
         Time after which motor contributions end; None: never [s]
+    carrying : callable, optional
+        ``carrying(bus_indices)``: a mask of the devices that may carry
+        current for a fault at any of the buses, in any state (the others
+        carry none); every device when None [-]
     """
 
     states: object
@@ -124,6 +128,7 @@ class StagingContext:
     hot_a: np.ndarray
     cap_s: float | None
     motor_end_s: float | None
+    carrying: object = None
 
 
 def follow_arcs(context, buses, named=None, reduced=None):
@@ -187,7 +192,10 @@ def _local(context, chunk):
     and those devices' indices in the whole network; ``context`` itself where that is every device."""
     states = context.states
     device_part = states.part_of_node()[states.branch_from[context.device_branch]]
-    mine = np.isin(device_part, states.part_of_node()[[arc.bus for arc in chunk]])
+    buses = [arc.bus for arc in chunk]
+    mine = np.isin(device_part, states.part_of_node()[buses])
+    if context.carrying is not None:  # a device that carries no current never operates: left out too
+        mine &= context.carrying(buses)
     mine[[arc.named for arc in chunk if arc.named >= 0]] = True  # each arc's own numbers, whatever its part
     subset = np.flatnonzero(mine)
     if subset.size == device_part.size:

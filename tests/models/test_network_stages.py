@@ -257,3 +257,25 @@ def test_a_matrix_met_again_reuses_its_factors_and_solves_the_same(monkeypatch):
     fresh = alone.solve(StateKey(), buses)
     assert len(made) == len(factors(alone)) and np.array_equal(fresh.bolted_ka, expected.bolted_ka)
     assert np.array_equal(fresh.device_current_ka, expected.device_current_ka)
+
+
+def test_a_branch_opened_in_another_part_changes_nothing_for_a_fault():
+    # Two parts (nodes 0-5 with a utility at 0, a motor at 2 and a loop 1-4-5; nodes 6-8 with a source at 6):
+    # a state with branches opened in both parts, each fault updated by its own part's branches only, against
+    # factorising the state itself (hand-made network, invented impedances).
+    from arcflash.models.network_stages import NetworkStates
+
+    branch_from, branch_to = np.array([0, 1, 2, 1, 4, 5, 6, 7]), np.array([1, 2, 3, 4, 5, 1, 7, 8])
+    z = np.array([0.01 + 0.05j, 0.02 + 0.04j, 0.03 + 0.03j, 0.01 + 0.02j, 0.02 + 0.02j, 0.015 + 0.01j,
+                  0.02 + 0.06j, 0.01 + 0.03j])
+
+    def states():
+        return NetworkStates(np.ones(9), branch_from, branch_to, z, np.array([0, 2, 6]),
+                             np.array([0.001 + 0.01j, 0.5 + 2.0j, 0.002 + 0.02j]), np.array([False, True, False]),
+                             np.array([0, 6]), np.arange(8), np.ones(8))
+
+    updated, fresh = states(), states()
+    fresh._update_plan = lambda key: None
+    for opened in ({3}, {7}, {3, 7}, {1, 4, 7}):
+        key = StateKey(frozenset(opened))
+        _assert_same_currents(updated.solve(key, np.arange(9)), fresh.solve(key, np.arange(9)))

@@ -19,6 +19,7 @@ from __future__ import annotations
 import math
 
 import numpy as np
+import pandas as pd
 import pytest
 from hypothesis import HealthCheck, Phase, example, given, settings
 from hypothesis import strategies as st
@@ -373,6 +374,40 @@ def test_only_devices_with_sources_on_both_sides_or_on_a_loop_can_carry_a_small_
     assert (~nothing_or_all[:, back]).any(axis=0).all()
 
 
+def test_a_device_left_out_of_an_arc_carries_nothing_in_any_state():
+    # Staged clearing reads only the devices that may carry current for its arcs (devices_carrying): the
+    # back-feeding ones, and each other one whose passive side holds the faulted bus. Checked against the
+    # network solved with every bus faulted, with every branch and every pair of branches opened: a device
+    # left out carries under 1e-12 of the fault (common practice: Kirchhoff's current law, as above).
+    from itertools import combinations
+    from types import SimpleNamespace
+
+    from arcflash.models.network_forest import SpanningForest
+    from arcflash.models.network_stages import NetworkStates, StateKey
+    from arcflash.study.clearing import _sides, devices_carrying, non_bridge_branches
+
+    net = _Net()
+    forest = SpanningForest(8, net.branch_from, net.branch_to)
+    paths = SimpleNamespace(forest=forest, sides=_sides(net, forest, non_bridge_branches(net, forest)))
+    z = np.array([0.01 + 0.05j, 0.02 + 0.04j, 0.03 + 0.03j, 0.01 + 0.02j, 0.02 + 0.02j, 0.015 + 0.01j,
+                  0.02 + 0.06j])
+    states = NetworkStates(np.ones(8), net.branch_from, net.branch_to, z, net.shunt_bus,
+                           np.array([0.001 + 0.01j, 0.5 + 2.0j, 0.002 + 0.02j]), np.array([False, True, False]),
+                           np.array([0, 6]), net.device_branch, np.ones(7))
+    # 2-3 carries a fault at 3 only, 6-7 a fault at 7 only; the others (both sides fed, or a loop) any fault
+    assert devices_carrying(paths, [0]).tolist() == [True, True, False, True, True, True, False]
+    assert devices_carrying(paths, [3, 7]).all()
+    opened = [()] + [(b,) for b in range(7)] + list(combinations(range(7), 2))
+    checked = 0
+    for branches in opened:
+        solved = states.solve(StateKey(frozenset(branches)), np.arange(8))
+        for k in np.flatnonzero(solved.energized):
+            left_out = ~devices_carrying(paths, [k])
+            assert (solved.device_current_ka[k, left_out] < 1e-12 * solved.bolted_ka[k]).all()
+            checked += int(left_out.sum())
+    assert checked > 50
+
+
 @pytest.mark.parametrize("back_feeding", [True, False])
 def test_a_sensitive_device_that_may_carry_a_small_share_makes_a_bus_followed(demo, monkeypatch, back_feeding):
     # A device left out of the device table may still carry up to 0.1 % of a fault's current. Made to clear
@@ -576,3 +611,31 @@ def test_capped_arc_fed_over_two_paths_names_the_slower_path(tmp_path, generator
                      paths.bank.clearing_time_s(paths.device[at], paths.device_ka[at] * ratio * 1000.0)))
     assert 2.0 < min(times.values()) < max(times.values()) < np.inf
     assert row["governing_device"] == max(times, key=times.get)
+
+
+@pytest.mark.parametrize("source, scenario", [("demo", "tie-closed"), ("synthetic", "ties-closed")])
+def test_reading_only_the_devices_that_may_carry_current_changes_nothing(demo, tmp_path, source, scenario,
+                                                                         monkeypatch):
+    # Staged clearing solves the currents of the devices that may carry current for its arcs only; reading
+    # every device of their parts must give the same arcs, stages and openings, bit for bit. Every bus is
+    # followed stage by stage here.
+    from arcflash.study import clearing, staging
+    from arcflash.study.arcing import arcing_currents
+    from arcflash.study.clearing import clear_arcs
+    from arcflash.study.faults import solve_scenario
+    from tests.synthetic import synthetic_site
+
+    site = demo if source == "demo" else arcflash.load_site(synthetic_site(tmp_path / "s", 300, ties=6,
+                                                                          substation_size=60))
+    chosen = site.scenario(scenario)
+    faults = solve_scenario(site, scenario, for_clearing=True)
+    arcs = arcing_currents(site, faults.buses)
+    monkeypatch.setattr(clearing, "_needs_stages", lambda faults, paths, *args: paths.energized & ~paths.no_device)
+    fewer = clear_arcs(site, chosen, faults, arcs["arcing_current_ka"], arcs["reduced_arcing_current_ka"])
+    real = staging.StagingContext
+    monkeypatch.setattr(staging, "StagingContext", lambda **kw: real(**{**kw, "carrying": None}))
+    every = clear_arcs(site, chosen, faults, arcs["arcing_current_ka"], arcs["reduced_arcing_current_ka"])
+    pd.testing.assert_frame_equal(fewer.table, every.table, check_exact=True)
+    pd.testing.assert_frame_equal(fewer.stages, every.stages, check_exact=True)
+    pd.testing.assert_frame_equal(fewer.steps, every.steps, check_exact=True)
+    assert fewer.table["staged"].sum() > 3
