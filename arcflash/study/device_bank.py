@@ -234,7 +234,7 @@ class DeviceBank:
 
     def _bisect(self, device, within_s):
         """Smallest current at which each of ``device`` (positions) clears within ``within_s`` [A]:
-        bisection on the logarithm of the current, 60 halvings.
+        bisection on the logarithm of the current, :data:`BISECTION_HALVINGS` halvings.
 
         For a few devices, the halvings are taken :data:`BISECTION_LEVELS` at a time: every midpoint the
         next levels may need (a tree of them) is evaluated in one call, then each device walks down its
@@ -246,8 +246,8 @@ class DeviceBank:
         never = ~(self.clearing_time_s(device, np.full(n, 1e8)) <= within_s)
         levels = BISECTION_LEVELS if n <= BISECTION_TREE_DEVICES else 1
         column = np.arange(n)
-        for done in range(0, 60, levels):
-            count = min(levels, 60 - done)
+        for done in range(0, BISECTION_HALVINGS, levels):
+            count = min(levels, BISECTION_HALVINGS - done)
             a, b = lo[None, :], hi[None, :]  # the (lo, hi) of every node of a level, in tree order
             mids = []
             for level in range(count):
@@ -274,6 +274,9 @@ class DeviceBank:
 
 #: Lower end of the threshold bisection, lg of the current in A (1 mA) [-].
 BISECTION_LOW = -3.0
+#: Halvings of the threshold bisection: 11 decades / 2**28, the threshold found within 1e-7 of itself (below it:
+#: the value returned is a current at which the device does not yet clear in time, a lower bound) [-].
+BISECTION_HALVINGS = 28
 #: Halvings of the threshold bisection evaluated in one call for few devices (a tree of 2**L - 1 midpoints) [-].
 BISECTION_LEVELS = 4
 #: At most this many devices take the halvings several at a time (more: one call per halving costs less) [-].
