@@ -17,6 +17,28 @@ from .network_radial import joined_at
 MAX_CUTS_FROM_FOREST = 4
 
 
+#: Spanning forests kept by :func:`spanning_forest` (the latest of distinct networks) [-].
+FORESTS_KEPT = 8
+_FORESTS = {}
+
+
+def spanning_forest(n, branch_from, branch_to):
+    """The :class:`SpanningForest` of a network, remembered by its content (``n`` and the branch ends): the
+    scenarios of a study, and the stacks of an uncertainty run (copies joined alike, whatever their
+    impedances), share one. Its arrays are read-only."""
+    key = (n, np.asarray(branch_from, dtype=np.intp).tobytes(), np.asarray(branch_to, dtype=np.intp).tobytes())
+    forest = _FORESTS.get(key)
+    if forest is None:
+        if len(_FORESTS) >= FORESTS_KEPT:
+            _FORESTS.pop(next(iter(_FORESTS)))  # the oldest
+        forest = _FORESTS[key] = SpanningForest(n, np.asarray(branch_from, dtype=np.intp),
+                                                np.asarray(branch_to, dtype=np.intp))
+        for value in vars(forest).values():
+            if isinstance(value, np.ndarray):
+                value.flags.writeable = False
+    return forest
+
+
 class SpanningForest:
     """A breadth-first spanning forest of a network's branches.
 

@@ -29,7 +29,7 @@ from scipy.sparse.csgraph import connected_components
 
 from .network import admittance_matrix, base_current_ka
 from .network_factors import COLUMNS_TOGETHER_ROWS, PartsLU, remembered_lu, solve_each
-from .network_forest import ForestQueries, SpanningForest
+from .network_forest import ForestQueries, SpanningForest, spanning_forest
 
 __all__ = ["NetworkStates", "SpanningForest", "StageFaults", "StateKey"]
 
@@ -159,7 +159,7 @@ class NetworkStates(ForestQueries):
     def _forest(self):
         """Spanning forest of all branches (cached), for the parts of a state without a split."""
         if "forest" not in self._states:
-            self._states["forest"] = SpanningForest(self.n, self.branch_from, self.branch_to)
+            self._states["forest"] = spanning_forest(self.n, self.branch_from, self.branch_to)
         return self._states["forest"]
 
     def _prepared(self, key):
@@ -227,6 +227,13 @@ class NetworkStates(ForestQueries):
         """
         if key.split is not None or key.motors_off:
             return None
+        cache_key = ("plan", key)
+        if cache_key not in self._states:  # the arcs of both arcing cases of a bus often reach the same states
+            self._states[cache_key] = self._plan(key)
+        return self._states[cache_key]
+
+    def _plan(self, key):
+        """The work of :meth:`_update_plan` (a list of branches, never changed by its callers, or None)."""
         f, t, _, _, label = self._topology(key)
         parts = label.max() + 1
         grounded = np.zeros(parts, dtype=bool)

@@ -35,7 +35,7 @@ import pandas as pd
 import scipy.sparse as sp
 from scipy.sparse.csgraph import breadth_first_order, connected_components
 
-from ..models.network_forest import SpanningForest
+from ..models.network_forest import spanning_forest
 from ..models.network_radial import joined_at
 from .device_bank import DeviceBank, DeviceCurve, device_bank, device_curve  # noqa: F401 (re-exported)
 
@@ -63,14 +63,37 @@ def source_paths(net, source_bus):
     return all_source_paths(net, [source_bus])[0]
 
 
+#: Source paths kept by :func:`all_source_paths` (the latest of distinct networks) [-].
+PATHS_KEPT = 8
+_PATHS = {}
+
+
 def all_source_paths(net, source_buses):
-    """:func:`source_paths` of each of ``source_buses``, as a list.
+    """:func:`source_paths` of each of ``source_buses``, as a list (its arrays read-only).
 
     Sources in different connected parts of the network are searched together (one breadth-first
     search from an extra node joined to each of them; the parts never meet, so each source's tree is
     the one a search from it alone finds), so a network of many parts (the copies of an uncertainty
-    run, :mod:`.stacking`) costs a few searches, not one per source.
+    run, :mod:`.stacking`) costs a few searches, not one per source. Remembered by the network's
+    content (buses, branch ends, device branches, sources): the stacks of an uncertainty run, copies
+    joined alike whatever their impedances, share one search.
     """
+    source_buses = np.asarray(source_buses, dtype=np.intp)
+    key = (int(net.base_kv.size), source_buses.tobytes(),
+           *(np.asarray(a, dtype=np.intp).tobytes() for a in (net.branch_from, net.branch_to, net.device_branch)))
+    found = _PATHS.get(key)
+    if found is None:
+        if len(_PATHS) >= PATHS_KEPT:
+            _PATHS.pop(next(iter(_PATHS)))  # the oldest
+        found = _PATHS[key] = _searched_paths(net, source_buses)
+        for buses, devices, _, nodes in found:
+            for array in (buses, devices, nodes):
+                array.flags.writeable = False
+    return list(found)
+
+
+def _searched_paths(net, source_buses):
+    """The work of :func:`all_source_paths`."""
     n = net.base_kv.size
     source_buses = np.asarray(source_buses, dtype=np.intp)
     f, t = np.asarray(net.branch_from, dtype=np.intp), np.asarray(net.branch_to, dtype=np.intp)
@@ -244,7 +267,7 @@ def clearing_paths(site, scenario, faults):
     no_device = np.zeros(n_bus, dtype=bool)
     no_device[reached_bus[bare]] = True
     bare_src, bare_bus = reached_src[bare], reached_bus[bare]
-    forest = SpanningForest(n_bus, net.branch_from, net.branch_to)
+    forest = spanning_forest(n_bus, net.branch_from, net.branch_to)
     on_loop = non_bridge_branches(net, forest)
     sides = _sides(net, forest, on_loop)
     return ClearingPaths(
@@ -270,7 +293,7 @@ def non_bridge_branches(net, forest=None):
     (made when not given).
     """
     if forest is None:
-        forest = SpanningForest(len(net.bus_ids), net.branch_from, net.branch_to)
+        forest = spanning_forest(len(net.bus_ids), net.branch_from, net.branch_to)
     loop = forest.child_of < 0
     for b in forest.others:
         u, v = net.branch_from[b], net.branch_to[b]

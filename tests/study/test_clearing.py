@@ -225,3 +225,34 @@ def test_a_site_without_any_protective_device_runs_every_arc_to_the_cap(tmp_path
     assert table["no_device"].all() and table["duration_capped"].all()
     np.testing.assert_allclose(table["clearing_time_s"], 2.0)
     np.testing.assert_allclose(table["reduced_clearing_time_s"], 2.0)
+
+
+def test_source_paths_and_forests_are_remembered_by_the_network_they_come_from(demo):
+    # The stacks of an uncertainty run join their copies alike whatever the impedances: their source paths
+    # and spanning forests are searched once, remembered by the network's buses, branch ends, device branches
+    # and sources; any other network gets its own; what is remembered cannot be changed by a caller.
+    import dataclasses
+
+    from arcflash.models.network_forest import spanning_forest
+    from arcflash.study import clearing
+    from arcflash.study.faults import build_network
+
+    net = build_network(demo, demo.scenario("normal"))
+    sources = net.source_bus
+    first = clearing.all_source_paths(net, sources)
+    other_z = dataclasses.replace(net, branch_z_pu=net.branch_z_pu * 1.1)
+    again = clearing.all_source_paths(other_z, sources)
+    assert all(a[0] is b[0] and a[1] is b[1] and a[3] is b[3] for a, b in zip(first, again))
+    fresh = clearing._searched_paths(net, sources)
+    for a, b in zip(first, fresh):
+        assert np.array_equal(a[0], b[0]) and np.array_equal(a[1], b[1]) and a[2] == b[2]
+        assert np.array_equal(a[3], b[3])
+    with pytest.raises(ValueError, match="read-only"):
+        first[0][1][0] = 0
+    moved = dataclasses.replace(net, device_branch=net.device_branch[::-1].copy())
+    assert clearing.all_source_paths(moved, sources)[0][1] is not first[0][1]
+    forest = spanning_forest(len(net.bus_ids), net.branch_from, net.branch_to)
+    assert spanning_forest(len(net.bus_ids), net.branch_from.copy(), net.branch_to.copy()) is forest
+    assert spanning_forest(len(net.bus_ids), net.branch_to, net.branch_from) is not forest
+    with pytest.raises(ValueError, match="read-only"):
+        forest.parent[0] = 1
