@@ -44,6 +44,9 @@ class Site:
     origin: dict = field(repr=False)
     #: Things the site data say in a way still read but to be changed (earlier names), each with its place.
     warnings: list = field(default_factory=list, repr=False)
+    #: For a site of stacked copies (an uncertainty run's chunk, :mod:`arcflash.study.stacking`): the site
+    #: they are variants of and the variants, which let the study build its arrays copy by copy.
+    stack: object = field(default=None, repr=False, compare=False)
 
     @property
     def default_scenario(self):

@@ -27,21 +27,28 @@ def equipment_table(site):
     pandas.DataFrame
         Indexed by bus id.
     """
-    rows = {}
-    for ident, bus in site.buses.items():
-        given = [bus.gap_mm, bus.working_distance_mm, bus.config]
-        cls = bus.equipment_class
-        note = ""
-        if cls is None and any(v is None for v in given):
-            cls = default_class(bus.nominal_kv)
-            note = f"typical values of '{cls}' assumed (no equipment class given)"
-        values = resolve_equipment(cls, bus.config, bus.gap_mm, bus.working_distance_mm,
-                                   bus.height_mm, bus.width_mm, bus.depth_mm)
-        values["geometry_note"] = note
-        rows[ident] = values
+    if site.stack is not None:  # a stacked site's, copy by copy
+        from .stack_tiling import stacked_equipment
+
+        return stacked_equipment(site).copy()
+    rows = {ident: equipment_row(bus) for ident, bus in site.buses.items()}
     table = pd.DataFrame.from_dict(rows, orient="index")
     table.index.name = "bus"
     return table
+
+
+def equipment_row(bus):
+    """One bus's row of :func:`equipment_table` (a dict)."""
+    given = [bus.gap_mm, bus.working_distance_mm, bus.config]
+    cls = bus.equipment_class
+    note = ""
+    if cls is None and any(v is None for v in given):
+        cls = default_class(bus.nominal_kv)
+        note = f"typical values of '{cls}' assumed (no equipment class given)"
+    values = resolve_equipment(cls, bus.config, bus.gap_mm, bus.working_distance_mm,
+                               bus.height_mm, bus.width_mm, bus.depth_mm)
+    values["geometry_note"] = note
+    return values
 
 
 def arcing_currents(site, buses, equipment=None):

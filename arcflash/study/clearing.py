@@ -240,16 +240,7 @@ def clearing_paths(site, scenario, faults):
         reached_src.append(np.full(nodes.size, number, dtype=np.intp))
     bus, dev, src, reached_bus, reached_src = (np.concatenate(x) if x else np.array([], dtype=np.intp)
                                                for x in (bus_parts, dev_parts, src_parts, reached_bus, reached_src))
-    listed = [(b, item.arc_not_cleared_by) for b, item in site.buses.items() if item.arc_not_cleared_by]
-    bus_index = {b: i for i, b in enumerate(net.bus_ids)} if listed else {}
-    device_index = {d: i for i, d in enumerate(net.device_ids)} if listed else {}
-    excluded_by_bus, line_side = {}, {}
-    for b, devices in listed:
-        for d in devices:
-            if d in device_index:
-                excluded_by_bus.setdefault(bus_index[b], set()).add(device_index[d])
-                if site.devices[d].at_bus == b:  # the bus's own device: the arc is on its line side
-                    line_side.setdefault(bus_index[b], set()).add(device_index[d])
+    excluded_by_bus, line_side = _not_clearing(site, scenario, net)
     excluded = {k * n_dev + d for k, devices in excluded_by_bus.items() for d in devices}
     if excluded:
         keep = ~np.isin(bus * n_dev + dev, list(excluded))
@@ -281,6 +272,32 @@ def clearing_paths(site, scenario, faults):
         on_loop=on_loop, sources_reaching=np.bincount(reached_bus, minlength=n_bus), excluded=excluded_by_bus,
         line_side=line_side, back_feed=sides[0], bus_part=forest.base, forest=forest, sides=sides,
     )
+
+
+def _not_clearing(site, scenario, net):
+    """Per bus index, the indices of the devices in its ``arc_not_cleared_by``, and of those standing at the
+    bus (the arc on their line side). A stacked site's are its base site's, copy by copy (the samples change
+    neither list: buses and devices keep their numbering within each copy)."""
+    if site.stack is not None:
+        from .faults import build_network
+
+        base = site.stack.base
+        chosen = base.scenario(scenario.name)
+        excluded, line_side = _not_clearing(base, chosen, build_network(base, chosen))
+        n_bus, n_dev = len(base.buses), len(net.device_ids) // len(site.stack.copies)
+        return tuple({k * n_bus + bus: {k * n_dev + d for d in devices} for k in range(len(site.stack.copies))
+                      for bus, devices in sets.items()} for sets in (excluded, line_side))
+    listed = [(b, item.arc_not_cleared_by) for b, item in site.buses.items() if item.arc_not_cleared_by]
+    bus_index = {b: i for i, b in enumerate(net.bus_ids)} if listed else {}
+    device_index = {d: i for i, d in enumerate(net.device_ids)} if listed else {}
+    excluded_by_bus, line_side = {}, {}
+    for b, devices in listed:
+        for d in devices:
+            if d in device_index:
+                excluded_by_bus.setdefault(bus_index[b], set()).add(device_index[d])
+                if site.devices[d].at_bus == b:  # the bus's own device: the arc is on its line side
+                    line_side.setdefault(bus_index[b], set()).add(device_index[d])
+    return excluded_by_bus, line_side
 
 
 def non_bridge_branches(net, forest=None):

@@ -295,7 +295,12 @@ def device_bank(site, scenario, device_ids):
     """The :class:`DeviceBank` of a scenario, remembered: samples of an uncertainty run (and repeated studies)
     share the site's devices, so the bank and its thresholds are built once. The key holds the identity of
     every device, curve and setting it is built from (an element replaced in the site gives a new bank);
-    the entry keeps them alive, so no identity is reused while it is kept."""
+    the entry keeps them alive, so no identity is reused while it is kept. A stacked site's is built copy
+    by copy from its base site's (:func:`.stack_tiling.stacked_bank`)."""
+    if site.stack is not None:
+        from .stack_tiling import stacked_bank
+
+        return stacked_bank(site, scenario, device_ids)
     maintenance = frozenset(scenario.energy_reducing_maintenance_switching)
     parts = tuple(site.devices[d] for d in device_ids) + tuple(site.curves.values())
     key = (tuple(device_ids), tuple(map(id, parts)), maintenance, site.facility.frequency_hz)

@@ -53,6 +53,10 @@ class NetworkArrays:
     device_ids: list
     device_branch: np.ndarray
     device_kv: np.ndarray
+    #: (section, count) of the branches in order (transformers, cables, impedances, switches), and of the
+    #: shunts (utilities, generators, motors; the sources are the first two) [-].
+    branch_sections: tuple = ()
+    shunt_sections: tuple = ()
 
 
 def _complex(r, x):
@@ -83,39 +87,65 @@ def _fixed_branches(site, side):
     return memory[side]
 
 
+def transformer_z_pu(site, t, side):
+    """A transformer's series impedance, its %Z at ``side`` of its tolerance [pu]."""
+    z_percent = float(apply_tolerance(t.z_percent_used, t.z_tolerance_percent, side))
+    ratio = t.secondary_kv / site.buses[t.secondary_bus].nominal_kv
+    z = z_percent / 100.0 * site.facility.s_base_mva / (t.kva / 1000.0) * ratio**2
+    return _from_z(z, t.x_over_r)
+
+
+def cable_z_pu(site, c):
+    """A cable's series impedance [pu]."""
+    length_ft = c.length_ft
+    if c.size is not None:
+        z_ohm = cable_impedance_ohm(c.size, c.material, c.conduit, length_ft, c.sets)
+    else:
+        z_ohm = _complex(c.r_ohm_per_kft, c.x_ohm_per_kft) * length_ft / 1000.0 / c.sets
+    return z_ohm / (site.buses[c.from_bus].nominal_kv ** 2 / site.facility.s_base_mva)
+
+
+def impedance_z_pu(site, i):
+    """A busway's or other impedance's series impedance [pu]."""
+    return _complex(i.r_ohm, i.x_ohm) / (site.buses[i.from_bus].nominal_kv ** 2 / site.facility.s_base_mva)
+
+
+def utility_z_pu(site, u, scenario):
+    """A utility's source impedance at the scenario's level [pu]."""
+    level = getattr(u, scenario.utility)
+    z = site.facility.s_base_mva / u.fault_mva(scenario.utility) * (u.kv / site.buses[u.bus].nominal_kv) ** 2
+    return _from_z(z, level.x_over_r)
+
+
+def machine_z_pu(site, m):
+    """A generator's or motor's subtransient impedance (a motor's hp taken as kVA) [pu]."""
+    x = m.subtransient_reactance_percent / 100.0 * site.facility.s_base_mva / (m.kva / 1000.0)
+    x *= (m.kv / site.buses[m.bus].nominal_kv) ** 2
+    return _from_x(x, m.x_over_r)
+
+
 def _branches_of(site, side):
     """The work of :func:`_fixed_branches`."""
-    s_base = site.facility.s_base_mva
-
-    def z_base(bus):
-        return site.buses[bus].nominal_kv ** 2 / s_base
-
-    branches = []  # (id, from, to, z_pu)
-    for ident, t in site.transformers.items():
-        z_percent = float(apply_tolerance(t.z_percent_used, t.z_tolerance_percent, side))
-        ratio = t.secondary_kv / site.buses[t.secondary_bus].nominal_kv
-        z = z_percent / 100.0 * s_base / (t.kva / 1000.0) * ratio**2
-        branches.append((ident, t.primary_bus, t.secondary_bus, _from_z(z, t.x_over_r)))
-    for ident, c in site.cables.items():
-        length_ft = c.length_ft
-        if c.size is not None:
-            z_ohm = cable_impedance_ohm(c.size, c.material, c.conduit, length_ft, c.sets)
-        else:
-            z_ohm = _complex(c.r_ohm_per_kft, c.x_ohm_per_kft) * length_ft / 1000.0 / c.sets
-        branches.append((ident, c.from_bus, c.to_bus, z_ohm / z_base(c.from_bus)))
-    for ident, i in site.impedances.items():
-        branches.append((ident, i.from_bus, i.to_bus, _complex(i.r_ohm, i.x_ohm) / z_base(i.from_bus)))
+    branches = [(ident, t.primary_bus, t.secondary_bus, transformer_z_pu(site, t, side))
+                for ident, t in site.transformers.items()]  # (id, from, to, z_pu)
+    branches += [(ident, c.from_bus, c.to_bus, cable_z_pu(site, c)) for ident, c in site.cables.items()]
+    branches += [(ident, i.from_bus, i.to_bus, impedance_z_pu(site, i)) for ident, i in site.impedances.items()]
     return branches
 
 
 def build_network(site, scenario):
-    """The per-unit arrays of ``site`` in ``scenario`` (a Scenario object)."""
-    s_base = site.facility.s_base_mva
+    """The per-unit arrays of ``site`` in ``scenario`` (a Scenario object); a stacked site's copy by copy
+    (:func:`.stack_tiling.stacked_network`)."""
+    if site.stack is not None:
+        from .stack_tiling import stacked_network
+
+        return stacked_network(site, scenario)
     bus_ids = list(site.buses)
     index = {b: i for i, b in enumerate(bus_ids)}
     base_kv = np.array([site.buses[b].nominal_kv for b in bus_ids])
     side = scenario.transformer_z or ("low" if scenario.utility == "max" else "high")
     branches = list(_fixed_branches(site, side))
+    fixed = len(branches)
     for ident, s in site.switches.items():
         closed = (s.normally == "closed" or ident in scenario.close) and ident not in scenario.open
         if closed:
@@ -125,24 +155,19 @@ def build_network(site, scenario):
     for ident, u in site.utilities.items():
         if not u.in_service or ident in scenario.utilities_off:
             continue
-        level = getattr(u, scenario.utility)
-        s_sc = u.fault_mva(scenario.utility)
-        z = s_base / s_sc * (u.kv / site.buses[u.bus].nominal_kv) ** 2
-        shunts.append((ident, u.bus, _from_z(z, level.x_over_r)))
+        shunts.append((ident, u.bus, utility_z_pu(site, u, scenario)))
         sources.append((ident, u.bus))
+    utilities = len(shunts)
     for ident, g in site.generators.items():
         running = (g.running or ident in scenario.generators_running) and ident not in scenario.generators_stopped
         if running:
-            x = g.subtransient_reactance_percent / 100.0 * s_base / (g.kva / 1000.0)
-            x *= (g.kv / site.buses[g.bus].nominal_kv) ** 2
-            shunts.append((ident, g.bus, _from_x(x, g.x_over_r)))
+            shunts.append((ident, g.bus, machine_z_pu(site, g)))
             sources.append((ident, g.bus))
+    generators = len(shunts) - utilities
     if scenario.motors == "on":
         for ident, m in site.motors.items():
             if m.contributes and ident not in scenario.motors_off:
-                x = m.subtransient_reactance_percent / 100.0 * s_base / (m.kva / 1000.0)  # hp taken as kVA
-                x *= (m.kv / site.buses[m.bus].nominal_kv) ** 2
-                shunts.append((ident, m.bus, _from_x(x, m.x_over_r)))
+                shunts.append((ident, m.bus, machine_z_pu(site, m)))
 
     branch_index = {b[0]: k for k, b in enumerate(branches)}
     devices = [(ident, d) for ident, d in site.devices.items() if d.branch in branch_index]
@@ -161,6 +186,10 @@ def build_network(site, scenario):
         device_ids=[d[0] for d in devices],
         device_branch=np.array([branch_index[d.branch] for _, d in devices], dtype=np.intp),
         device_kv=np.array([site.buses[d.at_bus].nominal_kv for _, d in devices]),
+        branch_sections=(("transformers", len(site.transformers)), ("cables", len(site.cables)),
+                         ("impedances", len(site.impedances)), ("switches", len(branches) - fixed)),
+        shunt_sections=(("utilities", utilities), ("generators", generators),
+                        ("motors", len(shunts) - utilities - generators)),
     )
 
 

@@ -16,6 +16,8 @@ alone (tested).
 from __future__ import annotations
 
 import dataclasses
+from collections.abc import Mapping
+from dataclasses import dataclass, field
 
 #: Per section, the fields holding ids of other elements (a list or one id).
 REFERENCES = {
@@ -40,26 +42,68 @@ def tagged(ident, copy):
     return f"{ident}{SEPARATOR}{copy}"
 
 
-def stacked_site(sites):
+@dataclass(frozen=True, eq=False)
+class Stack:
+    """What a stacked site is made of: the ``base`` site and its variants (``copies``, in copy order), each
+    variant holding the base's own element objects wherever it leaves them unchanged; ``memory`` holds
+    what the study builds from them once (:mod:`.stack_tiling`)."""
+
+    base: object
+    copies: tuple
+    memory: dict = field(default_factory=dict)
+
+
+def stacked_site(sites, base=None):
     """One site holding every site of ``sites`` (variants of one site: the same ids, scenarios and curves)
-    as disconnected copies, copy k's ids tagged with k (:func:`tagged`)."""
+    as disconnected copies, copy k's ids tagged with k (:func:`tagged`). With ``base`` (the site they are
+    variants of, sharing its unchanged elements), the stacked site records them (:class:`Stack`) and the
+    study builds its network arrays and equipment copy by copy from the base's (:mod:`.stack_tiling`)."""
     first = sites[0]
-    sections = {name: {} for name in REFERENCES}
-    for copy, site in enumerate(sites):
-        for name, fields in REFERENCES.items():
-            into = sections[name]
-            ends = (getattr(sites[0], name), getattr(sites[-1], name))
-            for ident, element in getattr(site, name).items():
-                # Remembered only if the samples share it (a sampled element is met once).
-                shared = len(sites) > 1 and ends[0].get(ident) is element and ends[1].get(ident) is element
-                into[tagged(ident, copy)] = _tagged_element(element, copy, fields, shared)
+    if base is None:
+        sections = {name: _tagged_section(sites, name) for name in REFERENCES}
+    else:  # the study reads the arrays built from the base site; the elements are tagged if ever read
+        sections = {name: _LazySection(sites, name) for name in REFERENCES}
     scenarios = {
         name: scenario.model_copy(update={
             **{field: [tagged(v, copy) for copy in range(len(sites)) for v in getattr(scenario, field)]
                for field in SCENARIO_REFERENCES},
             "maintenance_mode": None})
         for name, scenario in first.scenarios.items()}
-    return dataclasses.replace(first, **sections, scenarios=scenarios, origin={})
+    return dataclasses.replace(first, **sections, scenarios=scenarios, origin={},
+                               stack=None if base is None else Stack(base, tuple(sites)))
+
+
+def _tagged_section(sites, name):
+    """Section ``name`` of the stacked site: every site's elements, copy by copy, tagged."""
+    fields, into = REFERENCES[name], {}
+    ends = (getattr(sites[0], name), getattr(sites[-1], name))
+    for copy, site in enumerate(sites):
+        for ident, element in getattr(site, name).items():
+            # Remembered only if the samples share it (a sampled element is met once).
+            shared = len(sites) > 1 and ends[0].get(ident) is element and ends[1].get(ident) is element
+            into[tagged(ident, copy)] = _tagged_element(element, copy, fields, shared)
+    return into
+
+
+class _LazySection(Mapping):
+    """A section of a stacked site, tagged (:func:`_tagged_section`) when first read."""
+
+    def __init__(self, sites, name):
+        self._sites, self._name, self._made = sites, name, None
+
+    def _section(self):
+        if self._made is None:
+            self._made = _tagged_section(self._sites, self._name)
+        return self._made
+
+    def __getitem__(self, key):
+        return self._section()[key]
+
+    def __iter__(self):
+        return iter(self._section())
+
+    def __len__(self):
+        return len(self._section())
 
 
 #: Tagged copies made so far: (id of the element, copy) -> (element, its copy). An element the samples leave
@@ -77,9 +121,9 @@ def _tagged_element(element, copy, fields, remember):
     if known is not None and known[0] is element:
         return known[1]
     update = {"id": tagged(element.id, copy)}
-    for field in fields:
-        value = getattr(element, field)
-        update[field] = [tagged(v, copy) for v in value] if isinstance(value, list) else tagged(value, copy)
+    for name in fields:
+        value = getattr(element, name)
+        update[name] = [tagged(v, copy) for v in value] if isinstance(value, list) else tagged(value, copy)
     made = element.replaced(update)
     if not remember:
         return made

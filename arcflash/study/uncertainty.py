@@ -223,7 +223,7 @@ def _run_chunk(site, inputs, rows, scenario=None):
     size = stack_size(site)
     for lo in range(0, len(rows), size):
         group = rows[lo:lo + size]
-        stacked = stacked_site([sample_site(site, inputs, values) for values in group])
+        stacked = stacked_site([sample_site(site, inputs, values) for values in group], base=site)
         equipment = equipment_table(stacked)
         order = pd.Index([tagged(bus, copy) for copy in range(len(group)) for bus in buses])
         tables = [_scenario_rows(stacked, stacked.scenarios[name], equipment, sequences=False)[0] for name in names]
