@@ -213,10 +213,13 @@ class DeviceBank:
         """:meth:`threshold_a` device by device: taken from :data:`_THRESHOLDS` for a device (the same
         object, maintenance state, frequency and curve) met before, by bisection for the others together
         (an uncertainty sample that moves a few devices recomputes only those)."""
-        n = self.kind.size
-        found = np.full(n, np.nan)
+        return self._thresholds_of(np.arange(self.kind.size), self._sources, within_s)
+
+    def _thresholds_of(self, positions, sources, within_s):
+        """:meth:`_threshold_a` of the devices at ``positions``, made of ``sources`` (see ``_sources``)."""
+        found = np.full(positions.size, np.nan)
         keys = []
-        for k, (device, on, frequency, curve) in enumerate(self._sources):
+        for k, (device, on, frequency, curve) in enumerate(sources):
             key = (id(device), on, frequency, id(curve), within_s)
             entry = _THRESHOLDS.get(key)
             if entry is not None and entry[0] is device and entry[1] is curve:
@@ -224,11 +227,11 @@ class DeviceBank:
             keys.append(key)
         todo = np.flatnonzero(np.isnan(found))
         if todo.size:
-            found[todo] = self._bisect(todo, within_s)
+            found[todo] = self._bisect(positions[todo], within_s)
             if len(_THRESHOLDS) + todo.size > _THRESHOLDS_KEPT:
                 _THRESHOLDS.clear()
             for k in todo.tolist():
-                device, _, _, curve = self._sources[k]
+                device, _, _, curve = sources[k]
                 _THRESHOLDS[keys[k]] = (device, curve, float(found[k]))
         return found
 
@@ -274,9 +277,10 @@ class DeviceBank:
 
 #: Lower end of the threshold bisection, lg of the current in A (1 mA) [-].
 BISECTION_LOW = -3.0
-#: Halvings of the threshold bisection: 11 decades / 2**28, the threshold found within 1e-7 of itself (below it:
-#: the value returned is a current at which the device does not yet clear in time, a lower bound) [-].
-BISECTION_HALVINGS = 28
+#: Halvings of the threshold bisection: 11 decades / 2**18, the threshold found within 1e-4 of itself (below it:
+#: the value returned is a current at which the device does not yet clear in time, a lower bound, which is all
+#: its uses need: they leave out rows and devices that cannot clear in time) [-].
+BISECTION_HALVINGS = 18
 #: Halvings of the threshold bisection evaluated in one call for few devices (a tree of 2**L - 1 midpoints) [-].
 BISECTION_LEVELS = 4
 #: At most this many devices take the halvings several at a time (more: one call per halving costs less) [-].

@@ -17,6 +17,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from .device_bank import DeviceBank
 from .stacking import tagged
 
 #: Tagged id lists kept (by the base ids and the number of copies) [-].
@@ -170,7 +171,7 @@ def stacked_bank(site, scenario, device_ids):
     bank repeated once per copy, the trip units and curve positions of the devices a copy changed (their
     place in their band) computed again (remembered on the stack per scenario)."""
     from ..models.curves import trip_unit_parameters
-    from .device_bank import DeviceBank, device_bank
+    from .device_bank import device_bank
     from .faults import build_network
 
     stack = site.stack
@@ -182,7 +183,8 @@ def stacked_bank(site, scenario, device_ids):
     copies = len(stack.copies)
     assert len(device_ids) == copies * len(ids), "a stacked site's devices are its base's, copy by copy"
     base = device_bank(stack.base, chosen, ids)
-    bank = object.__new__(DeviceBank)
+    bank = object.__new__(_TiledBank)
+    bank._base, bank._copies = base, copies
     bank.kind = np.tile(base.kind, copies)
     counts = [int(np.count_nonzero(base.kind == code)) for code in range(3)]
     step = np.array(counts, dtype=np.intp)[base.kind]
@@ -200,6 +202,7 @@ def stacked_bank(site, scenario, device_ids):
     frequency = stack.base.facility.frequency_hz
     position = {ident: j for j, ident in enumerate(ids)}
     rows, units = [], []  # the changed trip units, evaluated together
+    bank._changed_at, bank._sources = [], []  # the changed devices: where, and what each is made of
     for k, changed in enumerate(_changed(stack, "devices")):
         for ident in changed:
             j = position.get(ident)
@@ -207,6 +210,9 @@ def stacked_bank(site, scenario, device_ids):
                 continue
             device = stack.copies[k].devices[ident]
             at = k * len(ids) + j
+            bank._changed_at.append(at)
+            bank._sources.append((device, ident in maintenance, frequency,
+                                  stack.base.curves.get(device.curve) if device.curve else None))
             if device.trip_unit is not None:
                 rows.append(bank.row[at])
                 units.append(device.trip_unit.model_copy(update=device.maintenance) if ident in maintenance
@@ -216,9 +222,17 @@ def stacked_bank(site, scenario, device_ids):
     if units:
         for name, values in trip_unit_parameters(units, frequency).items():
             bank.units[name][rows] = values
-    # each device's own objects (the base's where a copy leaves it unchanged): its thresholds are found once
-    bank._sources = [(device, ident in maintenance, frequency, stack.base.curves.get(device.curve) if device.curve
-                      else None) for copy in stack.copies for ident, device in
-                     ((ident, copy.devices[ident]) for ident in ids)]
+    bank._changed_at = np.array(bank._changed_at, dtype=np.intp)
     stack.memory[key] = bank
     return bank
+
+
+class _TiledBank(DeviceBank):
+    """A stacked site's device bank (:func:`stacked_bank`): a device a copy leaves unchanged is the base's own
+    object, with the base's threshold; those of the changed devices are found (and remembered) as any bank's."""
+
+    def _threshold_a(self, within_s):
+        found = np.tile(self._base.threshold_a(within_s), self._copies)
+        if self._changed_at.size:
+            found[self._changed_at] = self._thresholds_of(self._changed_at, self._sources, within_s)
+        return found
