@@ -23,6 +23,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+from functools import lru_cache
+
 import numpy as np
 
 #: IEEE C37.112 inverse-time constants A, B, p: t = TD (A/(M^p − 1) + B).
@@ -534,12 +536,42 @@ def point_curve_time_s(current_a, curve, band="max"):
     """
     if band not in ("min", "max"):
         raise ValueError(f"band: expected 'min' or 'max', got {band!r}")
-    times = curve.max_time_s if band == "max" or curve.min_time_s is None else curve.min_time_s
     current = _currents(current_a)
-    lg_i = np.log10(np.asarray(curve.current_a, dtype=float))
-    lg_t = np.log10(np.asarray(times, dtype=float))
+    return _point_time(current, _lg_current(current), curve, band)
+
+
+def point_curve_band_s(current_a, curve, rows):
+    """:func:`point_curve_time_s` on the total-clearing curve at every current, and on the minimum curve
+    at the currents ``rows`` (the logarithm of each current taken once) [s].
+
+    Returns
+    -------
+    tuple of numpy.ndarray
+        Times on the 'max' curve (all currents), on the 'min' curve (``rows``) [s]
+    """
+    current = _currents(current_a)
+    x = _lg_current(current)
+    return _point_time(current, x, curve, "max"), _point_time(current[rows], x[rows], curve, "min")
+
+
+def _lg_current(current):
     with np.errstate(divide="ignore"):
-        x = np.log10(np.maximum(current, 1e-300))
+        return np.log10(np.maximum(current, 1e-300))
+
+
+@lru_cache(maxsize=256)
+def _lg_points(curve, band):
+    """lg I and lg t of a curve's points, on its ``band`` (cached: a curve is a value)."""
+    times = curve.max_time_s if band == "max" or curve.min_time_s is None else curve.min_time_s
+    points = np.log10(np.asarray(curve.current_a, dtype=float)), np.log10(np.asarray(times, dtype=float))
+    for array in points:
+        array.flags.writeable = False
+    return points
+
+
+def _point_time(current, x, curve, band):
+    """The work of :func:`point_curve_time_s` (``x``: lg of each current)."""
+    lg_i, lg_t = _lg_points(curve, band)
     t = np.power(10.0, np.interp(x, lg_i, lg_t))
     t = np.where(current < curve.current_a[0], np.inf, t)
     if curve.instantaneous_a is not None:

@@ -11,6 +11,7 @@ from ..models.curves import (
     DefiniteTimeStage,
     RelaySettings,
     TripUnitSettings,
+    point_curve_band_s,
     point_curve_time_s,
     relay_clearing_time_s,
     trip_unit_clearing_time_s,
@@ -132,12 +133,15 @@ class DeviceBank:
         between the two, as between the points of one curve); where the two curves agree (the
         instantaneous region, a point they share), their time."""
         curve = self.curves[name]
-        t = point_curve_time_s(current, curve, band="max")
         position = self.curve_position[device]
-        inside = np.flatnonzero((position < 1.0) & np.isfinite(t))
-        if inside.size and curve.min_time_s is not None:
+        maybe = np.flatnonzero(position < 1.0) if curve.min_time_s is not None else np.zeros(0, dtype=np.intp)
+        if not maybe.size:
+            return point_curve_time_s(current, curve, band="max")
+        t, fast = point_curve_band_s(current, curve, maybe)  # the minimum curve where a device may use it
+        finite = np.isfinite(t[maybe])
+        inside, fast = maybe[finite], fast[finite]
+        if inside.size:
             slow = t[inside]
-            fast = point_curve_time_s(current[inside], curve, band="min")
             p = position[inside]
             between = np.power(10.0, (1.0 - p) / 2.0 * np.log10(fast) + (1.0 + p) / 2.0 * np.log10(slow))
             t[inside] = np.where(fast == slow, slow, between)

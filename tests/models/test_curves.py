@@ -217,3 +217,18 @@ def test_trip_unit_at_zero_current_does_not_trip_and_warns_nothing():
     # filterwarnings turns a RuntimeWarning from arcflash into an error: 0 A must be quiet.
     unit = TripUnitSettings(rating_a=800.0, short_time_pickup=6.0, short_time_i2t=True)
     assert np.isinf(trip_unit_clearing_time_s(np.array([0.0, 1e-300]), unit)).all()
+
+
+def test_both_bands_at_once_equal_each_band_alone():
+    # point_curve_band_s takes the logarithm of each current once for both bands: the same times, bit for bit
+    # (arithmetic of the batching itself)
+    from arcflash.models.curves import point_curve_band_s
+
+    curve = PointCurve(current_a=(200.0, 400.0, 1000.0, 3000.0), max_time_s=(100.0, 10.0, 0.8, 0.02),
+                       min_time_s=(40.0, 4.0, 0.3, 0.01), instantaneous_a=5000.0, instantaneous_s=0.008)
+    current = np.array([0.0, 150.0, 200.0, 333.0, 1000.0, 2999.0, 4000.0, 6000.0])
+    rows = np.array([1, 3, 4, 7])
+    slow, fast = point_curve_band_s(current, curve, rows)
+    assert np.array_equal(slow, point_curve_time_s(current, curve, band="max"))
+    assert np.array_equal(fast, point_curve_time_s(current[rows], curve, band="min"))
+    assert (fast[np.isfinite(fast)] <= slow[rows][np.isfinite(fast)]).all()
