@@ -14,6 +14,7 @@ from pathlib import Path
 
 from pydantic import ValidationError
 
+from ..collector import collector_paused
 from ..errors import MISSING, Problem, SiteDataError
 from . import checks
 from .base import FIELD_MARK
@@ -271,6 +272,12 @@ def load_site(path):
         With every problem found, each naming file, line, field, value and
         what was expected.
     """
+    with collector_paused():  # a large site is many objects that live on (arcflash/collector.py)
+        return _load_site(path)
+
+
+def _load_site(path):
+    """The work of :func:`load_site`."""
     files = site_files(path)
     problems = []
     items, facilities = _read_documents(files, problems)

@@ -15,6 +15,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
+from ..collector import collector_paused
 from ..models import ieee1584, nfpa70e
 from ..models.ieee1584_range import reason_text
 from ..models.ieee1584_staged import staged_incident_energy
@@ -261,6 +262,12 @@ def run_study(site, out_dir=None, progress=None, report=True, tcc_buses=None):
     StudyResults
         ``rows`` (every bus × scenario) and ``governing`` (one row per bus).
     """
+    with collector_paused():  # the tables and pages of a large site are many objects (arcflash/collector.py)
+        return _run_study(site, out_dir, progress, report, tcc_buses)
+
+
+def _run_study(site, out_dir, progress, report, tcc_buses):
+    """The work of :func:`run_study`."""
     rows, steps, stages, records = _study(site, progress)
     governing = governing_rows(rows)
     pages = default_tcc_buses(governing) if tcc_buses is None else list(tcc_buses)

@@ -28,15 +28,14 @@ band in the site data (one characteristic each) and stay on it.
 
 from __future__ import annotations
 
-import contextlib
 import dataclasses
-import gc
 import math
 from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
 
+from ..collector import collector_paused
 from ..models import nfpa70e
 from ..site.schema import Quantity
 
@@ -184,20 +183,6 @@ def sample_site(site, inputs, values):
     return dataclasses.replace(site, **sections)
 
 
-@contextlib.contextmanager
-def _collector_paused():
-    """The cyclic garbage collector paused (and restored as it was): a chunk makes many short-lived objects,
-    freed by reference counting as they go, and the collector's passes over them cost about a tenth of the
-    chunk's time (measured on the demo; a plain study shows no difference)."""
-    was = gc.isenabled()
-    gc.disable()
-    try:
-        yield
-    finally:
-        if was:
-            gc.enable()
-
-
 def run_chunk(site, inputs, rows, scenario=None):
     """Governing incident energy [cal/cm²], arc-flash boundary [mm] and the bolted current of that row [kA]
     of every bus for each row of the design (arrays samples × buses, buses in the site's order).
@@ -205,7 +190,7 @@ def run_chunk(site, inputs, rows, scenario=None):
     The samples are studied together: each sampled site a copy in one stacked site
     (:mod:`arcflash.study.stacking`, at most :data:`~arcflash.study.stacking.STACK_BUSES` buses a stack),
     each copy's results equal to its sample studied alone."""
-    with _collector_paused():
+    with collector_paused():  # a chunk makes many short-lived objects: the collector's passes cost a tenth
         return _run_chunk(site, inputs, rows, scenario)
 
 
