@@ -219,24 +219,26 @@ class DeviceBank:
         (an uncertainty sample that moves a few devices recomputes only those)."""
         return self._thresholds_of(np.arange(self.kind.size), self._sources, within_s)
 
-    def _thresholds_of(self, positions, sources, within_s):
-        """:meth:`_threshold_a` of the devices at ``positions``, made of ``sources`` (see ``_sources``)."""
+    def _thresholds_of(self, positions, sources, within_s, memo=None):
+        """:meth:`_threshold_a` of the devices at ``positions``, made of ``sources`` (see ``_sources``),
+        remembered in ``memo`` (default :data:`_THRESHOLDS`)."""
+        memo = _THRESHOLDS if memo is None else memo
         found = np.full(positions.size, np.nan)
         keys = []
         for k, (device, on, frequency, curve) in enumerate(sources):
             key = (id(device), on, frequency, id(curve), within_s)
-            entry = _THRESHOLDS.get(key)
+            entry = memo.get(key)
             if entry is not None and entry[0] is device and entry[1] is curve:
                 found[k] = entry[2]
             keys.append(key)
         todo = np.flatnonzero(np.isnan(found))
         if todo.size:
             found[todo] = self._bisect(positions[todo], within_s)
-            if len(_THRESHOLDS) + todo.size > _THRESHOLDS_KEPT:
-                _THRESHOLDS.clear()
+            if len(memo) + todo.size > _THRESHOLDS_KEPT:
+                memo.clear()
             for k in todo.tolist():
                 device, _, _, curve = sources[k]
-                _THRESHOLDS[keys[k]] = (device, curve, float(found[k]))
+                memo[keys[k]] = (device, curve, float(found[k]))
         return found
 
     def _bisect(self, device, within_s):

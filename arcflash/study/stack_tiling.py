@@ -185,6 +185,7 @@ def stacked_bank(site, scenario, device_ids):
     base = device_bank(stack.base, chosen, ids)
     bank = object.__new__(_TiledBank)
     bank._base, bank._copies = base, copies
+    bank._memo = stack.memory.setdefault("thresholds", {})  # a sample's devices: kept with its stack only
     bank.kind = np.tile(base.kind, copies)
     counts = [int(np.count_nonzero(base.kind == code)) for code in range(3)]
     step = np.array(counts, dtype=np.intp)[base.kind]
@@ -229,10 +230,11 @@ def stacked_bank(site, scenario, device_ids):
 
 class _TiledBank(DeviceBank):
     """A stacked site's device bank (:func:`stacked_bank`): a device a copy leaves unchanged is the base's own
-    object, with the base's threshold; those of the changed devices are found (and remembered) as any bank's."""
+    object, with the base's threshold; those of the changed devices are found as any bank's and remembered
+    with the stack (the banks of its scenarios share them; a sample's devices are never met again)."""
 
     def _threshold_a(self, within_s):
         found = np.tile(self._base.threshold_a(within_s), self._copies)
         if self._changed_at.size:
-            found[self._changed_at] = self._thresholds_of(self._changed_at, self._sources, within_s)
+            found[self._changed_at] = self._thresholds_of(self._changed_at, self._sources, within_s, self._memo)
         return found
