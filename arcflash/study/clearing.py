@@ -295,7 +295,8 @@ def _sequence_text(steps, device_ids):
                      for d, t, before, after, *_ in steps)
 
 
-def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None, equipment=None, sequences=True):
+def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None, equipment=None, sequences=True,
+               numbers_only=False):
     """Arc duration, governing device and opening sequence at every bus, both arcing cases.
 
     Buses whose one-stage answer is exact (see :func:`_needs_stages`) take
@@ -316,6 +317,9 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
     sequences : bool
         Write the opening sequence of each arc (text); an uncertainty run, which reads only the numbers,
         leaves it empty.
+    numbers_only : bool
+        Only what the energies need: the table holds ``no_device`` and the two clearing times, ``stages``
+        the stages of the arcs followed, ``steps`` nothing (an uncertainty run's chunks).
 
     Returns
     -------
@@ -352,7 +356,8 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
         duration, governing = _one_stage(paths, time)
         staged = _needs_stages(faults, paths, ratio, np.nan_to_num(arc_ka) / bus_base_ka, duration, governing,
                                threshold_pu, motor_end_s)
-        if cap is not None:  # capped before any opening, fed over several paths: name from the full currents
+        if cap is not None and not numbers_only:  # capped before any opening, fed over several paths: name
+            # the device from the full currents
             several = np.flatnonzero(~staged & paths.energized & ~paths.no_device & (paths.sources_reaching > 1)
                                      & (duration > cap))
             if several.size:
@@ -393,7 +398,7 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
                 sequence[k] = _sequence_text(arc.steps, paths.device_ids)
             for number, (start, end, bolted, arcing, code) in enumerate(arc.stages):
                 stage_rows.append((paths.bus_ids[k], case, number, start, end, bolted, arcing, code))
-            for d, t, before, after, bolted_before, bolted_after in arc.steps:
+            for d, t, before, after, bolted_before, bolted_after in () if numbers_only else arc.steps:
                 step_rows.append((paths.bus_ids[k], case, paths.device_ids[d], t, before, after,
                                   bolted_before, bolted_after))
         any_staged |= staged
@@ -405,6 +410,8 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
         if cap is not None:
             duration = np.minimum(duration, cap)
         result[f"{prefix}clearing_time_s"] = duration
+        if numbers_only:
+            continue
         names = np.full(n_bus, None, dtype=object)
         names[governing >= 0] = paths.device_ids[governing[governing >= 0]]
         result[f"{prefix}governing_device"] = names
@@ -414,9 +421,10 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
         notes.append((no_trip, f"{case} arcing current: no device ends the arc"))
         if cap is not None:
             notes.append((capped, f"{case} arcing current: arc duration capped at {cap:g} s"))
-    result["meshed"] = paths.meshed
-    result["staged"] = any_staged
-    result["clearing_notes"] = _joined_notes(n_bus, notes)
+    if not numbers_only:
+        result["meshed"] = paths.meshed
+        result["staged"] = any_staged
+        result["clearing_notes"] = _joined_notes(n_bus, notes)
     stages = pd.DataFrame(stage_rows, columns=["bus", "case", "stage", "start_s", "end_s", "bolted_ka",
                                                "arcing_ka", "range_code"])
     steps = pd.DataFrame(step_rows, columns=["bus", "case", "device", "opening_time_s", "arcing_before_ka",

@@ -47,21 +47,49 @@ class StudyResults:
     tcc: dict | None = None  # bus -> TccData of the buses with a TCC page (arcflash.study.tcc_data)
 
 
+#: The energy and boundary columns of a scenario's rows, in the order :func:`_energies` gives them.
+ENERGY_COLUMNS = ("incident_energy_cal_cm2", "reduced_incident_energy_cal_cm2", "arc_flash_boundary_mm",
+                  "reduced_arc_flash_boundary_mm")
+
+
+def _energies(kv, bolted_ka, gap_mm, working_distance_mm, time_s, reduced_time_s, config, height_mm, width_mm,
+              depth_mm):
+    """IEEE 1584-2018 of one-stage arcs: the result, and the values of :data:`ENERGY_COLUMNS` [cal/cm², mm]."""
+    r = ieee1584.evaluate(kv, bolted_ka, gap_mm, working_distance_mm, time_s, reduced_time_s, config, height_mm,
+                          width_mm, depth_mm)
+    return r, (j_cm2_to_cal_cm2(r.incident_energy_j_cm2), j_cm2_to_cal_cm2(r.reduced_incident_energy_j_cm2),
+               r.arc_flash_boundary_mm, r.reduced_arc_flash_boundary_mm)
+
+
+def _staged_case(stages, case, lookup):
+    """The arcs of ``case`` followed stage by stage, summed stage by stage: (their stage rows, their buses,
+    each row's arc, the IEEE 1584-2018 staged result), or None; ``lookup(buses)`` gives the nominal kV, gap,
+    working distance, configuration, height, width and depth of each row's bus."""
+    part = stages[(stages["case"] == case) & (stages["end_s"] > stages["start_s"])]
+    if part.empty:
+        return None
+    buses = pd.unique(part["bus"])
+    arc = pd.Index(buses).get_indexer(part["bus"])
+    kv, gap, distance, config, height, width, depth = lookup(part["bus"])
+    r = staged_incident_energy(arc, len(buses), kv, part["bolted_ka"].to_numpy(float), gap, distance,
+                               (part["end_s"] - part["start_s"]).to_numpy(float), config, height, width, depth,
+                               reduced=case == "reduced")
+    return part, buses, arc, r
+
+
 def _staged_energy(table, stages):
     """Energy and boundary of the arcs followed stage by stage, summed stage by stage."""
+    def lookup(buses):
+        eq = table.loc[buses]
+        return (eq["nominal_kv"].to_numpy(float), eq["gap_mm"].to_numpy(float),
+                eq["working_distance_mm"].to_numpy(float), eq["config"].to_numpy(str), eq["height_mm"].to_numpy(float),
+                eq["width_mm"].to_numpy(float), eq["depth_mm"].to_numpy(float))
+
     for case, prefix in (("full", ""), ("reduced", "reduced_")):
-        part = stages[(stages["case"] == case) & (stages["end_s"] > stages["start_s"])]
-        if part.empty:
+        found = _staged_case(stages, case, lookup)
+        if found is None:
             continue
-        buses = pd.unique(part["bus"])
-        arc = pd.Index(buses).get_indexer(part["bus"])
-        eq = table.loc[part["bus"]]
-        r = staged_incident_energy(
-            arc, len(buses), eq["nominal_kv"].to_numpy(float), part["bolted_ka"].to_numpy(float),
-            eq["gap_mm"].to_numpy(float), eq["working_distance_mm"].to_numpy(float),
-            (part["end_s"] - part["start_s"]).to_numpy(float), eq["config"].to_numpy(str),
-            eq["height_mm"].to_numpy(float), eq["width_mm"].to_numpy(float), eq["depth_mm"].to_numpy(float),
-            reduced=case == "reduced")
+        part, buses, arc, r = found
         table.loc[buses, f"{prefix}incident_energy_cal_cm2"] = j_cm2_to_cal_cm2(r.incident_energy_j_cm2)
         table.loc[buses, f"{prefix}arc_flash_boundary_mm"] = r.arc_flash_boundary_mm
         code = np.zeros(len(buses), dtype=np.int64)
@@ -74,13 +102,56 @@ def _staged_energy(table, stages):
                 t if not c else (c if t in c else f"{c}; {t}") for c, t in zip(current, texts)]
 
 
-def _scenario_rows(site, scenario, equipment, stated_times=None, sequences=True):
+def scenario_numbers(site, scenario, equipment):
+    """Per bus, in the network's order: the incident energy and arc-flash boundary of both arcing cases (the
+    values of :data:`ENERGY_COLUMNS`) and the bolted current, with the buses' index: the numbers of a
+    scenario's rows (:func:`_scenario_rows`, the same values) without the rows themselves (an uncertainty
+    run's chunks read only these)."""
+    faults = solve_scenario(site, scenario.name, for_clearing=True)
+    buses = faults.buses
+    arcs = arcing_currents(site, buses, equipment)
+    paths = clearing_paths(site, scenario, faults)
+    times = clear_arcs(site, scenario, faults, arcs["arcing_current_ka"], arcs["reduced_arcing_current_ka"], paths,
+                       equipment, sequences=False, numbers_only=True)
+    eq = equipment if equipment.index.equals(buses.index) else equipment.reindex(buses.index)
+    at = {name: eq[name].to_numpy(float) for name in ("gap_mm", "working_distance_mm", "height_mm", "width_mm",
+                                                        "depth_mm")}
+    config = eq["config"].to_numpy(str)
+    kv, bolted = buses["nominal_kv"].to_numpy(float), buses["bolted_ka"].to_numpy(float)
+    duration = times.table.reindex(buses.index)
+    live = buses["energized"].to_numpy(bool) & (bolted > 0)
+    values = [np.full(kv.size, np.nan) for _ in ENERGY_COLUMNS]
+    if live.any():
+        _, found = _energies(kv[live], bolted[live], at["gap_mm"][live], at["working_distance_mm"][live],
+                             duration["clearing_time_s"].to_numpy(float)[live],
+                             duration["reduced_clearing_time_s"].to_numpy(float)[live], config[live],
+                             at["height_mm"][live], at["width_mm"][live], at["depth_mm"][live])
+        for into, value in zip(values, found):
+            into[live] = value
+    position = pd.Index(buses.index)
+
+    def lookup(labels):
+        p = position.get_indexer(labels)
+        return (kv[p], at["gap_mm"][p], at["working_distance_mm"][p], config[p], at["height_mm"][p],
+                at["width_mm"][p], at["depth_mm"][p])
+
+    for case, energy, boundary in (("full", values[0], values[2]), ("reduced", values[1], values[3])):
+        found = _staged_case(times.stages, case, lookup)
+        if found is not None:
+            _, labels, _, r = found
+            p = position.get_indexer(labels)
+            energy[p] = j_cm2_to_cal_cm2(r.incident_energy_j_cm2)
+            boundary[p] = r.arc_flash_boundary_mm
+    return (*values, bolted), buses.index
+
+
+def _scenario_rows(site, scenario, equipment, stated_times=None):
     faults = solve_scenario(site, scenario.name, for_clearing=True)
     buses = faults.buses
     arcs = arcing_currents(site, buses, equipment)
     paths = clearing_paths(site, scenario, faults)
     cleared = clear_arcs(site, scenario, faults, arcs["arcing_current_ka"], arcs["reduced_arcing_current_ka"],
-                         paths, equipment, sequences)
+                         paths, equipment)
     times = cleared.table
     table = buses.join(arcs).join(times).join(equipment)
     cap = site.facility.arc_duration_cap_s
@@ -97,22 +168,19 @@ def _scenario_rows(site, scenario, equipment, stated_times=None, sequences=True)
         table.loc[bus, ["clearing_sequence", "reduced_clearing_sequence"]] = ""
         table.loc[bus, "staged"] = False
     live = table.index[table["energized"] & (table["bolted_ka"] > 0)]
-    for column in ("incident_energy_cal_cm2", "reduced_incident_energy_cal_cm2", "arc_flash_boundary_mm",
-                   "reduced_arc_flash_boundary_mm"):
+    for column in ENERGY_COLUMNS:
         table[column] = np.nan
     table["model_range"] = ""
     if len(live):
         eq = table.loc[live]
-        r = ieee1584.evaluate(
+        r, values = _energies(
             eq["nominal_kv"].to_numpy(float), eq["bolted_ka"].to_numpy(float), eq["gap_mm"].to_numpy(float),
             eq["working_distance_mm"].to_numpy(float), eq["clearing_time_s"].to_numpy(float),
             eq["reduced_clearing_time_s"].to_numpy(float), eq["config"].to_numpy(str),
             eq["height_mm"].to_numpy(float), eq["width_mm"].to_numpy(float), eq["depth_mm"].to_numpy(float),
         )
-        table.loc[live, "incident_energy_cal_cm2"] = j_cm2_to_cal_cm2(r.incident_energy_j_cm2)
-        table.loc[live, "reduced_incident_energy_cal_cm2"] = j_cm2_to_cal_cm2(r.reduced_incident_energy_j_cm2)
-        table.loc[live, "arc_flash_boundary_mm"] = r.arc_flash_boundary_mm
-        table.loc[live, "reduced_arc_flash_boundary_mm"] = r.reduced_arc_flash_boundary_mm
+        for column, value in zip(ENERGY_COLUMNS, values):
+            table.loc[live, column] = value
         table.loc[live, "model_range"] = r.out_of_range_reason
     stages = cleared.stages[~cleared.stages["bus"].isin(list(stated_times or {}))]
     steps = cleared.steps[~cleared.steps["bus"].isin(list(stated_times or {}))]

@@ -197,7 +197,7 @@ def run_chunk(site, inputs, rows, scenario=None):
 def _run_chunk(site, inputs, rows, scenario=None):
     """The work of :func:`run_chunk`."""
     from .arcing import equipment_table
-    from .pipeline import _scenario_rows
+    from .pipeline import scenario_numbers
     from .stacking import stack_size, stacked_site, tagged
 
     buses = list(site.buses)
@@ -211,7 +211,7 @@ def _run_chunk(site, inputs, rows, scenario=None):
         stacked = stacked_site([sample_site(site, inputs, values) for values in group], base=site)
         equipment = equipment_table(stacked)
         order = pd.Index([tagged(bus, copy) for copy in range(len(group)) for bus in buses])
-        tables = [_scenario_rows(stacked, stacked.scenarios[name], equipment, sequences=False)[0] for name in names]
+        tables = [scenario_numbers(stacked, stacked.scenarios[name], equipment) for name in names]
         shape = (len(group), len(buses))
         for into, values in zip((energy, boundary, bolted), _governing_values(tables, order)):
             into[lo:lo + len(group)] = values.reshape(shape)
@@ -220,21 +220,22 @@ def _run_chunk(site, inputs, rows, scenario=None):
 
 def _governing_values(tables, order):
     """Governing incident energy, arc-flash boundary and bolted current of each bus of ``order`` over the
-    scenario ``tables`` (one each, indexed by bus): per row the larger-energy arcing case, per bus the row
-    of the largest energy, the first scenario's on a tie or where none is energised — the choices of
-    :func:`~arcflash.study.pipeline._finish` and :func:`~arcflash.study.pipeline.governing_rows`,
-    taken on arrays (a run's samples need these numbers, not the rows)."""
+    scenarios' numbers (one each, :func:`~arcflash.study.pipeline.scenario_numbers`: arrays and the buses'
+    index): per row the larger-energy arcing case, per bus the row of the largest energy, the first
+    scenario's on a tie or where none is energised — the choices of :func:`~arcflash.study.pipeline._finish`
+    and :func:`~arcflash.study.pipeline.governing_rows`, taken on arrays (a run's samples need these numbers,
+    not the rows)."""
     energy, boundary, bolted = [], [], []
-    for table in tables:
-        if not table.index.equals(order):
-            table = table.reindex(order)
-        full, reduced = (table[c].to_numpy(float) for c in ("incident_energy_cal_cm2",
-                                                             "reduced_incident_energy_cal_cm2"))
+    for values, index in tables:
+        full, reduced, full_boundary, reduced_boundary, bolted_ka = values
+        if not index.equals(order):
+            at = index.get_indexer(order)
+            full, reduced, full_boundary, reduced_boundary, bolted_ka = (
+                np.where(at >= 0, v[at], np.nan) for v in values)
         governs = reduced > full
         energy.append(np.where(governs, reduced, full))
-        boundary.append(np.where(governs, table["reduced_arc_flash_boundary_mm"].to_numpy(float),
-                                 table["arc_flash_boundary_mm"].to_numpy(float)))
-        bolted.append(table["bolted_ka"].to_numpy(float))
+        boundary.append(np.where(governs, reduced_boundary, full_boundary))
+        bolted.append(bolted_ka)
     energy, boundary, bolted = np.array(energy), np.array(boundary), np.array(bolted)
     row = np.argmax(np.where(np.isnan(energy), -1.0, energy), axis=0)  # the first of the largest
     at = np.arange(order.size)

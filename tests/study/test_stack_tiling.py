@@ -113,3 +113,22 @@ def test_samples_with_more_inputs_studied_together_equal_each_studied_alone():
         assert np.array_equal(energy[k], alone["incident_energy_governing_cal_cm2"].to_numpy(float), equal_nan=True)
         assert np.array_equal(boundary[k], alone["arc_flash_boundary_governing_mm"].to_numpy(float), equal_nan=True)
         assert np.array_equal(bolted[k], alone["bolted_ka"].to_numpy(float), equal_nan=True)
+
+
+@pytest.mark.parametrize("source", ["demo", "synthetic"])
+def test_a_scenarios_numbers_equal_its_rows(source, tmp_path):
+    # An uncertainty chunk reads each scenario's energies, boundaries and bolted currents as arrays
+    # (scenario_numbers) rather than as rows: the same values, bit for bit, staged arcs included
+    from arcflash.study.pipeline import ENERGY_COLUMNS, _scenario_rows, scenario_numbers
+
+    site = _demo_with_more_inputs() if source == "demo" else _synthetic(tmp_path)
+    equipment = equipment_table(site)
+    staged = 0
+    for scenario in site.scenarios.values():
+        rows = _scenario_rows(site, scenario, equipment)[0]
+        values, index = scenario_numbers(site, scenario, equipment)
+        assert index.equals(rows.index)
+        for column, value in zip(ENERGY_COLUMNS + ("bolted_ka",), values):
+            assert np.array_equal(value, rows[column].to_numpy(float), equal_nan=True), (scenario.name, column)
+        staged += int(rows["staged"].sum())
+    assert staged > 0
