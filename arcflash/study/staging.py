@@ -260,10 +260,14 @@ def _follow_local(context, chunk):
         some = sizes > 0
         if some.any():
             first[some] = np.minimum.reduceat(open_at, bounds[:-1][some])
+        ends = [_stage_end(context, arc, float(first[j])) for j, arc in enumerate(active)]
+        # every followed device's progress at its stage's end, for every arc at once (read where the arc goes on)
+        dt = np.array([end - arc.time_s if np.isfinite(end) else 0.0 for arc, (_, end, _) in zip(active, ends)])
+        updated = _progressed(progress, times, reset, np.repeat(dt, sizes)[:, None])
         for j, arc in enumerate(active):
             part = slice(bounds[j], bounds[j + 1])
-            _advance(context, arc, solved.bolted_ka[j], arcing_ka[j], int(code[j]), chosen[j], times[part],
-                     reset[part], device_a[j], progress[part], trip_in[part], open_at[part], float(first[j]))
+            _advance(context, arc, solved.bolted_ka[j], arcing_ka[j], int(code[j]), chosen[j], device_a[j],
+                     trip_in[part], open_at[part], ends[j], updated[part])
         for arc in active:
             if arc.done:  # its trip progress and history are no longer needed
                 arc.held_device, arc.held_progress = NO_DEVICES, NO_PROGRESS
@@ -367,14 +371,10 @@ def _progress(context, arcs, chosen, bounds, rows, devices, shape):
     return progress
 
 
-def _advance(context, arc, bolted_ka, arcing_ka, code, devices, times, reset, device_a, progress, trip_in, open_at,
-             first_s):
-    """One stage of ``arc``: from its present time to the next opening (or the end); ``progress``, ``trip_in``
-    and ``open_at`` of the followed ``devices``, and the first of those openings (``first_s``), are given."""
-    if arc.steps and arc.steps[-1][3] is None:
-        for step in arc.steps:
-            if step[3] is None:
-                step[3], step[5] = arcing_ka, bolted_ka
+def _stage_end(context, arc, first_s):
+    """(next event, end of this stage, whether motor contributions end at it) of ``arc``, the first opening
+    of its followed devices being at ``first_s``: the next opening (or the end of motor contributions),
+    at most the cap [s]."""
     next_time = min([first_s] + list(arc.opening.values()))
     motors_end = (context.motor_end_s is not None and not arc.key.motors_off
                   and context.motor_end_s >= arc.time_s)
@@ -383,6 +383,18 @@ def _advance(context, arc, bolted_ka, arcing_ka, code, devices, times, reset, de
     end = next_time
     if context.cap_s is not None and end > context.cap_s:
         end = context.cap_s
+    return next_time, end, motors_end
+
+
+def _advance(context, arc, bolted_ka, arcing_ka, code, devices, device_a, trip_in, open_at, stage_end, updated):
+    """One stage of ``arc``: from its present time to the next opening (or the end); ``trip_in`` and
+    ``open_at`` of the followed ``devices``, the stage's end (:func:`_stage_end`) and their progress at it
+    (``updated``) are given."""
+    if arc.steps and arc.steps[-1][3] is None:
+        for step in arc.steps:
+            if step[3] is None:
+                step[3], step[5] = arcing_ka, bolted_ka
+    next_time, end, motors_end = stage_end
     arc.stages.append((arc.time_s, end, bolted_ka, arcing_ka, code))
     if not np.isfinite(end) or end < next_time:  # nothing more opens, or the cap comes first
         arc.done, arc.duration_s = True, end
@@ -414,8 +426,7 @@ def _advance(context, arc, bolted_ka, arcing_ka, code, devices, times, reset, de
         arc.done, arc.duration_s = True, end
         arc.governing = _governing(context, arc, now)
         return
-    updated = _progressed(progress, times, reset, dt)  # the arc goes on: its devices' progress is held
-    keep = ~tripped & updated.any(axis=1)
+    keep = ~tripped & updated.any(axis=1)  # the arc goes on: its devices' progress is held
     arc.held_device, arc.held_progress = devices[keep], updated[keep]
     arc.history.append((dt, device_a.copy()))
 
