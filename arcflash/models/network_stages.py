@@ -502,7 +502,10 @@ class NetworkStates(ForestQueries):
                 small = -self.branch_z_pu[opened] + (w[rows, local[index[f_all[opened]]]]
                                                     - w[rows, local[index[t_all[opened]]]])
                 ratio = w[rows, point[updated]] / small
-                z[updated] = z[updated] - w * ratio[:, None]
+                if updated.size == z.shape[0]:  # every fault updated (the usual case): in place
+                    z -= w * ratio[:, None]
+                else:
+                    z[updated] = z[updated] - w * ratio[:, None]
             i_fault = self.voltage_factor / z[np.arange(mine.size), point]  # [pu]
             rows_js = live_rows[faults[mine]]
             on[rows_js] = True
