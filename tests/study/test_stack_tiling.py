@@ -17,7 +17,7 @@ from arcflash.study.clearing import _not_clearing
 from arcflash.study.device_bank import DeviceBank, device_bank
 from arcflash.study.faults import build_network
 from arcflash.study.stacking import stacked_site
-from arcflash.study.uncertainty import run_chunk, sample_design, sample_site, uncertain_inputs
+from arcflash.study.uncertainty import sample_design, sample_site, uncertain_inputs
 
 DEMO = Path(__file__).resolve().parents[2] / "site_data" / "fenwick_ridge"
 
@@ -103,32 +103,9 @@ def test_devices_that_do_not_clear_an_arc_equal_those_read_bus_by_bus():
 
 
 def test_samples_with_more_inputs_studied_together_equal_each_studied_alone():
+    from tests.study.test_uncertainty import _assert_samples_together_equal_alone
+
     site = _demo_with_more_inputs()
-    inputs = uncertain_inputs(site)
-    assert {item.section for item in inputs} >= {"buses", "devices", "cables", "transformers", "utilities"}
-    design = sample_design(inputs, 3, seed=8)
-    energy, boundary, bolted = run_chunk(site, inputs, design)
-    for k, values in enumerate(design):
-        alone = arcflash.run_study(sample_site(site, inputs, values)).governing.reindex(list(site.buses))
-        assert np.array_equal(energy[k], alone["incident_energy_governing_cal_cm2"].to_numpy(float), equal_nan=True)
-        assert np.array_equal(boundary[k], alone["arc_flash_boundary_governing_mm"].to_numpy(float), equal_nan=True)
-        assert np.array_equal(bolted[k], alone["bolted_ka"].to_numpy(float), equal_nan=True)
-
-
-@pytest.mark.parametrize("source", ["demo", "synthetic"])
-def test_a_scenarios_numbers_equal_its_rows(source, tmp_path):
-    # An uncertainty chunk reads each scenario's energies, boundaries and bolted currents as arrays
-    # (scenario_numbers) rather than as rows: the same values, bit for bit, staged arcs included
-    from arcflash.study.pipeline import ENERGY_COLUMNS, _scenario_rows, scenario_numbers
-
-    site = _demo_with_more_inputs() if source == "demo" else _synthetic(tmp_path)
-    equipment = equipment_table(site)
-    staged = 0
-    for scenario in site.scenarios.values():
-        rows = _scenario_rows(site, scenario, equipment)[0]
-        values, index = scenario_numbers(site, scenario, equipment)
-        assert index.equals(rows.index)
-        for column, value in zip(ENERGY_COLUMNS + ("bolted_ka",), values):
-            assert np.array_equal(value, rows[column].to_numpy(float), equal_nan=True), (scenario.name, column)
-        staged += int(rows["staged"].sum())
-    assert staged > 0
+    assert {item.section for item in uncertain_inputs(site)} >= {"buses", "devices", "cables", "transformers",
+                                                                 "utilities"}
+    _assert_samples_together_equal_alone(site, 3, seed=8)

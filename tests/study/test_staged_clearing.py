@@ -540,14 +540,9 @@ def test_closing_a_tie_never_ends_the_arc_before_the_slower_path_alone(tmp_path_
         assert both[f"{prefix}clearing_time_s"] >= slower * (1 - 1e-9)
 
 
-@pytest.mark.parametrize("source, scenario", [("demo", "tie-closed"), ("demo", "utility-min"),
-                                              ("synthetic", "ties-closed")])
-def test_following_only_devices_that_can_clear_within_the_cap_changes_nothing(demo, tmp_path, source, scenario,
-                                                                              monkeypatch):
-    # Devices whose current stays below the level at which they clear within the cap are followed only
-    # once their current reaches it, their progress then replayed from the arc's history. Following every
-    # device from the start (each device's cap level lowered to 1 mA) must give the same arcs.
-    # Every bus is followed stage by stage here, not only those whose one-stage answer is not exact.
+def _cleared_twice(demo, tmp_path, source, scenario, monkeypatch, change):
+    """The arcs of ``scenario`` (the demo, or a synthetic site with ties), every bus followed stage by stage:
+    as the study follows them, and with the staging context's fields changed by ``change(fields)``."""
     from arcflash.study import clearing, staging
     from arcflash.study.arcing import arcing_currents
     from arcflash.study.clearing import clear_arcs
@@ -560,12 +555,23 @@ def test_following_only_devices_that_can_clear_within_the_cap_changes_nothing(de
     faults = solve_scenario(site, scenario, for_clearing=True)
     arcs = arcing_currents(site, faults.buses)
     monkeypatch.setattr(clearing, "_needs_stages", lambda faults, paths, *args: paths.energized & ~paths.no_device)
-    lazy = clear_arcs(site, chosen, faults, arcs["arcing_current_ka"], arcs["reduced_arcing_current_ka"])
+    first = clear_arcs(site, chosen, faults, arcs["arcing_current_ka"], arcs["reduced_arcing_current_ka"])
     real = staging.StagingContext
+    monkeypatch.setattr(staging, "StagingContext", lambda **kw: real(**{**kw, **change(kw)}))
+    return first, clear_arcs(site, chosen, faults, arcs["arcing_current_ka"], arcs["reduced_arcing_current_ka"])
+
+
+@pytest.mark.parametrize("source, scenario", [("demo", "tie-closed"), ("demo", "utility-min"),
+                                              ("synthetic", "ties-closed")])
+def test_following_only_devices_that_can_clear_within_the_cap_changes_nothing(demo, tmp_path, source, scenario,
+                                                                              monkeypatch):
+    # Devices whose current stays below the level at which they clear within the cap are followed only
+    # once their current reaches it, their progress then replayed from the arc's history. Following every
+    # device from the start (each device's cap level lowered to 1 mA) must give the same arcs.
+    # Every bus is followed stage by stage here, not only those whose one-stage answer is not exact.
     # every device carrying 1 mA or more is followed from the first stage
-    monkeypatch.setattr(staging, "StagingContext", lambda **kw: real(**{**kw, "hot_a": np.full(kw["hot_a"].size,
-                                                                                              1e-3)}))
-    every = clear_arcs(site, chosen, faults, arcs["arcing_current_ka"], arcs["reduced_arcing_current_ka"])
+    lazy, every = _cleared_twice(demo, tmp_path, source, scenario, monkeypatch,
+                                 lambda kw: {"hot_a": np.full(kw["hot_a"].size, 1e-3)})
     for column in ("clearing_time_s", "reduced_clearing_time_s", "governing_device", "clearing_sequence",
                    "no_trip", "duration_capped"):
         assert (lazy.table[column].fillna(-1) == every.table[column].fillna(-1)).all(), column
@@ -619,22 +625,7 @@ def test_reading_only_the_devices_that_may_carry_current_changes_nothing(demo, t
     # Staged clearing solves the currents of the devices that may carry current for its arcs only; reading
     # every device of their parts must give the same arcs, stages and openings, bit for bit. Every bus is
     # followed stage by stage here.
-    from arcflash.study import clearing, staging
-    from arcflash.study.arcing import arcing_currents
-    from arcflash.study.clearing import clear_arcs
-    from arcflash.study.faults import solve_scenario
-    from tests.synthetic import synthetic_site
-
-    site = demo if source == "demo" else arcflash.load_site(synthetic_site(tmp_path / "s", 300, ties=6,
-                                                                          substation_size=60))
-    chosen = site.scenario(scenario)
-    faults = solve_scenario(site, scenario, for_clearing=True)
-    arcs = arcing_currents(site, faults.buses)
-    monkeypatch.setattr(clearing, "_needs_stages", lambda faults, paths, *args: paths.energized & ~paths.no_device)
-    fewer = clear_arcs(site, chosen, faults, arcs["arcing_current_ka"], arcs["reduced_arcing_current_ka"])
-    real = staging.StagingContext
-    monkeypatch.setattr(staging, "StagingContext", lambda **kw: real(**{**kw, "carrying": None}))
-    every = clear_arcs(site, chosen, faults, arcs["arcing_current_ka"], arcs["reduced_arcing_current_ka"])
+    fewer, every = _cleared_twice(demo, tmp_path, source, scenario, monkeypatch, lambda kw: {"carrying": None})
     pd.testing.assert_frame_equal(fewer.table, every.table, check_exact=True)
     pd.testing.assert_frame_equal(fewer.stages, every.stages, check_exact=True)
     pd.testing.assert_frame_equal(fewer.steps, every.steps, check_exact=True)
