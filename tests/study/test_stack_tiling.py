@@ -109,3 +109,22 @@ def test_samples_with_more_inputs_studied_together_equal_each_studied_alone():
     assert {item.section for item in uncertain_inputs(site)} >= {"buses", "devices", "cables", "transformers",
                                                                  "utilities"}
     _assert_samples_together_equal_alone(site, 3, seed=8)
+
+
+@pytest.mark.parametrize("source", ["demo", "synthetic"])
+def test_a_scenarios_numbers_equal_its_rows(source, tmp_path):
+    # An uncertainty chunk reads each scenario's energies, boundaries and bolted currents as arrays
+    # (scenario_numbers) rather than as rows: the same values, bit for bit, staged arcs included
+    from arcflash.study.pipeline import ENERGY_COLUMNS, _scenario_rows, scenario_numbers
+
+    site = _demo_with_more_inputs() if source == "demo" else _synthetic(tmp_path)
+    equipment = equipment_table(site)
+    staged = 0
+    for scenario in site.scenarios.values():
+        rows = _scenario_rows(site, scenario, equipment)[0]
+        values, index = scenario_numbers(site, scenario, equipment)
+        assert index.equals(rows.index)
+        for column, value in zip(ENERGY_COLUMNS + ("bolted_ka",), values):
+            assert np.array_equal(value, rows[column].to_numpy(float), equal_nan=True), (scenario.name, column)
+        staged += int(rows["staged"].sum())
+    assert staged > 0
