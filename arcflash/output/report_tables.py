@@ -233,7 +233,7 @@ def scenario_rows(site):
               "switches off", "motors", "energy-reducing maintenance switching on"]
     rows = []
     for s in site.scenarios.values():
-        z = s.transformer_z or ("low" if s.utility == "max" else "high")
+        z = s.transformer_z_side
         motors = "all off" if s.motors == "off" else ("on" + (f" except {_list(s.motors_off)}" if s.motors_off else ""))
         rows.append([s.name, s.description or "-", s.utility + "imum", f"{z} side of its tolerance",
                      _list(s.close), _list(s.open), _list(s.generators_running),

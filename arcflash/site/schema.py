@@ -524,6 +524,12 @@ class Scenario(_Element):
         return self
 
     @property
+    def transformer_z_side(self):
+        """The side of each transformer's %Z tolerance the scenario takes: as stated, else low for the
+        maximum utility level and high for the minimum (the larger and the smaller fault current)."""
+        return self.transformer_z or ("low" if self.utility == "max" else "high")
+
+    @property
     def switching_key(self):
         """The key the site data used for the energy-reducing maintenance switching (for messages)."""
         return "maintenance_mode" if self.maintenance_mode is not None else "energy_reducing_maintenance_switching"

@@ -59,11 +59,22 @@ def device_curve(site, device_id, maintenance=False):
             breaker_cycles=r.breaker_cycles, frequency_hz=frequency,
         )
     elif device.trip_unit is not None:
-        u = device.trip_unit.model_copy(update=device.maintenance) if maintenance else device.trip_unit
+        u = trip_unit_in_use(device, maintenance)
         settings = TripUnitSettings(**u.model_dump(), frequency_hz=frequency)
     else:
         settings = site.curves[device.curve].to_model()
     return DeviceCurve(device_id, device.kind, settings)
+
+
+def trip_unit_in_use(device, maintenance):
+    """A device's trip unit with its maintenance settings applied where ``maintenance`` is on."""
+    return device.trip_unit.model_copy(update=device.maintenance) if maintenance else device.trip_unit
+
+
+def threshold_source(site, device, maintenance):
+    """What a device's clearing thresholds are made of (remembered by identity, :meth:`DeviceBank._threshold_a`):
+    the device, its maintenance state, the frequency and its digitised curve (None for none)."""
+    return device, maintenance, site.facility.frequency_hz, site.curves.get(device.curve) if device.curve else None
 
 
 class DeviceBank:
@@ -84,13 +95,12 @@ class DeviceBank:
         relays = [device_curve(site, ident, ident in maintenance).settings
                   for ident, d in zip(device_ids, devices) if d.relay is not None]
         # Trip units straight from the validated site data (maintenance overrides applied).
-        units = [d.trip_unit.model_copy(update=d.maintenance) if ident in maintenance else d.trip_unit
-                 for ident, d in zip(device_ids, devices) if d.trip_unit is not None]
+        units = [trip_unit_in_use(d, ident in maintenance) for ident, d in zip(device_ids, devices)
+                 if d.trip_unit is not None]
         self.relays = relay_parameters(relays) if relays else None
         self.units = trip_unit_parameters(units, site.facility.frequency_hz) if units else None
         # what each device's curve is made of (for thresholds remembered device by device)
-        self._sources = [(d, ident in maintenance, site.facility.frequency_hz,
-                          site.curves.get(d.curve) if d.curve else None) for ident, d in zip(device_ids, devices)]
+        self._sources = [threshold_source(site, d, ident in maintenance) for ident, d in zip(device_ids, devices)]
         named = [d.curve for d in devices]
         self.curve_names = sorted({name for name in named if name})
         self.curves = {name: site.curves[name].to_model() for name in self.curve_names}

@@ -143,7 +143,7 @@ def build_network(site, scenario):
     bus_ids = list(site.buses)
     index = {b: i for i, b in enumerate(bus_ids)}
     base_kv = np.array([site.buses[b].nominal_kv for b in bus_ids])
-    side = scenario.transformer_z or ("low" if scenario.utility == "max" else "high")
+    side = scenario.transformer_z_side
     branches = list(_fixed_branches(site, side))
     fixed = len(branches)
     for ident, s in site.switches.items():

@@ -79,7 +79,7 @@ def stacked_network(site, scenario):
     stack = site.stack
     base = build_network(stack.base, stack.base.scenario(scenario.name))
     copies, n = len(stack.copies), len(base.bus_ids)
-    side = scenario.transformer_z or ("low" if scenario.utility == "max" else "high")
+    side = scenario.transformer_z_side
     branch_value = {
         "transformers": lambda copy, t: transformer_z_pu(copy, t, side),
         "cables": cable_z_pu,
@@ -171,7 +171,7 @@ def stacked_bank(site, scenario, device_ids):
     bank repeated once per copy, the trip units and curve positions of the devices a copy changed (their
     place in their band) computed again (remembered on the stack per scenario)."""
     from ..models.curves import trip_unit_parameters
-    from .device_bank import device_bank
+    from .device_bank import device_bank, threshold_source, trip_unit_in_use
     from .faults import build_network
 
     stack = site.stack
@@ -212,12 +212,10 @@ def stacked_bank(site, scenario, device_ids):
             device = stack.copies[k].devices[ident]
             at = k * len(ids) + j
             bank._changed_at.append(at)
-            bank._sources.append((device, ident in maintenance, frequency,
-                                  stack.base.curves.get(device.curve) if device.curve else None))
+            bank._sources.append(threshold_source(stack.base, device, ident in maintenance))
             if device.trip_unit is not None:
                 rows.append(bank.row[at])
-                units.append(device.trip_unit.model_copy(update=device.maintenance) if ident in maintenance
-                             else device.trip_unit)
+                units.append(trip_unit_in_use(device, ident in maintenance))
             elif device.curve:
                 bank.curve_position[at] = device.curve_band_position
     if units:
