@@ -30,8 +30,9 @@ from scipy.sparse.csgraph import connected_components
 from .network import admittance_matrix, base_current_ka
 from .network_factors import COLUMNS_TOGETHER_ROWS, PartsLU, remembered_lu, solve_each
 from .network_forest import ForestQueries, SpanningForest, spanning_forest
+from .network_tiles import TiledTopology, Tiling
 
-__all__ = ["NetworkStates", "SpanningForest", "StageFaults", "StateKey"]
+__all__ = ["NetworkStates", "SpanningForest", "StageFaults", "StateKey", "Tiling"]
 
 #: Fault columns solved together [-].
 BLOCK_COLUMNS = 128
@@ -104,10 +105,14 @@ class NetworkStates(ForestQueries):
         Where the LU factors of the base state's parts are remembered by their matrices; networks given
         the same dict (the scenarios of one site) share them: a part a scenario leaves as another had it,
         or a scenario whose network equals another's, is not factorised again [-]
+    tiling : Tiling, optional
+        The network is copies of one base network (an uncertainty run's stack): the topology of its states
+        is read from the base network, once for all copies (:mod:`.network_tiles`) [-]
     """
 
     def __init__(self, base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_z_pu, shunt_is_motor,
-                 source_bus, device_branch, device_kv, voltage_factor=1.0, s_base_mva=100.0, base_factors=None):
+                 source_bus, device_branch, device_kv, voltage_factor=1.0, s_base_mva=100.0, base_factors=None,
+                 tiling=None):
         self.base_kv = np.asarray(base_kv, dtype=float)
         self.n = self.base_kv.size
         self.branch_from = np.asarray(branch_from, dtype=np.intp)
@@ -124,6 +129,7 @@ class NetworkStates(ForestQueries):
         self.s_base_mva = float(s_base_mva)
         self._states = {}
         self._base_factors = {} if base_factors is None else base_factors
+        self._tiles = None if tiling is None else TiledTopology(self, tiling, _topology_only)
 
     def _topology(self, key):
         """Branch ends (after any split), closed branches and energised nodes of a state (cached)."""
@@ -234,6 +240,16 @@ class NetworkStates(ForestQueries):
 
     def _plan(self, key):
         """The work of :meth:`_update_plan` (a list of branches, never changed by its callers, or None)."""
+        applied = self._tiles.plan(key) if self._tiles is not None else False
+        if applied is False:
+            applied = self._plan_topology(key)
+        if applied is None or any(abs(self.branch_z_pu[b]) < LOW_RANK_MIN_Z_PU for b in applied):
+            return None
+        return applied
+
+    def _plan_topology(self, key):
+        """The branches of :meth:`_plan` as the network's topology gives them (before the check of their
+        impedances), or None."""
         f, t, _, _, label = self._topology(key)
         parts = label.max() + 1
         grounded = np.zeros(parts, dtype=bool)
@@ -257,9 +273,34 @@ class NetworkStates(ForestQueries):
                 applied.append(b)
         if not all(grounded[find(p)] for p in touched):
             return None
-        if any(abs(self.branch_z_pu[b]) < LOW_RANK_MIN_Z_PU for b in applied):
-            return None
         return applied
+
+    def reaches_source(self, key, bus):
+        if self._tiles is not None:
+            found = self._tiles.reaches_source(key, bus)
+            if found is not None:
+                return found
+        return super().reaches_source(key, bus)
+
+    reaches_source.__doc__ = ForestQueries.reaches_source.__doc__
+
+    def _part_at(self, key, point):
+        """(whether a source reaches ``point``, its part: a hashable token) in state ``key``."""
+        if self._tiles is not None and key.split is None:
+            found = self._tiles.part_at(key, point)
+            if found is not None:
+                return found
+        _, _, _, energized, label = self._topology(key)
+        return bool(energized[point]), int(label[point])
+
+    def _carrying(self, key, part, b, position):
+        """Positions (ascending) among the wanted devices (branches ``b``; ``position``: each device's
+        position, -1 where not wanted) of those closed, energised and in ``part`` (of :meth:`_part_at`) in
+        state ``key``: those that may carry a fault's current there."""
+        if isinstance(part, tuple):
+            return self._tiles.carrying(key, part, position)
+        f, _, closed, energized, label = self._topology(key)
+        return np.flatnonzero(closed[b] & (label[f[b]] == part) & energized[f[b]])
 
     def _base_parts(self):
         """The base state's factors part by part: the part of each row, and (rows, LU) of each part."""
@@ -387,15 +428,18 @@ class NetworkStates(ForestQueries):
         index, lu = self._prepared(solved_key)
         b = self.device_branch[devices]
         scale = self._device_scale[devices]
-        points, live_rows = [], []
+        points, live_rows, parts = [], [], []
         for row, key in zip(rows, keys):
-            energized = self._topology(key)[3]
-            point = self.n if key.split is not None else fault_bus[row]
-            if energized[point]:
+            point = self.n if key.split is not None else int(fault_bus[row])
+            energized, part = self._part_at(key, point)
+            if energized:
                 points.append(point)
                 live_rows.append(row)
+                parts.append(part)
         if not live_rows:
             return
+        wanted = np.full(self.device_branch.size, -1, dtype=np.intp)  # each device's column (-1: not wanted)
+        wanted[devices] = np.arange(devices.size)
         live_rows = np.array(live_rows, dtype=np.intp)
         by_row = dict(zip(rows.tolist(), zip(keys, plans)))
         col = index[np.array(points, dtype=np.intp)]
@@ -412,20 +456,20 @@ class NetworkStates(ForestQueries):
         base_f, base_t = index[self.branch_from[b]], index[self.branch_to[b]]
         # Faults in the same state and the same part of the network are taken together.
         groups, in_base = {}, []
-        for j, (row, point) in enumerate(zip(live_rows.tolist(), points)):
+        for j, (row, part) in enumerate(zip(live_rows.tolist(), parts)):
             key = by_row[row][0]
             if from_base and key == solved_key:  # faults in the base state itself: taken together below
                 in_base.append(j)
                 continue
-            groups.setdefault((key, int(self._topology(key)[4][point])), []).append(j)
+            groups.setdefault((key, part), []).append(j)
         if in_base:
             self._fill_base(np.array(in_base, dtype=np.intp), col, np.array(points, dtype=np.intp), live_rows,
                             fault_bus, base_columns, b, scale, bolted, current, on)
         if from_base:  # states one branch (or none) away from the base state: every such group at once
             single = {g: js for g, js in groups.items() if len(by_row[int(live_rows[js[0]])][1]) <= 1}
             if single:
-                self._fill_rank_one(single, by_row, col, live_rows, fault_bus, base_columns, b, scale, bolted,
-                                    current, on)
+                self._fill_rank_one(single, by_row, col, live_rows, fault_bus, base_columns, b, wanted, scale,
+                                    bolted, current, on)
                 groups = {g: js for g, js in groups.items() if g not in single}
         for (key, part), js in groups.items():
             js = np.array(js, dtype=np.intp)
@@ -446,14 +490,14 @@ class NetworkStates(ForestQueries):
                     z = z - w @ np.linalg.solve(small, rhs)
                 else:  # each fault on its own: a batch's make-up would reach the last digits of its sums
                     z = z - np.column_stack([w @ np.linalg.solve(small, rhs[:, [c]]) for c in range(js.size)])
-            f, t, closed, energized, label = self._topology(key)
             i_fault = self.voltage_factor / z[position[col[js]], np.arange(js.size)]  # [pu]
             rows_js = live_rows[js]
             on[rows_js] = True
             bolted[rows_js] = np.abs(i_fault) * base_current_ka(self.s_base_mva, self.base_kv[fault_bus[rows_js]])
             # A device carries current only if closed and in the faulted point's part of the network.
-            idx = np.flatnonzero(closed[b] & (label[f[b]] == part) & energized[f[b]])
+            idx = self._carrying(key, part, b, wanted)
             if key.split is not None:  # the split state's own numbering
+                f, t = self._topology(key)[:2]
                 ends_f, ends_t = position[index[f[b[idx]]]], position[index[t[b[idx]]]]
             else:
                 ends_f, ends_t = position[base_f[idx]], position[base_t[idx]]
@@ -467,7 +511,8 @@ class NetworkStates(ForestQueries):
             else:
                 current[np.ix_(rows_js, idx)] = i_dev
 
-    def _fill_rank_one(self, groups, by_row, col, live_rows, fault_bus, base_columns, b, scale, bolted, current, on):
+    def _fill_rank_one(self, groups, by_row, col, live_rows, fault_bus, base_columns, b, wanted, scale, bolted,
+                       current, on):
         """Faults ``groups`` ((state, part) -> positions) in states that differ from the base state by one
         opened branch or none (their plans), all at once: each fault's base column (``base_columns``, on its
         part's rows) updated by its branch (Woodbury, rank one), element by element as :meth:`_fill` does
@@ -479,8 +524,7 @@ class NetworkStates(ForestQueries):
         faults, branch, pairs = [], [], []  # pairs: (fault, device) of each fault's devices
         for (key, part), js in groups.items():
             plan = by_row[int(live_rows[js[0]])][1]
-            f, _, closed, energized, label = self._topology(key)
-            idx = np.flatnonzero(closed[b] & (label[f[b]] == part) & energized[f[b]])
+            idx = self._carrying(key, part, b, wanted)
             for j in js:
                 pairs.append((len(faults), idx))
                 faults.append(j)
@@ -564,3 +608,11 @@ class NetworkStates(ForestQueries):
                 local[rows] = np.arange(rows.size)
             self._states["base_local"] = local
         return self._states["base_local"]
+
+
+def _topology_only(n, branch_from, branch_to, shunt_bus, source_bus, device_branch):
+    """A :class:`NetworkStates` whose topology alone is read (a tiled network's base, :mod:`.network_tiles`):
+    its impedances and voltages are placeholders."""
+    return NetworkStates(np.ones(n), branch_from, branch_to, np.ones(branch_from.size, dtype=complex), shunt_bus,
+                         np.ones(shunt_bus.size, dtype=complex), np.zeros(shunt_bus.size, dtype=bool), source_bus,
+                         device_branch, np.ones(device_branch.size))

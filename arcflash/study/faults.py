@@ -57,6 +57,9 @@ class NetworkArrays:
     #: shunts (utilities, generators, motors; the sources are the first two) [-].
     branch_sections: tuple = ()
     shunt_sections: tuple = ()
+    #: A stacked site's network: how it repeats its base site's
+    #: (:class:`~arcflash.models.network_tiles.Tiling`); None for any other site.
+    tiling: object = None
 
 
 def _complex(r, x):

@@ -17,6 +17,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from ..models.network_tiles import Tiling
 from .device_bank import DeviceBank
 from .stacking import tagged
 
@@ -142,6 +143,7 @@ def stacked_network(site, scenario):
         device_kv=np.tile(base.device_kv, copies),
         branch_sections=tuple((section, count * copies) for section, count in base.branch_sections),
         shunt_sections=tuple((section, count * copies) for section, count in base.shunt_sections),
+        tiling=Tiling(copies, n, branch_start, branch_step, len(base.device_ids)),
     )
 
 
@@ -175,13 +177,14 @@ def stacked_bank(site, scenario, device_ids):
     from .faults import build_network
 
     stack = site.stack
-    key = ("bank", scenario.name, len(device_ids))
-    if key in stack.memory:
-        return stack.memory[key]
     chosen = stack.base.scenario(scenario.name)
     ids = build_network(stack.base, chosen).device_ids
     copies = len(stack.copies)
     assert len(device_ids) == copies * len(ids), "a stacked site's devices are its base's, copy by copy"
+    maintenance = frozenset(chosen.energy_reducing_maintenance_switching)
+    key = ("bank", tuple(ids), maintenance)  # what a bank depends on: scenarios alike in these share it
+    if key in stack.memory:
+        return stack.memory[key]
     base = device_bank(stack.base, chosen, ids)
     bank = object.__new__(_TiledBank)
     bank._base, bank._copies = base, copies
@@ -199,7 +202,6 @@ def stacked_bank(site, scenario, device_ids):
     bank.curve_names, bank.curves = base.curve_names, base.curves
     bank.point_curve = np.tile(base.point_curve, copies)
     bank.curve_position = np.tile(base.curve_position, copies)
-    maintenance = set(chosen.energy_reducing_maintenance_switching)
     frequency = stack.base.facility.frequency_hz
     position = {ident: j for j, ident in enumerate(ids)}
     rows, units = [], []  # the changed trip units, evaluated together

@@ -491,7 +491,7 @@ def network_states(site, net):
         net.base_kv, net.branch_from, net.branch_to, net.branch_z_pu, net.shunt_bus, net.shunt_z_pu,
         np.array([ident not in sources for ident in net.shunt_ids], dtype=bool), net.source_bus,
         net.device_branch, net.device_kv, voltage_factor=site.facility.voltage_factor,
-        s_base_mva=site.facility.s_base_mva, base_factors=site_memory("base_factors", site))
+        s_base_mva=site.facility.s_base_mva, base_factors=site_memory("base_factors", site), tiling=net.tiling)
 
 
 def stage_arcing(net, equipment):

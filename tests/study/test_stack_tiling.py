@@ -56,7 +56,9 @@ def test_network_arrays_equal_those_built_element_by_element(stacks):
         a, b = build_network(tiled, tiled.scenarios[name]), build_network(plain, plain.scenarios[name])
         for field in dataclasses.fields(a):
             x, y = getattr(a, field.name), getattr(b, field.name)
-            if isinstance(x, np.ndarray):
+            if field.name == "tiling":  # what the copy-by-copy build knows of its copies, and only it
+                assert y is None and x.copies == len(tiled.stack.copies) and x.bus_count == len(site.buses)
+            elif isinstance(x, np.ndarray):
                 assert x.dtype == y.dtype and np.array_equal(x, y), (name, field.name)
             else:
                 assert x == y, (name, field.name)
@@ -128,3 +130,68 @@ def test_a_scenarios_numbers_equal_its_rows(source, tmp_path):
             assert np.array_equal(value, rows[column].to_numpy(float), equal_nan=True), (scenario.name, column)
         staged += int(rows["staged"].sum())
     assert staged > 0
+
+
+def _states(net, tiling):
+    from arcflash.models.network_stages import NetworkStates
+
+    sources = set(net.source_ids)
+    return NetworkStates(net.base_kv, net.branch_from, net.branch_to, net.branch_z_pu, net.shunt_bus,
+                         net.shunt_z_pu, np.array([i not in sources for i in net.shunt_ids]), net.source_bus,
+                         net.device_branch, net.device_kv, tiling=tiling)
+
+
+def test_states_read_from_the_base_network_equal_those_of_the_whole_stack(stacks):
+    # The topology of a stacked network's states read once from its base network (arcflash.models.network_tiles)
+    # against reading it from the whole stacked network: the same plans, the same fed buses, the same faults,
+    # bit for bit, for states of one to three openings, line-side splits and ended motors in every copy.
+    from arcflash.models.network_stages import StateKey
+
+    site, tiled, _ = stacks
+    rng = np.random.default_rng(5)
+    cut_off = False  # some faults with no source left: both answers met
+    for name in site.scenarios:
+        net = build_network(tiled, tiled.scenarios[name])
+        quick, whole = _states(net, net.tiling), _states(net, None)
+        per_copy = net.device_branch.reshape(net.tiling.copies, -1)
+        keys, buses = [], []
+        for copy, branches in enumerate(per_copy):
+            own = np.arange(copy * net.tiling.bus_count, (copy + 1) * net.tiling.bus_count)
+            for _ in range(12):
+                opened = frozenset(rng.choice(branches, size=rng.integers(0, 4), replace=False).tolist())
+                bus = int(rng.choice(own))
+                split = None
+                at_bus = [b for b in branches.tolist() if bus in (net.branch_from[b], net.branch_to[b])]
+                if at_bus and rng.random() < 0.2:
+                    split = (bus, frozenset(at_bus[:1]))
+                keys.append(StateKey(opened, bool(rng.random() < 0.1), split))
+                buses.append(bus)
+        for key, bus in zip(keys, buses):
+            assert quick.reaches_source(key, bus) == whole.reaches_source(key, bus), (name, key, bus)
+            if key.opened:
+                assert quick._update_plan(key) == whole._update_plan(key), (name, key)
+        a, b = quick.solve_pairs(keys, buses), whole.solve_pairs(keys, buses)
+        assert np.array_equal(a.energized, b.energized) and a.energized.any()
+        cut_off |= not a.energized.all()
+        assert np.array_equal(a.bolted_ka, b.bolted_ka), name
+        assert np.array_equal(a.device_current_ka, b.device_current_ka), name
+        some = np.arange(0, net.device_branch.size, 3)  # some devices only
+        assert np.array_equal(quick.solve_pairs(keys, buses, devices=some).device_current_ka,
+                              b.device_current_ka[:, some]), name
+    assert cut_off
+
+
+def test_a_tiling_the_network_does_not_follow_is_refused(stacks):
+    from arcflash.models.network_tiles import Tiling
+
+    site, tiled, _ = stacks
+    net = build_network(tiled, tiled.scenarios["normal"])
+    t = net.tiling
+    moved = net.branch_to.copy()
+    moved[t.branch_start[0] + t.branch_step[0]] = t.bus_count + (net.branch_to[t.branch_start[0]] + 1) % t.bus_count
+    with pytest.raises(ValueError, match="not joined as its base"):  # copy 1 joins one branch elsewhere
+        _states(dataclasses.replace(net, branch_to=moved), t)
+    with pytest.raises(ValueError, match="devices"):
+        _states(dataclasses.replace(net, device_branch=net.device_branch[::-1].copy()), t)
+    with pytest.raises(ValueError, match="buses and branches"):
+        _states(net, Tiling(t.copies + 1, t.bus_count, t.branch_start, t.branch_step, t.device_count))
