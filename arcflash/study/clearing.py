@@ -104,6 +104,8 @@ class ClearingPaths:
     bus_part: np.ndarray
     forest: object = None
     sides: tuple = ()
+    #: Per row: its (fault bus, device) pair's position in the scenario's fault solution, -1 for none [-].
+    pair: np.ndarray = None
 
 
 def clearing_paths(site, scenario, faults):
@@ -131,6 +133,12 @@ def clearing_paths(site, scenario, faults):
     currents = sp.csr_matrix((solution.device_current_ka, (solution.device_fault_bus, solution.device)),
                              shape=(n_bus, n_dev))
     device_ka = np.asarray(currents[bus, dev]).ravel() if bus.size else np.zeros(0)
+    pair = np.full(bus.size, -1, dtype=np.intp)
+    if bus.size:
+        pairs = sp.csr_matrix((np.arange(1, solution.device.size + 1), (solution.device_fault_bus, solution.device)),
+                              shape=(n_bus, n_dev))
+        pair = np.asarray(pairs[bus, dev]).ravel().astype(np.intp) - 1
+        pair[(pair >= 0) & (solution.device_current_ka[np.maximum(pair, 0)] != device_ka)] = -1  # twice listed
     bolted = solution.bolted_ka
     path = src * n_bus + bus
     paths_found, row_path = np.unique(path, return_inverse=True)
@@ -152,7 +160,7 @@ def clearing_paths(site, scenario, faults):
         bank=device_bank(site, scenario, net.device_ids), cap_s=site.facility.arc_duration_cap_s,
         source_bus=np.array([b for _, b in sources], dtype=np.intp),
         on_loop=on_loop, sources_reaching=np.bincount(reached_bus, minlength=n_bus), excluded=excluded_by_bus,
-        line_side=line_side, back_feed=sides[0], bus_part=forest.base, forest=forest, sides=sides,
+        line_side=line_side, back_feed=sides[0], bus_part=forest.base, forest=forest, sides=sides, pair=pair,
     )
 
 
@@ -250,7 +258,23 @@ def _name_capped(paths, states, buses, ratio, governing):
     return governing
 
 
-def _needs_stages(faults, paths, ratio, arcing_pu, duration, governing, threshold_pu, motor_end_s):
+def _pair_times(faults, paths, ratio):
+    """Clearing time of every (fault bus, device) pair of the fault solution, and of every path row, at the
+    currents of the fault's inception (``ratio``: arcing over bolted current per bus) [s]: a row read from its
+    pair's time where its current is the pair's (the same product, so the same time), else evaluated."""
+    solution = faults.solution
+    every = paths.bank.clearing_time_s(
+        solution.device, np.nan_to_num(solution.device_current_ka * ratio[solution.device_fault_bus] * 1000.0))
+    amps = paths.device_ka * ratio[paths.bus] * 1000.0
+    read = (paths.pair >= 0) & np.isfinite(amps)
+    time = np.empty(amps.size)
+    time[read] = every[paths.pair[read]]
+    if not read.all():
+        time[~read] = paths.bank.clearing_time_s(paths.device[~read], amps[~read])
+    return every, time
+
+
+def _needs_stages(faults, paths, ratio, arcing_pu, duration, governing, threshold_pu, motor_end_s, every):
     """Buses whose one-stage answer is not exact: they are followed stage by stage.
 
     The one-stage answer is exact where no device left out of the device
@@ -267,14 +291,16 @@ def _needs_stages(faults, paths, ratio, arcing_pu, duration, governing, threshol
       network does not change before the cap, so the arc burns at its
       inception current until the cap (the governing device named is the
       one-stage answer's, the device that would end it later).
+
+    ``every``: the clearing time of each pair of the fault solution at the
+    inception currents (:func:`_pair_times`) [s].
     """
     net, solution = faults.net, faults.solution
     n_bus = len(paths.bus_ids)
     bus = solution.device_fault_bus
-    amps = solution.device_current_ka * ratio[bus] * 1000.0
     first = np.full(n_bus, np.inf)
     if bus.size:
-        np.minimum.at(first, bus, paths.bank.clearing_time_s(solution.device, np.nan_to_num(amps)))
+        np.minimum.at(first, bus, every)
     bridge = np.zeros(n_bus, dtype=bool)
     has = governing >= 0
     bridge[has] = ~paths.on_loop[net.device_branch[governing[has]]]
@@ -352,10 +378,10 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
     for case, _, arc in cases:
         arc_ka = arc.reindex(paths.bus_ids).to_numpy(float)
         ratio = np.where(paths.bolted_ka > 0, arc_ka / np.where(paths.bolted_ka > 0, paths.bolted_ka, 1.0), 0.0)
-        time = paths.bank.clearing_time_s(paths.device, paths.device_ka * ratio[paths.bus] * 1000.0)
+        every, time = _pair_times(faults, paths, ratio)
         duration, governing = _one_stage(paths, time)
         staged = _needs_stages(faults, paths, ratio, np.nan_to_num(arc_ka) / bus_base_ka, duration, governing,
-                               threshold_pu, motor_end_s)
+                               threshold_pu, motor_end_s, every)
         if cap is not None and not numbers_only:  # capped before any opening, fed over several paths: name
             # the device from the full currents
             several = np.flatnonzero(~staged & paths.energized & ~paths.no_device & (paths.sources_reaching > 1)
