@@ -52,14 +52,21 @@ class PartsLU:
     Only the parts where the right-hand side has entries are solved, each with only the columns that
     have entries in it: every other block of the solution is zero (a regular part with a zero right-hand
     side), so a column costs the work of its own part however many parts there are.
+
+    ``factors[number]`` is (rows, LU) of a part, the part factorised when first asked for (a stack of many
+    copies whose arcs are followed in a few of them factorises those few); ``row_part`` and ``local`` give
+    each row's part and position within it.
     """
 
-    def __init__(self, shape, factors):
+    def __init__(self, shape, factors, row_part=None, local=None):
         self.shape = shape
         self.factors = factors
-        self.row_part = np.empty(shape[0], dtype=np.intp)
-        for number, (rows, _) in enumerate(factors):
-            self.row_part[rows] = number
+        if row_part is None:
+            row_part, local = np.empty(shape[0], dtype=np.intp), np.empty(shape[0], dtype=np.intp)
+            for number, (rows, _) in enumerate(factors):
+                row_part[rows] = number
+                local[rows] = np.arange(rows.size)
+        self.row_part, self.local = row_part, local
 
     def solve(self, rhs):
         out = np.zeros(rhs.shape, dtype=np.result_type(rhs.dtype, complex))
@@ -75,3 +82,49 @@ class PartsLU:
             else:
                 out[np.ix_(rows, cols)] = solved
         return out
+
+
+class _FactorsWhenAsked:
+    """(rows, LU) of each part of a block-diagonal matrix, each factorised (or found in ``memo``) when first
+    asked for: a sequence of the parts' CSC pieces."""
+
+    def __init__(self, pieces, memo):
+        self._pieces, self._memo, self._done = pieces, memo, {}
+
+    def __len__(self):
+        return len(self._pieces)
+
+    def __getitem__(self, number):
+        found = self._done.get(number)
+        if found is None:
+            rows, indptr, indices, data = self._pieces[number]
+            found = self._done[number] = (rows, remembered_lu(rows.size, indptr, indices, data, self._memo))
+        return found
+
+
+def factorised(y, part, memo):
+    """The LU factorisation of the admittance matrix ``y``, one per connected part (``part``: the part of each
+    row), each part factorised when first solved (:class:`PartsLU`) and its factors remembered by its matrix
+    in ``memo``: a part's arithmetic never depends on the other parts, and a state that changes one part
+    refactorises only that one."""
+    parts = np.unique(part)
+    if parts.size == 1:
+        return remembered_lu(y.shape[0], y.indptr, y.indices, y.data, memo, y)
+    y = y.tocsc()  # canonical (sorted, summed): each part's columns hold only that part's rows
+    order = np.argsort(part, kind="stable")
+    bounds = np.flatnonzero(np.diff(part[order])) + 1
+    starts = np.concatenate(([0], bounds))
+    sizes = np.diff(np.append(starts, part.size))
+    local = np.empty(part.size, dtype=np.intp)
+    local[order] = np.arange(part.size) - np.repeat(starts, sizes)
+    row_part = np.empty(part.size, dtype=np.intp)
+    row_part[order] = np.repeat(np.arange(starts.size), sizes)
+    # The entries of the columns in part order, each part's a contiguous run (its own CSC arrays).
+    length = np.diff(y.indptr)[order]
+    first = np.repeat(y.indptr[order], length)
+    entry = first + np.arange(first.size) - np.repeat(np.cumsum(length) - length, length)
+    indices, data = local[y.indices[entry]].astype(np.int32), y.data[entry]
+    ends = np.concatenate(([0], np.cumsum(length)))
+    pieces = [(order[lo:hi], (ends[lo:hi + 1] - ends[lo]).astype(np.int32), indices[ends[lo]:ends[hi]],
+               data[ends[lo]:ends[hi]]) for lo, hi in zip(starts.tolist(), np.append(bounds, part.size).tolist())]
+    return PartsLU(y.shape, _FactorsWhenAsked(pieces, memo), row_part, local)

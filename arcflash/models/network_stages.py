@@ -28,7 +28,7 @@ import scipy.sparse as sp
 from scipy.sparse.csgraph import connected_components
 
 from .network import admittance_matrix, base_current_ka
-from .network_factors import COLUMNS_TOGETHER_ROWS, PartsLU, remembered_lu, solve_each
+from .network_factors import COLUMNS_TOGETHER_ROWS, PartsLU, factorised, solve_each
 from .network_forest import ForestQueries, SpanningForest, spanning_forest
 from .network_tiles import TiledTopology, Tiling
 
@@ -183,36 +183,9 @@ class NetworkStates(ForestQueries):
             y = admittance_matrix(active.size, index[f[use]], index[t[use]], self.branch_z_pu[use],
                                   index[self.shunt_bus[shunt]], self.shunt_z_pu[shunt])
             memo = self._base_factors if key == StateKey() else self._states.setdefault("blocks", {})
-            lu = self._factorised(y, self._topology(key)[4][active], memo)
+            lu = factorised(y, self._topology(key)[4][active], memo)
         self._states[key] = (index, lu)
         return index, lu
-
-    def _factorised(self, y, part, memo):
-        """The LU factorisation of ``y``, one per connected part (``part``: the part of each row), each part's
-        factors remembered by its matrix in ``memo``: a part's arithmetic never depends on the other parts,
-        and a state that changes one part refactorises only that one."""
-        parts = np.unique(part)
-        if parts.size == 1:
-            return remembered_lu(y.shape[0], y.indptr, y.indices, y.data, memo, y)
-        y = y.tocsc()  # canonical (sorted, summed): each part's columns hold only that part's rows
-        order = np.argsort(part, kind="stable")
-        bounds = np.flatnonzero(np.diff(part[order])) + 1
-        starts = np.concatenate(([0], bounds))
-        local = np.empty(part.size, dtype=np.intp)
-        local[order] = np.arange(part.size) - np.repeat(starts, np.diff(np.append(starts, part.size)))
-        # The entries of the columns in part order, each part's a contiguous run (its own CSC arrays).
-        length = np.diff(y.indptr)[order]
-        first = np.repeat(y.indptr[order], length)
-        entry = first + np.arange(first.size) - np.repeat(np.cumsum(length) - length, length)
-        indices, data = local[y.indices[entry]].astype(np.int32), y.data[entry]
-        ends = np.concatenate(([0], np.cumsum(length)))
-        factors = []
-        for lo, hi in zip(starts, np.append(bounds, part.size)):
-            rows = order[lo:hi]
-            indptr = (ends[lo:hi + 1] - ends[lo]).astype(np.int32)
-            sub_indices, sub_data = indices[ends[lo]:ends[hi]], data[ends[lo]:ends[hi]]
-            factors.append((rows, remembered_lu(rows.size, indptr, sub_indices, sub_data, memo)))
-        return PartsLU(y.shape, factors)
 
     @property
     def factorisations(self):
@@ -602,11 +575,8 @@ class NetworkStates(ForestQueries):
     def _base_local(self):
         """Position of each row of the base state's factorisation within its part (cached) [-]."""
         if "base_local" not in self._states:
-            row_part, factors = self._base_parts()
-            local = np.empty(row_part.size, dtype=np.intp)
-            for rows, _ in factors:
-                local[rows] = np.arange(rows.size)
-            self._states["base_local"] = local
+            _, lu = self._prepared(StateKey())
+            self._states["base_local"] = lu.local if isinstance(lu, PartsLU) else np.arange(lu.shape[0])
         return self._states["base_local"]
 
 

@@ -203,6 +203,35 @@ def test_a_block_diagonal_solve_touches_only_the_parts_of_its_right_hand_side():
     np.testing.assert_array_equal(parts.solve(rhs[:, 0]), solved[:, 0])
 
 
+def test_the_parts_of_a_block_diagonal_matrix_are_factorised_when_first_solved():
+    # factorised(): a part is factorised only when a right-hand side reaches it (a stack of many copies whose
+    # arcs are followed in a few of them factorises those few); each solve equals the whole matrix's solve
+    # (linear algebra: the blocks are independent), and equals the part's own factors' solve bit for bit.
+    import scipy.sparse as sp
+    from scipy.sparse.linalg import splu
+
+    from arcflash.models.network_factors import factorised
+
+    rng = np.random.default_rng(3)
+    sizes = [4, 6, 5]
+    blocks = [np.eye(k) * 4.0 + rng.random((k, k)) + 1j * rng.random((k, k)) for k in sizes]
+    whole = sp.block_diag(blocks, format="csr")
+    part = np.repeat(np.arange(3), sizes)
+    memo = {}
+    parts = factorised(whole, part, memo)
+    assert len(memo) == 0 and np.array_equal(parts.row_part, part)
+    assert np.array_equal(parts.local, np.concatenate([np.arange(k) for k in sizes]))
+    rhs = np.zeros(whole.shape[0], dtype=complex)
+    rhs[12] = 1.0  # part 2 only
+    solved = parts.solve(rhs)
+    assert len(memo) == 1
+    np.testing.assert_allclose(solved, splu(whole.tocsc()).solve(rhs), rtol=1e-12, atol=1e-14)
+    np.testing.assert_array_equal(solved[10:], splu(sp.csc_matrix(blocks[2])).solve(rhs[10:]))
+    rhs[0] = 1.0
+    parts.solve(rhs)
+    assert len(memo) == 2  # part 1 still never factorised
+
+
 def test_a_solve_asked_for_some_devices_gives_their_columns_of_the_full_solve(tmp_path):
     # solve_pairs(devices=...) reports only those devices' currents (staged clearing asks for the devices of
     # its arcs' own parts): each must equal its column of the full solve, bit for bit (the same arithmetic
