@@ -27,7 +27,7 @@ def remembered_lu(n, indptr, indices, data, memo, matrix=None):
 
 #: Factors of at least this many rows solve their right-hand sides together (SuperLU's several-column solve,
 #: about 1.3 times faster at 10,000 buses). Such a part is too large to share an uncertainty run's stack with
-#: another copy (arcflash.study.stacking.STACK_BUSES: a copy of more than half of it is stacked alone, tested),
+#: another copy (arcflash.study.stacking.ALONE_BUSES: a site of more buses is stacked alone, tested),
 #: so which columns it solves together depends only on its own arcs, never on how the samples are split [-].
 COLUMNS_TOGETHER_ROWS = 2100
 

@@ -34,7 +34,12 @@ SCENARIO_REFERENCES = ("close", "open", "generators_running", "generators_stoppe
 SEPARATOR = "\x1f"
 
 #: Buses in one stacked site at most [-]: a chunk of samples of a large site is studied in several stacks.
-STACK_BUSES = 4000
+#: Each stack has a fixed cost (a plain study's work done once), shared by its copies.
+STACK_BUSES = 16000
+#: A site of more buses is stacked alone, one copy a stack [-]: a network part that large may solve several
+#: right-hand sides in one call (:data:`arcflash.models.network_factors.COLUMNS_TOGETHER_ROWS`), which must
+#: never depend on what else shares its stack.
+ALONE_BUSES = 2000
 
 
 def tagged(ident, copy):
@@ -134,5 +139,7 @@ def _tagged_element(element, copy, fields, remember):
 
 
 def stack_size(site):
-    """Copies of ``site`` in one stacked site (:data:`STACK_BUSES` buses at most, one copy at least) [-]."""
-    return max(1, STACK_BUSES // max(1, len(site.buses)))
+    """Copies of ``site`` in one stacked site (:data:`STACK_BUSES` buses at most, one copy at least; one for
+    a site of more than :data:`ALONE_BUSES` buses) [-]."""
+    buses = max(1, len(site.buses))
+    return 1 if buses > ALONE_BUSES else max(1, STACK_BUSES // buses)

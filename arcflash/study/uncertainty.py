@@ -102,6 +102,12 @@ def uncertain_inputs(site):
     return found
 
 
+#: Samples a chunk (one task) by default [-]: a chunk's samples are studied together, in stacks of
+#: :data:`~arcflash.study.stacking.STACK_BUSES` buses at most, and each stack has a fixed cost (about a
+#: tenth of a second for the demo, a plain study's work done once): the fewer the stacks, the more samples
+#: share it. 1,000 samples make four chunks, two for each of two workers.
+CHUNK_SAMPLES = 250
+
 #: Smallest running share sampled (a size must stay positive) [-].
 _SMALLEST_FRACTION = 1e-3
 
@@ -314,8 +320,8 @@ def summarize(site, plain_governing, energy, boundary, design, inputs, top=3):
     return bands, drivers
 
 
-def uncertainty(site, samples=1000, seed=0, scenario=None, chunk_size=100, workers=None, scheduler=None,
-                progress=None, plain=None):
+def uncertainty(site, samples=1000, seed=0, scenario=None, chunk_size=CHUNK_SAMPLES, workers=None,
+                scheduler=None, progress=None, plain=None):
     """The study on ``samples`` Latin-hypercube samples of the site's uncertain inputs.
 
     Parameters
