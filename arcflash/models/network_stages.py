@@ -295,12 +295,12 @@ class NetworkStates(ForestQueries):
         missing = [k for k in dict.fromkeys(keys) if k not in cache]
         if missing:
             row_part, factors = self._base_parts()
-            part = row_part[[row_of(k) for k in missing]]
-            for number in dict.fromkeys(part.tolist()):
+            local = self._base_local()
+            by_part = {}  # the missing keys of each part, in order
+            for k, number in zip(missing, row_part[[row_of(k) for k in missing]].tolist()):
+                by_part.setdefault(number, []).append(k)
+            for number, mine in by_part.items():
                 rows, lu = factors[number]
-                local = np.full(row_part.size, -1, dtype=np.intp)
-                local[rows] = np.arange(rows.size)
-                mine = [k for k, p in zip(missing, part.tolist()) if p == number]
                 rhs = np.zeros((rows.size, len(mine)), dtype=complex)
                 fill(rhs, mine, local)
                 solved = solve_each(lu, rhs)
