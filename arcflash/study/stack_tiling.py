@@ -170,10 +170,10 @@ def stacked_equipment(site):
 
 def stacked_bank(site, scenario, device_ids):
     """:func:`~arcflash.study.device_bank.device_bank` of a stacked site (``site.stack`` set): the base site's
-    bank repeated once per copy, the trip units and curve positions of the devices a copy changed (their
-    place in their band) computed again (remembered on the stack per scenario)."""
-    from ..models.curves import trip_unit_parameters
-    from .device_bank import device_bank, threshold_source, trip_unit_in_use
+    bank repeated once per copy, with the trip units, curve positions and thresholds of the devices a copy
+    changed (their place in their band) taken from one bank of every changed device of the stack
+    (:func:`_changed_bank`, made once for all the stack's scenarios; remembered on the stack)."""
+    from .device_bank import device_bank
     from .faults import build_network
 
     stack = site.stack
@@ -188,7 +188,6 @@ def stacked_bank(site, scenario, device_ids):
     base = device_bank(stack.base, chosen, ids)
     bank = object.__new__(_TiledBank)
     bank._base, bank._copies = base, copies
-    bank._memo = stack.memory.setdefault("thresholds", {})  # a sample's devices: kept with its stack only
     bank.kind = np.tile(base.kind, copies)
     counts = [int(np.count_nonzero(base.kind == code)) for code in range(3)]
     step = np.array(counts, dtype=np.intp)[base.kind]
@@ -202,39 +201,76 @@ def stacked_bank(site, scenario, device_ids):
     bank.curve_names, bank.curves = base.curve_names, base.curves
     bank.point_curve = np.tile(base.point_curve, copies)
     bank.curve_position = np.tile(base.curve_position, copies)
-    frequency = stack.base.facility.frequency_hz
+    copy_of, idents, _, plain = _changed_bank(stack, frozenset())  # every changed device, maintenance off
     position = {ident: j for j, ident in enumerate(ids)}
-    rows, units = [], []  # the changed trip units, evaluated together
-    bank._changed_at, bank._sources = [], []  # the changed devices: where, and what each is made of
-    for k, changed in enumerate(_changed(stack, "devices")):
-        for ident in changed:
-            j = position.get(ident)
-            if j is None:
-                continue
-            device = stack.copies[k].devices[ident]
-            at = k * len(ids) + j
-            bank._changed_at.append(at)
-            bank._sources.append(threshold_source(stack.base, device, ident in maintenance))
-            if device.trip_unit is not None:
-                rows.append(bank.row[at])
-                units.append(trip_unit_in_use(device, ident in maintenance))
-            elif device.curve:
-                bank.curve_position[at] = device.curve_band_position
-    if units:
-        for name, values in trip_unit_parameters(units, frequency).items():
-            bank.units[name][rows] = values
-    bank._changed_at = np.array(bank._changed_at, dtype=np.intp)
+    j = np.array([position.get(ident, -1) for ident in idents], dtype=np.intp)
+    on = np.array([ident in maintenance for ident in idents], dtype=bool) if maintenance else np.zeros(j.size, bool)
+    bank._parts = []  # (bank of changed devices, their rows in it, their positions in this bank)
+    for chosen_on in (False, True):
+        changed = np.flatnonzero((j >= 0) & (on == chosen_on))
+        if not changed.size:
+            continue
+        if chosen_on:  # with their maintenance settings on: a bank of their own (its rows: these, in order)
+            source = _changed_bank(stack, frozenset(idents[e] for e in changed.tolist()))[3]
+            assert np.array_equal(source.entries, changed)
+            rows = np.arange(changed.size)
+        else:
+            source, rows = plain, changed
+        at = copy_of[changed] * len(ids) + j[changed]
+        units = source.kind[rows] == 1
+        if units.any():
+            for name in [name for name in bank.units if isinstance(name, str)]:
+                bank.units[name][bank.row[at[units]]] = source.units[name][source.row[rows[units]]]
+        curves = source.kind[rows] == 2
+        bank.curve_position[at[curves]] = source.curve_position[rows[curves]]
+        bank._parts.append((source, rows, at))
     stack.memory[key] = bank
     return bank
 
 
+def _changed_bank(stack, maintenance):
+    """Every device a copy of ``stack`` changed, with the maintenance settings of those of ``maintenance``
+    (ids) on, as one bank (remembered on the stack): (copy of each changed device, its id, the entries of
+    the bank among all changed devices, the bank: a :class:`~arcflash.study.device_bank.DeviceBank` of
+    those of them that are in ``maintenance``, or of all with none given, whose thresholds are found for all
+    its devices at once)."""
+    from types import SimpleNamespace
+
+    key = ("changed devices", maintenance)
+    if key not in stack.memory:
+        copy_of, idents, devices = [], [], []
+        for k, changed in enumerate(_changed(stack, "devices")):
+            mine = stack.copies[k].devices
+            for ident in changed:
+                copy_of.append(k)
+                idents.append(ident)
+                devices.append(mine[ident])
+        entries = [e for e, ident in enumerate(idents) if ident in maintenance] if maintenance else \
+            list(range(len(idents)))
+        names = [str(e) for e in entries]
+        site = SimpleNamespace(devices={name: devices[e] for name, e in zip(names, entries)},
+                               facility=stack.base.facility, curves=stack.base.curves)
+        bank = _ChangedBank(site, SimpleNamespace(energy_reducing_maintenance_switching=names if maintenance else ()),
+                            names)
+        bank.entries = np.array(entries, dtype=np.intp)
+        stack.memory[key] = (np.array(copy_of, dtype=np.intp), idents, bank.entries, bank)
+    return stack.memory[key]
+
+
+class _ChangedBank(DeviceBank):
+    """The bank of a stack's changed devices (:func:`_changed_bank`): each a sample's own object, never met
+    again, so their thresholds are found for all at once, without looking them up."""
+
+    def _threshold_a(self, within_s):
+        return self._bisect(np.arange(self.kind.size), within_s)
+
+
 class _TiledBank(DeviceBank):
     """A stacked site's device bank (:func:`stacked_bank`): a device a copy leaves unchanged is the base's own
-    object, with the base's threshold; those of the changed devices are found as any bank's and remembered
-    with the stack (the banks of its scenarios share them; a sample's devices are never met again)."""
+    object, with the base's threshold; those of the changed devices are read from the stack's bank of them."""
 
     def _threshold_a(self, within_s):
         found = np.tile(self._base.threshold_a(within_s), self._copies)
-        if self._changed_at.size:
-            found[self._changed_at] = self._thresholds_of(self._changed_at, self._sources, within_s, self._memo)
+        for source, rows, at in self._parts:
+            found[at] = source.threshold_a(within_s)[rows]
         return found
