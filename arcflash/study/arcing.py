@@ -69,16 +69,16 @@ def arcing_currents(site, buses, equipment=None):
         de-energised), indexed like ``buses``.
     """
     equipment = equipment_table(site) if equipment is None else equipment
-    live = buses.index[buses["energized"].to_numpy() & (buses["bolted_ka"].to_numpy() > 0)]
-    out = pd.DataFrame(np.nan, index=buses.index, columns=["arcing_current_ka", "reduced_arcing_current_ka"])
-    if len(live):
-        eq = equipment.loc[live]
+    bolted = buses["bolted_ka"].to_numpy(float)
+    live = buses["energized"].to_numpy(bool) & (bolted > 0)
+    arcing, reduced = np.full(live.size, np.nan), np.full(live.size, np.nan)
+    if live.any():
+        eq = equipment if equipment.index.equals(buses.index) else equipment.loc[buses.index]
         result = ieee1584.evaluate(
-            buses.loc[live, "nominal_kv"].to_numpy(), buses.loc[live, "bolted_ka"].to_numpy(),
-            eq["gap_mm"].to_numpy(float), eq["working_distance_mm"].to_numpy(float), 1.0, 1.0,
-            eq["config"].to_numpy(str), eq["height_mm"].to_numpy(float), eq["width_mm"].to_numpy(float),
-            eq["depth_mm"].to_numpy(float),
+            buses["nominal_kv"].to_numpy(float)[live], bolted[live],
+            *(eq[name].to_numpy(float)[live] for name in ("gap_mm", "working_distance_mm")), 1.0, 1.0,
+            eq["config"].to_numpy(str)[live],
+            *(eq[name].to_numpy(float)[live] for name in ("height_mm", "width_mm", "depth_mm")),
         )
-        out.loc[live, "arcing_current_ka"] = result.arcing_current_ka
-        out.loc[live, "reduced_arcing_current_ka"] = result.reduced_arcing_current_ka
-    return out
+        arcing[live], reduced[live] = result.arcing_current_ka, result.reduced_arcing_current_ka
+    return pd.DataFrame({"arcing_current_ka": arcing, "reduced_arcing_current_ka": reduced}, index=buses.index)

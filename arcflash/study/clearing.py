@@ -37,7 +37,7 @@ import scipy.sparse as sp
 from ..models.network_forest import spanning_forest
 from .clearing_topology import (  # noqa: F401 (re-exported: the module's earlier home)
     PATHS_KEPT, _searched_paths, _sides, all_source_paths, back_feeding_devices, devices_carrying,
-    non_bridge_branches, source_paths)
+    joined_source_paths, non_bridge_branches, source_paths)
 from .device_bank import DeviceBank, DeviceCurve, device_bank, device_curve  # noqa: F401 (re-exported)
 
 #: A path whose devices all carry less than this share of the bolted current is negligible [-].
@@ -113,17 +113,8 @@ def clearing_paths(site, scenario, faults):
     net, solution = faults.net, faults.solution
     n_bus, n_dev = len(net.bus_ids), len(net.device_ids)
     sources = energising_sources(site, scenario, net)
-    bus_parts, dev_parts, src_parts, reached_bus, reached_src = [], [], [], [], []  # path rows; (source, bus) reached
-    meshed_any = False
-    for number, (buses, devices, meshed, nodes) in enumerate(all_source_paths(net, [bus for _, bus in sources])):
-        meshed_any |= meshed
-        bus_parts.append(buses)
-        dev_parts.append(devices)
-        src_parts.append(np.full(buses.size, number, dtype=np.intp))
-        reached_bus.append(nodes)
-        reached_src.append(np.full(nodes.size, number, dtype=np.intp))
-    bus, dev, src, reached_bus, reached_src = (np.concatenate(x) if x else np.array([], dtype=np.intp)
-                                               for x in (bus_parts, dev_parts, src_parts, reached_bus, reached_src))
+    # path rows (bus, device, source number); (source, bus) reached
+    bus, dev, src, reached_bus, reached_src, meshed_any = joined_source_paths(net, [bus for _, bus in sources])
     excluded_by_bus, line_side = _not_clearing(site, scenario, net)
     excluded = {k * n_dev + d for k, devices in excluded_by_bus.items() for d in devices}
     if excluded:
@@ -353,6 +344,7 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
     """
     from ..models.network import base_current_ka
     from .arcing import equipment_table
+    from .faults import bus_index
     from .staging import StagingContext, follow_arcs, network_states, stage_arcing
 
     paths = clearing_paths(site, scenario, faults) if paths is None else paths
@@ -369,14 +361,15 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
     np.minimum.at(threshold_pu, paths.bus_part[net.branch_from[net.device_branch]], level_pu)
     threshold_pu = threshold_pu[paths.bus_part]
     bus_base_ka = base_current_ka(site.facility.s_base_mva, net.base_kv)
-    result = pd.DataFrame(index=pd.Index(paths.bus_ids, name="bus"))
+    index = bus_index(paths.bus_ids)
+    result = pd.DataFrame(index=index)
     notes = list(paths.notes)
     result["no_device"] = paths.no_device
     cases = (("full", "", arcing_ka), ("reduced", "reduced_", reduced_arcing_ka))
     one = {}  # per case: inception arcing current, one-stage duration and device, buses followed
     states = None
     for case, _, arc in cases:
-        arc_ka = arc.reindex(paths.bus_ids).to_numpy(float)
+        arc_ka = (arc if arc.index.equals(index) else arc.reindex(index)).to_numpy(float)
         ratio = np.where(paths.bolted_ka > 0, arc_ka / np.where(paths.bolted_ka > 0, paths.bolted_ka, 1.0), 0.0)
         every, time = _pair_times(faults, paths, ratio)
         duration, governing = _one_stage(paths, time)

@@ -49,18 +49,42 @@ def all_source_paths(net, source_buses):
     content (buses, branch ends, device branches, sources): the stacks of an uncertainty run, copies
     joined alike whatever their impedances, share one search.
     """
+    return list(_remembered_paths(net, source_buses)[0])
+
+
+def joined_source_paths(net, source_buses):
+    """:func:`all_source_paths` joined source after source (remembered with them, read-only): the buses and
+    devices of the path rows and each row's source number, the buses each source reaches and their source
+    numbers, and whether any of the parts reached holds a loop [-]."""
+    entry = _remembered_paths(net, source_buses)
+    if entry[1] is None:
+        found = entry[0]
+        empty = np.array([], dtype=np.intp)
+        number = np.arange(len(found), dtype=np.intp)
+        joined = [np.concatenate([f[k] for f in found]) if found else empty for k in (0, 1, 3)]
+        joined.insert(2, np.repeat(number, [f[0].size for f in found]))
+        joined.append(np.repeat(number, [f[3].size for f in found]))
+        for array in joined:
+            array.flags.writeable = False
+        entry[1] = (*joined, any(f[2] for f in found))
+    return entry[1]
+
+
+def _remembered_paths(net, source_buses):
+    """[the paths of :func:`all_source_paths`, their joined arrays or None], remembered by the network's content."""
     source_buses = np.asarray(source_buses, dtype=np.intp)
     key = (int(net.base_kv.size), source_buses.tobytes(),
            *(np.asarray(a, dtype=np.intp).tobytes() for a in (net.branch_from, net.branch_to, net.device_branch)))
-    found = _PATHS.get(key)
-    if found is None:
+    entry = _PATHS.get(key)
+    if entry is None:
         if len(_PATHS) >= PATHS_KEPT:
             _PATHS.pop(next(iter(_PATHS)))  # the oldest
-        found = _PATHS[key] = _searched_paths(net, source_buses)
+        found = _searched_paths(net, source_buses)
         for buses, devices, _, nodes in found:
             for array in (buses, devices, nodes):
                 array.flags.writeable = False
-    return list(found)
+        entry = _PATHS[key] = [found, None]
+    return entry
 
 
 def _searched_paths(net, source_buses):

@@ -62,6 +62,23 @@ class NetworkArrays:
     tiling: object = None
 
 
+#: Indexes kept by :func:`bus_index` [-].
+_INDEXES_KEPT = 32
+_INDEXES = {}
+
+
+def bus_index(ids):
+    """``pandas.Index(ids, name="bus")``, one per list object (remembered while the list lives here): a stacked
+    site's tagged id lists are themselves remembered (:func:`.stack_tiling.tagged_ids`), so its scenarios'
+    tables share one index, which pandas compares at once (an index of many copies' ids is long)."""
+    entry = _INDEXES.get(id(ids))
+    if entry is None or entry[0] is not ids:
+        if len(_INDEXES) >= _INDEXES_KEPT:
+            _INDEXES.clear()
+        entry = _INDEXES[id(ids)] = (ids, pd.Index(ids, name="bus"))
+    return entry[1]
+
+
 def _complex(r, x):
     return complex(r, x)
 
@@ -270,7 +287,7 @@ def solve_scenario(site, scenario=None, for_clearing=False):
             "x_over_r": solution.x_over_r,
             "energized": solution.energized,
         },
-        index=pd.Index(net.bus_ids, name="bus"),
+        index=bus_index(net.bus_ids),
     )
     buses["scenario"] = chosen.name
     return ScenarioFaults(chosen.name, buses, net, solution)

@@ -151,13 +151,14 @@ def stacked_equipment(site):
     """:func:`~arcflash.study.arcing.equipment_table` of a stacked site (``site.stack`` set): the base site's
     rows once per copy, a bus a copy changed (its gap or working distance) computed again."""
     from .arcing import equipment_row, equipment_table
+    from .faults import bus_index
 
     stack = site.stack
     if "equipment" not in stack.memory:
         base = equipment_table(stack.base)
         copies = len(stack.copies)
         table = pd.DataFrame({column: np.tile(base[column].to_numpy(), copies) for column in base.columns},
-                             index=pd.Index(tagged_ids(list(base.index), copies), name=base.index.name))
+                             index=bus_index(tagged_ids(list(base.index), copies)))
         table = table.astype(base.dtypes.to_dict())
         position = {ident: j for j, ident in enumerate(base.index)}
         for k, changed in enumerate(_changed(stack, "buses")):

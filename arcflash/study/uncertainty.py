@@ -203,8 +203,10 @@ def run_chunk(site, inputs, rows, scenario=None):
 def _run_chunk(site, inputs, rows, scenario=None):
     """The work of :func:`run_chunk`."""
     from .arcing import equipment_table
+    from .faults import bus_index
     from .pipeline import scenario_numbers
-    from .stacking import stack_size, stacked_site, tagged
+    from .stack_tiling import tagged_ids
+    from .stacking import stack_size, stacked_site
 
     buses = list(site.buses)
     energy = np.full((len(rows), len(buses)), np.nan)
@@ -216,7 +218,7 @@ def _run_chunk(site, inputs, rows, scenario=None):
         group = rows[lo:lo + size]
         stacked = stacked_site([sample_site(site, inputs, values) for values in group], base=site)
         equipment = equipment_table(stacked)
-        order = pd.Index([tagged(bus, copy) for copy in range(len(group)) for bus in buses])
+        order = bus_index(tagged_ids(buses, len(group)))
         tables = [scenario_numbers(stacked, stacked.scenarios[name], equipment) for name in names]
         shape = (len(group), len(buses))
         for into, values in zip((energy, boundary, bolted), _governing_values(tables, order)):
