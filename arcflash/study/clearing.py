@@ -146,13 +146,20 @@ def clearing_paths(site, scenario, faults):
         bus_ids=net.bus_ids, device_ids=np.array(net.device_ids, dtype=object), bus=bus, device=dev,
         path=path, device_ka=device_ka, live=path_share[row_path] >= NEGLIGIBLE_PATH_SHARE, bolted_ka=bolted,
         no_device=no_device, energized=np.bincount(reached_bus, minlength=n_bus) > 0, meshed=meshed_any,
-        notes=[(bare_bus[bare_src == number], f"no protective device between source {sources[number][0]} and this bus")
-               for number in np.unique(bare_src).tolist()],
+        notes=[(buses, f"no protective device between source {sources[number][0]} and this bus")
+               for number, buses in _grouped(bare_src, bare_bus)],
         bank=device_bank(site, scenario, net.device_ids), cap_s=site.facility.arc_duration_cap_s,
         source_bus=np.array([b for _, b in sources], dtype=np.intp),
         on_loop=on_loop, sources_reaching=np.bincount(reached_bus, minlength=n_bus), excluded=excluded_by_bus,
         line_side=line_side, back_feed=sides[0], bus_part=forest.base, forest=forest, sides=sides, pair=pair,
     )
+
+
+def _grouped(keys, values):
+    """(key, its values in their order) for each distinct key, in increasing order."""
+    order = np.argsort(keys, kind="stable")
+    found, starts = np.unique(keys[order], return_index=True)
+    return zip(found.tolist(), np.split(values[order], starts[1:]))
 
 
 def _not_clearing(site, scenario, net):
