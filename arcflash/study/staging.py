@@ -251,7 +251,7 @@ def _follow_local(context, chunk):
         chosen = [devices[bounds[j]:bounds[j + 1]] for j in range(len(active))]
         # Trip progress so far (zero for an arc with none held and no past stages), then the time each
         # followed device needs to trip, for every arc at once.
-        progress = _progress(context, active, chosen, bounds, rows, devices, times.shape)
+        progress = _progress(context, active, rows, devices, times.shape)
         with np.errstate(invalid="ignore"):
             remaining = np.where(np.isfinite(times), (1.0 - progress) * times, np.inf)
         trip_in = remaining.min(axis=1) if devices.size else np.zeros(0)
@@ -263,11 +263,21 @@ def _follow_local(context, chunk):
         ends = [_stage_end(context, arc, float(first[j])) for j, arc in enumerate(active)]
         # every followed device's progress at its stage's end, for every arc at once (read where the arc goes on)
         dt = np.array([end - arc.time_s if np.isfinite(end) else 0.0 for arc, (_, end, _) in zip(active, ends)])
-        updated = _progressed(progress, times, reset, np.repeat(dt, sizes)[:, None])
+        dt_rows = np.repeat(dt, sizes)
+        updated = _progressed(progress, times, reset, dt_rows[:, None])
+        # where each arc goes on: the devices that trip in this stage, and the progress held of the others
+        tripped = trip_in <= dt_rows + SIMULTANEOUS_S
+        held = np.flatnonzero(~tripped & updated.any(axis=1))
+        held_bounds = np.searchsorted(held, bounds)
+        held_device, held_progress = devices[held], updated[held]
+        trips = np.flatnonzero(tripped)
+        trip_bounds = np.searchsorted(trips, bounds).tolist()
+        trips = list(zip(devices[trips].tolist(), open_at[trips].tolist()))
         for j, arc in enumerate(active):
             part = slice(bounds[j], bounds[j + 1])
             _advance(context, arc, solved.bolted_ka[j], arcing_ka[j], int(code[j]), chosen[j], device_a[j],
-                     trip_in[part], open_at[part], ends[j], updated[part])
+                     open_at[part], ends[j], trips[trip_bounds[j]:trip_bounds[j + 1]],
+                     (held_device[held_bounds[j]:held_bounds[j + 1]], held_progress[held_bounds[j]:held_bounds[j + 1]]))
         for arc in active:
             if arc.done:  # its trip progress and history are no longer needed
                 arc.held_device, arc.held_progress = NO_DEVICES, NO_PROGRESS
@@ -337,34 +347,32 @@ def _replay(context, arc, devices):
     return progress
 
 
-def _progress(context, arcs, chosen, bounds, rows, devices, shape):
-    """Trip progress of the followed devices (``chosen[j]``, sorted, rows ``bounds[j]:bounds[j + 1]`` of
-    arc ``j``) at each arc's present time: held from the last stage, or, for a device followed from now
-    on, replayed from its arc's history (:func:`_replay`; here every such device of every arc at once,
-    one past stage after another)."""
+def _progress(context, arcs, rows, devices, shape):
+    """Trip progress of the followed devices (pairs ``rows``, ``devices``: arc, device, sorted by arc then
+    device) at each arc's present time: held from the last stage (a device holding progress is always
+    followed), or, for a device followed from now on, replayed from its arc's history (:func:`_replay`;
+    here every such device of every arc at once, one past stage after another)."""
     progress = np.zeros(shape)
-    fresh = []  # rows followed from now on, in arcs with a history
-    for j, arc in enumerate(arcs):
-        if not (arc.held_device.size or arc.history):
-            continue
-        new = np.ones(chosen[j].size, dtype=bool)
-        if arc.held_device.size:
-            held = bounds[j] + np.searchsorted(chosen[j], arc.held_device)  # still followed (sorted)
-            progress[held] = arc.held_progress
-            new[held - bounds[j]] = False
-        if arc.history and new.any():
-            fresh.append(bounds[j] + np.flatnonzero(new))
-    if fresh:
-        fresh = np.concatenate(fresh)
+    new = np.ones(rows.size, dtype=bool)
+    holding = [j for j, arc in enumerate(arcs) if arc.held_device.size]
+    if holding:
+        width = int(devices.max()) + 1
+        at = np.searchsorted(rows * width + devices,
+                             np.concatenate([j * width + arcs[j].held_device for j in holding]))
+        progress[at] = np.concatenate([arcs[j].held_progress for j in holding])
+        new[at] = False
+    length = np.array([len(arc.history) for arc in arcs], dtype=np.intp)
+    fresh = np.flatnonzero(new & (length[rows] > 0))  # followed from now on, in arcs with a history
+    if fresh.size:
         owner = rows[fresh]
-        length = np.array([len(arc.history) for arc in arcs])
         replayed = np.zeros((fresh.size, shape[1]))
         for h in range(int(length[owner].max())):
             live = length[owner] > h
-            at = fresh[live]
-            past = {j: arcs[j].history[h] for j in np.unique(owner[live]).tolist()}
-            dt = np.array([past[j][0] for j in owner[live].tolist()])
-            current = np.concatenate([past[j][1][devices[at[owner[live] == j]]] for j in past])  # rows in arc order
+            at, mine = fresh[live], owner[live]
+            past = np.unique(mine)
+            dt = np.array([arcs[j].history[h][0] for j in past.tolist()])[np.searchsorted(past, mine)]
+            currents = np.stack([arcs[j].history[h][1] for j in past.tolist()])  # one row per arc
+            current = currents[np.searchsorted(past, mine), devices[at]]
             times, reset, _ = context.bank.elements(devices[at], current)
             replayed[live] = _progressed(replayed[live], times, reset, dt[:, None])
         progress[fresh] = replayed
@@ -386,10 +394,11 @@ def _stage_end(context, arc, first_s):
     return next_time, end, motors_end
 
 
-def _advance(context, arc, bolted_ka, arcing_ka, code, devices, device_a, trip_in, open_at, stage_end, updated):
-    """One stage of ``arc``: from its present time to the next opening (or the end); ``trip_in`` and
-    ``open_at`` of the followed ``devices``, the stage's end (:func:`_stage_end`) and their progress at it
-    (``updated``) are given."""
+def _advance(context, arc, bolted_ka, arcing_ka, code, devices, device_a, open_at, stage_end, trips, held):
+    """One stage of ``arc``: from its present time to the next opening (or the end); ``open_at`` of the
+    followed ``devices``, the stage's end (:func:`_stage_end`), the (device, opening time) of those that trip
+    in the stage (``trips``) and the (devices, progress) of the others still holding progress at its end
+    (``held``) are given."""
     if arc.steps and arc.steps[-1][3] is None:
         for step in arc.steps:
             if step[3] is None:
@@ -408,8 +417,7 @@ def _advance(context, arc, bolted_ka, arcing_ka, code, devices, device_a, trip_i
             arc.no_trip = arc.governing < 0
         return
     dt = end - arc.time_s
-    tripped = trip_in <= dt + SIMULTANEOUS_S
-    for d, at in zip(devices[tripped].tolist(), open_at[tripped].tolist()):
+    for d, at in trips:
         arc.opening[d] = at
     arc.time_s = end
     now = sorted(d for d, at in arc.opening.items() if at <= end + SIMULTANEOUS_S)
@@ -426,8 +434,7 @@ def _advance(context, arc, bolted_ka, arcing_ka, code, devices, device_a, trip_i
         arc.done, arc.duration_s = True, end
         arc.governing = _governing(context, arc, now)
         return
-    keep = ~tripped & updated.any(axis=1)  # the arc goes on: its devices' progress is held
-    arc.held_device, arc.held_progress = devices[keep], updated[keep]
+    arc.held_device, arc.held_progress = held  # the arc goes on: its devices' progress is held
     arc.history.append((dt, device_a.copy()))
 
 
