@@ -244,9 +244,9 @@ def study(site_dir, out_dir, tcc_buses, no_report, quiet, samples, seed, workers
 
 def _uncertainty(site, governing, samples, seed, workers, scheduler, quiet):
     """The uncertainty run of ``study --uncertainty N``, with a progress bar of chunks."""
-    from .study.uncertainty import CHUNK_SAMPLES, uncertainty
+    from .study.uncertainty import chunk_samples, uncertainty
 
-    chunk = CHUNK_SAMPLES
+    chunk = chunk_samples(samples, workers, scheduler)
     with click.progressbar(length=-(-samples // chunk), label="Sample chunks", file=sys.stderr,
                            hidden=quiet) as bar:
         done = [0]

@@ -35,7 +35,7 @@ SEPARATOR = "\x1f"
 
 #: Buses in one stacked site at most [-]: a chunk of samples of a large site is studied in several stacks.
 #: Each stack has a fixed cost (a plain study's work done once), shared by its copies.
-STACK_BUSES = 16000
+STACK_BUSES = 20000
 #: A site of more buses is stacked alone, one copy a stack [-]: a network part that large may solve several
 #: right-hand sides in one call (:data:`arcflash.models.network_factors.COLUMNS_TOGETHER_ROWS`), which must
 #: never depend on what else shares its stack.

@@ -102,11 +102,21 @@ def uncertain_inputs(site):
     return found
 
 
-#: Samples a chunk (one task) by default [-]: a chunk's samples are studied together, in stacks of
+#: Samples a chunk (one task) at most by default [-]: a chunk's samples are studied together, in stacks of
 #: :data:`~arcflash.study.stacking.STACK_BUSES` buses at most, and each stack has a fixed cost (about a
 #: tenth of a second for the demo, a plain study's work done once): the fewer the stacks, the more samples
-#: share it. 1,000 samples make four chunks, two for each of two workers.
-CHUNK_SAMPLES = 250
+#: share it. On a cluster, chunks are made smaller so that each worker has two or more (see
+#: :func:`chunk_samples`).
+CHUNK_SAMPLES = 500
+
+
+def chunk_samples(samples, workers=None, scheduler=None):
+    """Samples a chunk by default [-]: :data:`CHUNK_SAMPLES` in one process; on a local cluster of ``workers``
+    processes, or on a scheduler (taken as two workers), at most an even share of two chunks a worker (a
+    worker left without a chunk while another finishes two would waste more than the stacks' fixed cost)."""
+    if workers is None and scheduler is None:
+        return CHUNK_SAMPLES
+    return max(1, min(CHUNK_SAMPLES, -(-samples // (2 * (workers or 2)))))
 
 #: Smallest running share sampled (a size must stay positive) [-].
 _SMALLEST_FRACTION = 1e-3
@@ -322,7 +332,7 @@ def summarize(site, plain_governing, energy, boundary, design, inputs, top=3):
     return bands, drivers
 
 
-def uncertainty(site, samples=1000, seed=0, scenario=None, chunk_size=CHUNK_SAMPLES, workers=None,
+def uncertainty(site, samples=1000, seed=0, scenario=None, chunk_size=None, workers=None,
                 scheduler=None, progress=None, plain=None):
     """The study on ``samples`` Latin-hypercube samples of the site's uncertain inputs.
 
@@ -335,8 +345,8 @@ def uncertainty(site, samples=1000, seed=0, scenario=None, chunk_size=CHUNK_SAMP
         Seed of the design: the same seed gives the same result, bit for bit, whatever the split [-]
     scenario : str, optional
         One scenario; default every scenario, the governing one per bus and sample [-]
-    chunk_size : int
-        Samples per task [-]
+    chunk_size : int, optional
+        Samples per task; default :func:`chunk_samples` [-]
     workers : int, optional
         Run the chunks on a local Dask cluster of this many worker processes [-]
     scheduler : str, optional
@@ -356,6 +366,7 @@ def uncertainty(site, samples=1000, seed=0, scenario=None, chunk_size=CHUNK_SAMP
         raise ValueError(f"samples: expected at least 1, got {samples}")
     inputs = uncertain_inputs(site)
     design = sample_design(inputs, samples, seed)
+    chunk_size = chunk_samples(samples, workers, scheduler) if chunk_size is None else chunk_size
     chunks = [design[lo:lo + chunk_size] for lo in range(0, samples, chunk_size)]
     parts = _run_chunks(site, inputs, chunks, scenario, workers, scheduler, progress)
     energy = np.concatenate([p[0] for p in parts])

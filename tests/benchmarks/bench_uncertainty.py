@@ -4,7 +4,7 @@ Targets: 1,000 samples of the demo facility in at most 20x the time of one plain
 of a synthetic 1,000-bus facility on a local Dask cluster of 2 workers at least 1.6x faster than on 1 worker
 and a peak memory per worker of at most 1 GB. The clusters are started before the timing (set-up, not
 the core call), and each runs one small warm-up. Ratios are taken in one run; ``--samples`` (demo, default
-1,000: the issue's own run, four chunks of 250) and ``--cluster-samples`` make the runs shorter
+1,000: the issue's own run, two chunks of 500) and ``--cluster-samples`` make the runs shorter
 (the time per sample is what the targets compare; a chunk's samples are studied as one stacked site,
 arcflash.study.stacking). The cluster runs take at least 40 samples (default 80) in chunks of 2: with
 fewer chunks than about ten per worker, the last chunks leave one worker idle and the ratio measures that
