@@ -28,7 +28,8 @@ import scipy.sparse as sp
 from scipy.sparse.csgraph import connected_components
 
 from .network import admittance_matrix, base_current_ka
-from .network_factors import COLUMNS_TOGETHER_ROWS, PartsLU, factorised, solve_each
+from .network_factors import PartsLU, factorised, solve_each
+from .network_fills import StateFills
 from .network_forest import ForestQueries, SpanningForest, spanning_forest
 from .network_tiles import TiledTopology, Tiling
 
@@ -78,7 +79,7 @@ class StageFaults:
     device_current_ka: np.ndarray
 
 
-class NetworkStates(ForestQueries):
+class NetworkStates(StateFills, ForestQueries):
     """A per-unit network and its devices, solved in any state (see the module docstring).
 
     Parameters
@@ -109,6 +110,8 @@ class NetworkStates(ForestQueries):
         The network is copies of one base network (an uncertainty run's stack): the topology of its states
         is read from the base network, once for all copies (:mod:`.network_tiles`) [-]
     """
+
+    _BASE = StateKey()  # the base state: every branch closed, motors contributing, no split
 
     def __init__(self, base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_z_pu, shunt_is_motor,
                  source_bus, device_branch, device_kv, voltage_factor=1.0, s_base_mva=100.0, base_factors=None,
@@ -257,24 +260,6 @@ class NetworkStates(ForestQueries):
 
     reaches_source.__doc__ = ForestQueries.reaches_source.__doc__
 
-    def _part_at(self, key, point):
-        """(whether a source reaches ``point``, its part: a hashable token) in state ``key``."""
-        if self._tiles is not None and key.split is None:
-            found = self._tiles.part_at(key, point)
-            if found is not None:
-                return found
-        _, _, _, energized, label = self._topology(key)
-        return bool(energized[point]), int(label[point])
-
-    def _carrying(self, key, part, b, position):
-        """Positions (ascending) among the wanted devices (branches ``b``; ``position``: each device's
-        position, -1 where not wanted) of those closed, energised and in ``part`` (of :meth:`_part_at`) in
-        state ``key``: those that may carry a fault's current there."""
-        if isinstance(part, tuple):
-            return self._tiles.carrying(key, part, position)
-        f, _, closed, energized, label = self._topology(key)
-        return np.flatnonzero(closed[b] & (label[f[b]] == part) & energized[f[b]])
-
     def _base_parts(self):
         """The base state's factors part by part: the part of each row, and (rows, LU) of each part."""
         if "base_parts" not in self._states:
@@ -394,183 +379,6 @@ class NetworkStates(ForestQueries):
                 part = np.array(rows[lo:lo + BLOCK_COLUMNS], dtype=np.intp)
                 self._fill(key, part, fault_bus, [key] * part.size, [None] * part.size, devices, bolted, current, on)
         return StageFaults(energized=on, bolted_ka=bolted, device_current_ka=current)
-
-    def _fill(self, solved_key, rows, fault_bus, keys, plans, devices, bolted, current, on):
-        """Solve faults ``rows`` with the factorisation of ``solved_key``, each updated by its plan; currents of
-        ``devices`` (the columns of ``current``)."""
-        index, lu = self._prepared(solved_key)
-        b = self.device_branch[devices]
-        scale = self._device_scale[devices]
-        points, live_rows, parts = [], [], []
-        for row, key in zip(rows, keys):
-            point = self.n if key.split is not None else int(fault_bus[row])
-            energized, part = self._part_at(key, point)
-            if energized:
-                points.append(point)
-                live_rows.append(row)
-                parts.append(part)
-        if not live_rows:
-            return
-        wanted = np.full(self.device_branch.size, -1, dtype=np.intp)  # each device's column (-1: not wanted)
-        wanted[devices] = np.arange(devices.size)
-        live_rows = np.array(live_rows, dtype=np.intp)
-        by_row = dict(zip(rows.tolist(), zip(keys, plans)))
-        col = index[np.array(points, dtype=np.intp)]
-        from_base = solved_key == StateKey()
-        if from_base:  # columns on the rows of their part only (a stack of many parts: each copy's own)
-            row_part, factors = self._base_parts()
-            position = np.full(lu.shape[0], -1, dtype=np.intp)
-            base_columns = self._base_columns(col)
-        else:
-            rhs = np.zeros((lu.shape[0], col.size), dtype=complex)
-            rhs[col, np.arange(col.size)] = 1.0
-            z_all = solve_each(lu, rhs)  # Z[:, k] of each fault in the factorised state
-            position = np.arange(lu.shape[0])
-        base_f, base_t = index[self.branch_from[b]], index[self.branch_to[b]]
-        # Faults in the same state and the same part of the network are taken together.
-        groups, in_base = {}, []
-        for j, (row, part) in enumerate(zip(live_rows.tolist(), parts)):
-            key = by_row[row][0]
-            if from_base and key == solved_key:  # faults in the base state itself: taken together below
-                in_base.append(j)
-                continue
-            groups.setdefault((key, part), []).append(j)
-        if in_base:
-            self._fill_base(np.array(in_base, dtype=np.intp), col, np.array(points, dtype=np.intp), live_rows,
-                            fault_bus, base_columns, b, scale, bolted, current, on)
-        if from_base:  # states one branch (or none) away from the base state: every such group at once
-            single = {g: js for g, js in groups.items() if len(by_row[int(live_rows[js[0]])][1]) <= 1}
-            if single:
-                self._fill_rank_one(single, by_row, col, live_rows, fault_bus, base_columns, b, wanted, scale,
-                                    bolted, current, on)
-                groups = {g: js for g, js in groups.items() if g not in single}
-        for (key, part), js in groups.items():
-            js = np.array(js, dtype=np.intp)
-            plan = by_row[int(live_rows[js[0]])][1]
-            if from_base:
-                rows = factors[row_part[col[js[0]]]][0]  # the faults' part of the base state
-                position[rows] = np.arange(rows.size)
-                z = np.column_stack([base_columns[j] for j in js])
-            else:
-                z = z_all[:, js]
-            if plan:
-                # Y' = Y - U diag(y) U^T: Z' = Z - W (-diag(z_b) + U^T W)^-1 W^T, W = Z U (Woodbury).
-                w = self._update_columns(plan)
-                ends = (position[index[self.branch_from[plan]]], position[index[self.branch_to[plan]]])
-                small = np.diag(-self.branch_z_pu[plan]) + (w[ends[0]] - w[ends[1]])
-                rhs = w[position[col[js]]].T  # two branches or more (one or none: _fill_rank_one)
-                if w.shape[0] >= COLUMNS_TOGETHER_ROWS:  # a part alone in its stack: its batch is its own
-                    z = z - w @ np.linalg.solve(small, rhs)
-                else:  # each fault on its own: a batch's make-up would reach the last digits of its sums
-                    z = z - np.column_stack([w @ np.linalg.solve(small, rhs[:, [c]]) for c in range(js.size)])
-            i_fault = self.voltage_factor / z[position[col[js]], np.arange(js.size)]  # [pu]
-            rows_js = live_rows[js]
-            on[rows_js] = True
-            bolted[rows_js] = np.abs(i_fault) * base_current_ka(self.s_base_mva, self.base_kv[fault_bus[rows_js]])
-            # A device carries current only if closed and in the faulted point's part of the network.
-            idx = self._carrying(key, part, b, wanted)
-            if key.split is not None:  # the split state's own numbering
-                f, t = self._topology(key)[:2]
-                ends_f, ends_t = position[index[f[b[idx]]]], position[index[t[b[idx]]]]
-            else:
-                ends_f, ends_t = position[base_f[idx]], position[base_t[idx]]
-            # |I_d| = |Z[f, k] - Z[t, k]| |I_k| / |z_d| in the device's own kV, one row per fault.
-            zt = np.ascontiguousarray(z.T)
-            i_dev = np.abs(zt[:, ends_f] - zt[:, ends_t])
-            i_dev *= np.abs(i_fault)[:, None]
-            i_dev *= scale[idx][None, :]
-            if idx.size == b.size:
-                current[rows_js] = i_dev
-            else:
-                current[np.ix_(rows_js, idx)] = i_dev
-
-    def _fill_rank_one(self, groups, by_row, col, live_rows, fault_bus, base_columns, b, wanted, scale, bolted,
-                       current, on):
-        """Faults ``groups`` ((state, part) -> positions) in states that differ from the base state by one
-        opened branch or none (their plans), all at once: each fault's base column (``base_columns``, on its
-        part's rows) updated by its branch (Woodbury, rank one), element by element as :meth:`_fill` does
-        for one group; faults whose parts differ in size are taken size by size."""
-        index, _ = self._prepared(StateKey())
-        local = self._base_local()
-        f_all, t_all = self.branch_from, self.branch_to
-        ends_f, ends_t = local[index[f_all[b]]], local[index[t_all[b]]]  # each device's rows in its part
-        faults, branch, pairs = [], [], []  # pairs: (fault, device) of each fault's devices
-        for (key, part), js in groups.items():
-            plan = by_row[int(live_rows[js[0]])][1]
-            idx = self._carrying(key, part, b, wanted)
-            for j in js:
-                pairs.append((len(faults), idx))
-                faults.append(j)
-                branch.append(plan[0] if plan else -1)
-        faults, branch = np.array(faults, dtype=np.intp), np.array(branch, dtype=np.intp)
-        pair_fault = np.repeat([k for k, _ in pairs], [idx.size for _, idx in pairs])
-        pair_device = np.concatenate([idx for _, idx in pairs])
-        sizes = np.array([base_columns[j].size for j in faults.tolist()], dtype=np.intp)
-        kinds = np.unique(sizes)
-        for size in kinds.tolist():
-            mine = np.flatnonzero(sizes == size) if kinds.size > 1 else np.arange(faults.size)
-            z = np.stack([base_columns[j] for j in faults[mine].tolist()])  # one row per fault
-            point = local[col[faults[mine]]]
-            updated = np.flatnonzero(branch[mine] >= 0)
-            if updated.size:
-                opened = branch[mine][updated]
-                w = np.stack(self._update_column_list(opened.tolist()))
-                rows = np.arange(updated.size)
-                small = -self.branch_z_pu[opened] + (w[rows, local[index[f_all[opened]]]]
-                                                    - w[rows, local[index[t_all[opened]]]])
-                ratio = w[rows, point[updated]] / small
-                if updated.size == z.shape[0]:  # every fault updated (the usual case): in place
-                    z -= w * ratio[:, None]
-                else:
-                    z[updated] = z[updated] - w * ratio[:, None]
-            i_fault = self.voltage_factor / z[np.arange(mine.size), point]  # [pu]
-            rows_js = live_rows[faults[mine]]
-            on[rows_js] = True
-            bolted[rows_js] = np.abs(i_fault) * base_current_ka(self.s_base_mva, self.base_kv[fault_bus[rows_js]])
-            # |I_d| = |Z[f, k] - Z[t, k]| |I_k| / |z_d| in the device's own kV, for each fault's devices
-            if kinds.size > 1:
-                position = np.full(faults.size, -1, dtype=np.intp)
-                position[mine] = np.arange(mine.size)
-                pick = np.flatnonzero(position[pair_fault] >= 0)
-                at, d = position[pair_fault[pick]], pair_device[pick]
-            else:
-                at, d = pair_fault, pair_device
-            i_dev = np.abs(z[at, ends_f[d]] - z[at, ends_t[d]])
-            i_dev *= np.abs(i_fault)[at]
-            i_dev *= scale[d]
-            current[rows_js[at], d] = i_dev
-
-    def _fill_base(self, js, col, points, live_rows, fault_bus, base_columns, b, scale, bolted, current, on):
-        """Faults ``js`` in the base state, every part at once: each fault's column on the rows of its own part
-        (``base_columns``), the currents of the devices ``b`` (branches; ``scale`` [kA/pu]) closed and
-        energised in its part; the arithmetic of each value is that of :meth:`_fill`'s groups."""
-        f, _, closed, energized, label = self._topology(StateKey())
-        index, _ = self._prepared(StateKey())
-        local = self._base_local()
-        sizes = np.array([base_columns[j].size for j in js.tolist()], dtype=np.intp)
-        offsets = np.cumsum(sizes) - sizes
-        flat = np.concatenate([base_columns[j] for j in js.tolist()])
-        i_fault = self.voltage_factor / flat[offsets + local[col[js]]]  # [pu]
-        rows_js = live_rows[js]
-        on[rows_js] = True
-        bolted[rows_js] = np.abs(i_fault) * base_current_ka(self.s_base_mva, self.base_kv[fault_bus[rows_js]])
-        # (fault, device) pairs: the devices closed and energised in the fault's part, sorted by part
-        usable = np.flatnonzero(closed[b] & energized[f[b]])
-        part = label[f[b[usable]]]
-        order = np.argsort(part, kind="stable")
-        usable, part = usable[order], part[order]
-        fault_part = label[points[js]]
-        lo = np.searchsorted(part, fault_part, "left")
-        count = np.searchsorted(part, fault_part, "right") - lo
-        fault = np.repeat(np.arange(js.size), count)
-        d = usable[np.repeat(lo, count) + np.arange(fault.size) - np.repeat(np.cumsum(count) - count, count)]
-        start = offsets[fault]
-        ends_f, ends_t = local[index[self.branch_from[b]]], local[index[self.branch_to[b]]]  # per device
-        # |I_d| = |Z[f, k] - Z[t, k]| |I_k| / |z_d| in the device's own kV
-        i_dev = np.abs(flat[start + ends_f[d]] - flat[start + ends_t[d]])
-        i_dev *= np.abs(i_fault)[fault]
-        i_dev *= scale[d]
-        current[rows_js[fault], d] = i_dev
 
     def _base_local(self):
         """Position of each row of the base state's factorisation within its part (cached) [-]."""
