@@ -22,6 +22,7 @@ Pure: numpy and scipy only, no I/O.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import NamedTuple
 
 import numpy as np
 import scipy.sparse as sp
@@ -44,13 +45,15 @@ BASE_COLUMNS_KEPT = 160
 LOW_RANK_MIN_Z_PU = 1e-4
 
 
-@dataclass(frozen=True)
-class StateKey:
+class StateKey(NamedTuple):
     """A network state: opened branches, motors ended, line-side split.
 
     ``split`` is ``(bus, branches)``: those branches' ends at ``bus`` are moved
     to a new node (the line side of a device that does not clear an arc at
     ``bus``), and a fault at ``bus`` is placed on that new node.
+
+    A named tuple (immutable, hashed and compared as a tuple): staged clearing makes and looks up one for
+    every stage of every arc.
     """
 
     opened: frozenset = frozenset()
