@@ -232,6 +232,33 @@ def test_the_parts_of_a_block_diagonal_matrix_are_factorised_when_first_solved()
     assert len(memo) == 2  # part 1 still never factorised
 
 
+def test_a_small_part_is_inverted_and_its_columns_do_not_depend_on_what_is_solved_with_them():
+    # network_factors.new_factors: up to DENSE_ROWS rows the matrix is inverted (a DenseInverse), above it
+    # SuperLU factorises it; both solve the same system (linear algebra, to rounding), and a DenseInverse's
+    # columns (unit right-hand sides, and the +1/-1 pairs of the low-rank updates) are exact picks and
+    # differences of the inverse's columns, the same bit for bit whether solved alone or together.
+    import scipy.sparse as sp
+    from scipy.sparse.linalg import splu
+
+    from arcflash.models.network_factors import DENSE_ROWS, DenseInverse, new_factors, solve_each
+
+    rng = np.random.default_rng(4)
+    for n in (5, DENSE_ROWS, DENSE_ROWS + 1):
+        y = sp.random(n, n, density=0.2, random_state=n, format="csc") * (1 + 1j) + sp.eye(n) * 6.0
+        y = sp.csc_matrix(y)
+        made = new_factors(n, y.indptr, y.indices, y.data)
+        assert isinstance(made, DenseInverse) == (n <= DENSE_ROWS)
+        rhs = np.zeros((n, 6), dtype=complex)
+        rhs[rng.integers(0, n, 6), np.arange(6)] = 1.0
+        rhs[(np.arange(3) + 1) % n, np.arange(3)] -= 1.0  # some +1/-1 pairs
+        together = solve_each(made, rhs)
+        np.testing.assert_allclose(together, splu(y).solve(rhs), rtol=1e-12, atol=1e-14)
+        for column in range(6):
+            assert np.array_equal(solve_each(made, rhs[:, [column]])[:, 0], together[:, column])
+        if isinstance(made, DenseInverse):
+            assert np.array_equal(new_factors(n, y.indptr, y.indices, y.data, y).inverse, made.inverse)
+
+
 def test_a_solve_asked_for_some_devices_gives_their_columns_of_the_full_solve(tmp_path):
     # solve_pairs(devices=...) reports only those devices' currents (staged clearing asks for the devices of
     # its arcs' own parts): each must equal its column of the full solve, bit for bit (the same arithmetic
@@ -270,8 +297,8 @@ def test_a_matrix_met_again_reuses_its_factors_and_solves_the_same(monkeypatch):
     first = network_states(site, nets[0])
     expected = first.solve(StateKey(), buses)
     made = []
-    real_splu = factors_module.splu
-    monkeypatch.setattr(factors_module, "splu", lambda matrix: made.append(matrix) or real_splu(matrix))
+    real = factors_module.new_factors
+    monkeypatch.setattr(factors_module, "new_factors", lambda *a: made.append(a) or real(*a))
 
     def factors(states):
         lu = states._prepared(StateKey())[1]
