@@ -52,7 +52,8 @@ def energising_sources(site, scenario, net):
 
 
 def _first_of_groups(keys, values):
-    """Index of the smallest value in each run of equal keys (keys sorted)."""
+    """Index of the smallest value in each group of equal keys (the first such index on a tie; NaN counts as
+    the largest value)."""
     order = np.lexsort((values, keys))
     first = np.ones(order.size, dtype=bool)
     first[1:] = keys[order][1:] != keys[order][:-1]
@@ -106,6 +107,10 @@ class ClearingPaths:
     sides: tuple = ()
     #: Per row: its (fault bus, device) pair's position in the scenario's fault solution, -1 for none [-].
     pair: np.ndarray = None
+    #: The ``live`` rows grouped by path ((rows, group starts): each group in row order), and the paths
+    #: grouped by bus likewise (positions among the paths, in the order of ``by_path``'s groups) [-].
+    by_path: tuple = None
+    by_bus: tuple = None
 
 
 def clearing_paths(site, scenario, faults):
@@ -135,6 +140,9 @@ def clearing_paths(site, scenario, faults):
     paths_found, row_path = np.unique(path, return_inverse=True)
     path_share = np.zeros(paths_found.size)
     np.maximum.at(path_share, row_path, device_ka / bolted[bus])
+    live = path_share[row_path] >= NEGLIGIBLE_PATH_SHARE
+    by_path = _groups_of(path, np.flatnonzero(live))
+    by_bus = _groups_of(bus[by_path[0][by_path[1]]], np.arange(by_path[1].size))
     bare = ~np.isin(reached_src * n_bus + reached_bus, paths_found)  # a source reaches the bus through no device
     no_device = np.zeros(n_bus, dtype=bool)
     no_device[reached_bus[bare]] = True
@@ -144,7 +152,7 @@ def clearing_paths(site, scenario, faults):
     sides = _sides(net, forest, on_loop)
     return ClearingPaths(
         bus_ids=net.bus_ids, device_ids=np.array(net.device_ids, dtype=object), bus=bus, device=dev,
-        path=path, device_ka=device_ka, live=path_share[row_path] >= NEGLIGIBLE_PATH_SHARE, bolted_ka=bolted,
+        path=path, device_ka=device_ka, live=live, bolted_ka=bolted,
         no_device=no_device, energized=np.bincount(reached_bus, minlength=n_bus) > 0, meshed=meshed_any,
         notes=[(buses, f"no protective device between source {sources[number][0]} and this bus")
                for number, buses in _grouped(bare_src, bare_bus)],
@@ -152,6 +160,7 @@ def clearing_paths(site, scenario, faults):
         source_bus=np.array([b for _, b in sources], dtype=np.intp),
         on_loop=on_loop, sources_reaching=np.bincount(reached_bus, minlength=n_bus), excluded=excluded_by_bus,
         line_side=line_side, back_feed=sides[0], bus_part=forest.base, forest=forest, sides=sides, pair=pair,
+        by_path=by_path, by_bus=by_bus,
     )
 
 
@@ -211,12 +220,42 @@ class ClearingResult:
     steps: pd.DataFrame
 
 
+def _groups_of(keys, rows):
+    """``rows`` grouped by their ``keys`` (stable: each group in the order of ``rows``): (the rows in group
+    order, the start of each group) [-]."""
+    rows = rows[np.argsort(keys[rows], kind="stable")]
+    starts = np.flatnonzero(np.diff(keys[rows], prepend=-1) != 0) if rows.size else np.zeros(0, dtype=np.intp)
+    return rows, starts
+
+
+def _first_in_groups(groups, values):
+    """Per group of :func:`_groups_of`, the position (in its row order) of its smallest value, the first on
+    a tie, NaN counting as the largest: what :func:`_first_of_groups` finds, without sorting the values."""
+    rows, starts = groups
+    v = values[rows]
+    best = np.fmin.reduceat(v, starts)
+    number = np.repeat(np.arange(starts.size), np.diff(np.append(starts, rows.size)))
+    hits = np.flatnonzero(v == best[number])
+    first = starts.copy()  # a group of NaN only: its first row
+    found, at = np.unique(number[hits], return_index=True)
+    first[found] = hits[at]
+    return first
+
+
 def _one_stage(paths, time, live=None):
     """Duration and governing device index per bus from the source paths (-1: none); ``live`` (per
     path row) replaces the paths' own choice of rows that carry current."""
     n_bus = len(paths.bus_ids)
     duration = np.full(n_bus, np.nan)
     governing = np.full(n_bus, -1, dtype=np.intp)
+    if live is None and paths.by_path is not None:  # the paths' own rows, grouped once
+        rows = paths.by_path[0]
+        if rows.size:
+            fastest = rows[_first_in_groups(paths.by_path, time)]  # the fastest device of each path
+            chosen = fastest[paths.by_bus[0][_first_in_groups(paths.by_bus, -time[fastest])]]  # the slowest path
+            duration[paths.bus[chosen]] = time[chosen]
+            governing[paths.bus[chosen]] = paths.device[chosen]
+        return duration, governing
     live = paths.live if live is None else live
     if live.any():
         p, t, d, b = paths.path[live], time[live], paths.device[live], paths.bus[live]

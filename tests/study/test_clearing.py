@@ -256,3 +256,26 @@ def test_source_paths_and_forests_are_remembered_by_the_network_they_come_from(d
     assert spanning_forest(len(net.bus_ids), net.branch_to, net.branch_from) is not forest
     with pytest.raises(ValueError, match="read-only"):
         forest.parent[0] = 1
+
+
+def test_the_first_of_each_group_found_without_sorting_the_values_is_the_sorted_one():
+    # clearing._first_in_groups (groups made once per scenario, values per arcing case) against
+    # _first_of_groups (a sort of keys and values): the same row of every group, on ties (the first in row
+    # order), with infinite times, NaN (the largest) and groups of NaN only (their first row).
+    from hypothesis import given, settings
+    from hypothesis import strategies as st
+
+    from arcflash.study.clearing import _first_in_groups, _first_of_groups, _groups_of
+
+    values_of = st.sampled_from([0.1, 0.2, 0.5, np.inf, np.nan, -0.0, 0.0])
+
+    @settings(max_examples=200, deadline=None)
+    @given(st.lists(st.tuples(st.integers(0, 5), values_of), min_size=1, max_size=40))
+    def check(pairs):
+        keys = np.array([k for k, _ in pairs])
+        values = np.array([v for _, v in pairs])
+        rows = np.arange(keys.size)
+        groups = _groups_of(keys, rows)
+        assert np.array_equal(groups[0][_first_in_groups(groups, values)], _first_of_groups(keys, values))
+
+    check()
