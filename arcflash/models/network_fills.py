@@ -36,6 +36,60 @@ class StateFills:
         f, _, closed, energized, label = self._topology(key)
         return np.flatnonzero(closed[b] & (label[f[b]] == part) & energized[f[b]])
 
+    def solve_copies(self, base_key, base_bus, copies):
+        """Faults at bus ``base_bus`` of each of ``copies`` of a tiled network (:mod:`.network_tiles`), all in
+        the state ``base_key`` of the base network, by the arithmetic :meth:`solve_pairs` gives each of them
+        (the base state's columns, updated by the state's one opened branch): the copies' rows of its
+        results, bolted current [kA] per copy and the current of each device of a copy [kA] (copies × devices
+        of a copy, 0 for those that carry none); None for a fault no source reaches, or a state
+        :meth:`solve_pairs` takes otherwise (a split, motors ended, several branches to remove, a branch the
+        update would lose digits on): solve it there."""
+        tiles = self._tiles
+        n0, d0 = tiles.n0, tiles.d0
+        if base_key.split is not None or base_key.motors_off:
+            return None
+        f0, _, closed, energized, label = tiles.base._topology(base_key)
+        if not energized[base_bus]:
+            return None
+        branch = None
+        if base_key.opened:
+            plan = tiles.base_plan(base_key)
+            if plan is None or any((np.abs(self.branch_z_pu[tiles.start[b] + copies * tiles.step[b]])
+                                    < tiles.low_rank_min_z_pu).any() for b in plan):
+                return None  # factorised by solve_pairs (in every copy, or in some: not taken together here)
+            base_part = tiles.base.part_of_node()
+            plan = [b for b in plan if base_part[f0[b]] == base_part[base_bus]]  # as solve_pairs filters
+            if len(plan) > 1:
+                return None
+            if plan:
+                branch = tiles.start[plan[0]] + copies * tiles.step[plan[0]]
+        index, _ = self._prepared(self._BASE)
+        local = self._base_local()
+        points = copies * n0 + base_bus
+        col = index[points]
+        z = np.stack(self._base_columns(col))  # one row per copy, on the rows of its part
+        rows = np.arange(copies.size)
+        point = local[col]
+        f_all, t_all = self.branch_from, self.branch_to
+        if branch is not None:  # Woodbury, rank one (as _fill_rank_one)
+            w = np.stack(self._update_column_list(branch.tolist()))
+            small = -self.branch_z_pu[branch] + (w[rows, local[index[f_all[branch]]]] - w[rows, local[index[t_all[branch]]]])
+            ratio = w[rows, point] / small
+            z -= w * ratio[:, None]
+        i_fault = self.voltage_factor / z[rows, point]  # [pu]
+        bolted = np.abs(i_fault) * base_current_ka(self.s_base_mva, self.base_kv[points])
+        b0 = tiles.base.device_branch
+        carrying = np.flatnonzero(closed[b0] & (label[f0[b0]] == label[base_bus]) & energized[f0[b0]])
+        device = copies[:, None] * d0 + carrying[None, :]
+        b = self.device_branch[device]
+        at = rows[:, None]
+        i_dev = np.abs(z[at, local[index[f_all[b]]]] - z[at, local[index[t_all[b]]]])
+        i_dev *= np.abs(i_fault)[:, None]
+        i_dev *= self._device_scale[device]
+        current = np.zeros((copies.size, d0))
+        current[:, carrying] = i_dev
+        return bolted, current
+
     def _fill(self, solved_key, rows, fault_bus, keys, plans, devices, bolted, current, on):
         """Solve faults ``rows`` with the factorisation of ``solved_key``, each updated by its plan; currents of
         ``devices`` (the columns of ``current``)."""

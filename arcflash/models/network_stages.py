@@ -21,6 +21,7 @@ Pure: numpy and scipy only, no I/O.
 
 from __future__ import annotations
 
+import itertools
 from dataclasses import dataclass
 from typing import NamedTuple
 
@@ -38,8 +39,9 @@ __all__ = ["NetworkStates", "SpanningForest", "StageFaults", "StateKey", "Tiling
 
 #: Fault columns solved together [-].
 BLOCK_COLUMNS = 128
-#: Base-state fault columns kept for reuse by later stages of the same arcs [-].
-BASE_COLUMNS_KEPT = 160
+#: Values of the base-state fault columns kept for reuse by later stages of the same arcs (32 MB; the oldest
+#: columns go first) [-].
+BASE_COLUMN_VALUES_KEPT = 2_000_000
 #: Branches of smaller impedance (closed switches, 1e-6 pu) are not removed by a low-rank
 #: update: the update's small matrix would lose most of its digits; the state is factorised [pu].
 LOW_RANK_MIN_Z_PU = 1e-4
@@ -115,6 +117,7 @@ class NetworkStates(StateFills, ForestQueries):
     """
 
     _BASE = StateKey()  # the base state: every branch closed, motors contributing, no split
+    low_rank_min_z_pu = LOW_RANK_MIN_Z_PU
 
     def __init__(self, base_kv, branch_from, branch_to, branch_z_pu, shunt_bus, shunt_z_pu, shunt_is_motor,
                  source_bus, device_branch, device_kv, voltage_factor=1.0, s_base_mva=100.0, base_factors=None,
@@ -298,14 +301,18 @@ class NetworkStates(StateFills, ForestQueries):
 
     def _base_columns(self, col):
         """Z[:, c] of the base state for each position c, on the rows of c's part, as a list (the last
-        :data:`BASE_COLUMNS_KEPT` kept) [pu]."""
+        values up to :data:`BASE_COLUMN_VALUES_KEPT` kept) [pu]."""
         def fill(rhs, missing, local):
             rhs[local[missing], np.arange(len(missing))] = 1.0
 
+        cache = self._states.setdefault("base_columns", {})
+        before = len(cache)
         columns = self._cached_columns("base_columns", col.tolist(), lambda c: c, fill)
-        cache = self._states["base_columns"]
-        for old in list(cache)[:max(0, len(cache) - BASE_COLUMNS_KEPT)]:  # the oldest first
-            del cache[old]
+        added = itertools.islice(reversed(cache.values()), len(cache) - before)  # the columns solved now
+        kept = self._states.get("base_column_values", 0) + sum(c.size for c in added)
+        while kept > BASE_COLUMN_VALUES_KEPT and len(cache) > 1:  # the oldest first
+            kept -= cache.pop(next(iter(cache))).size
+        self._states["base_column_values"] = kept
         return columns
 
     def _update_columns(self, branches):

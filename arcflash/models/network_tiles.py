@@ -87,6 +87,7 @@ class TiledTopology:
         self.base = base_factory(n0, f0, t0, states.shunt_bus[in_copy0], states.source_bus[states.source_bus < n0],
                                  device_base)
         self._keys, self._reaches, self._plans, self._carrying = {}, {}, {}, {}
+        self.low_rank_min_z_pu = states.low_rank_min_z_pu
 
     def base_key(self, key, copy):
         """The base network's state of ``key`` in copy ``copy``, or None where ``key`` opens or splits a branch
@@ -130,12 +131,18 @@ class TiledTopology:
         base_key = self.base_key(key, copy)
         if base_key is None:
             return False
-        if base_key not in self._plans:
-            self._plans[base_key] = self.base._plan_topology(base_key)
-        applied = self._plans[base_key]
+        applied = self.base_plan(base_key)
         if applied is None:
             return None
         return [int(self.start[b] + copy * self.step[b]) for b in applied]
+
+    def base_plan(self, base_key):
+        """The opened branches of the base network's state ``base_key`` (no split, motors contributing) a
+        low-rank update removes, in the base network's numbers (remembered), before the check of their
+        impedances; None where the state must be factorised."""
+        if base_key not in self._plans:
+            self._plans[base_key] = self.base._plan_topology(base_key)
+        return self._plans[base_key]
 
     def part_at(self, key, point):
         """(whether a source reaches ``point``, its part: a hashable token) in state ``key`` (no split), or

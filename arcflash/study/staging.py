@@ -154,6 +154,10 @@ def follow_arcs(context, buses, named=None, reduced=None):
     """
     named = np.full(len(buses), -1) if named is None else named
     reduced = np.zeros(len(buses), dtype=bool) if reduced is None else reduced
+    if getattr(context.states, "_tiles", None) is not None:  # a stacked site: each arc's copies together
+        from .staging_copies import follow_copies
+
+        return follow_copies(context, buses, named, reduced)
     arcs = [StagedArc(int(k), reduced=bool(r), named=int(d)) for k, d, r in zip(buses, named, reduced)]
     for lo in range(0, len(arcs), CHUNK_ARCS):  # a chunk at a time: trip progress is held for few arcs
         _follow_chunk(context, arcs[lo:lo + CHUNK_ARCS])
