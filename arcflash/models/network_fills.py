@@ -10,7 +10,7 @@ from __future__ import annotations
 import numpy as np
 
 from .network import base_current_ka
-from .network_factors import COLUMNS_TOGETHER_ROWS, solve_each
+from .network_factors import COLUMNS_TOGETHER_ROWS, DenseInverse, solve_each
 
 
 class StateFills:
@@ -67,12 +67,11 @@ class StateFills:
         local = self._base_local()
         points = copies * n0 + base_bus
         col = index[points]
-        z = np.stack(self._base_columns(col))  # one row per copy, on the rows of its part
+        z, w = self._copy_columns(col, branch)  # one row per copy, on the rows of its part
         rows = np.arange(copies.size)
         point = local[col]
         f_all, t_all = self.branch_from, self.branch_to
         if branch is not None:  # Woodbury, rank one (as _fill_rank_one)
-            w = np.stack(self._update_column_list(branch.tolist()))
             small = -self.branch_z_pu[branch] + (w[rows, local[index[f_all[branch]]]] - w[rows, local[index[t_all[branch]]]])
             ratio = w[rows, point] / small
             z -= w * ratio[:, None]
@@ -89,6 +88,24 @@ class StateFills:
         current = np.zeros((copies.size, d0))
         current[:, carrying] = i_dev
         return bolted, current
+
+    def _copy_columns(self, col, branch):
+        """The base state's columns Z[:, c] at positions ``col``, and with ``branch`` (a branch per column, or
+        None) the update columns Z u_b, one row per column on its part's rows: read from the parts' inverses
+        where those are dense (the values their solves give: a column, or the difference of two), else solved
+        (:meth:`_base_columns`, :meth:`_update_column_list`) [pu]."""
+        index, _ = self._prepared(self._BASE)
+        row_part, factors = self._base_parts()
+        found = [factors[p][1] for p in row_part[col].tolist()]
+        if all(isinstance(lu, DenseInverse) for lu in found) and len({lu.shape for lu in found}) == 1:
+            local = self._base_local()
+            z = np.stack([lu.inverse[:, c] for lu, c in zip(found, local[col].tolist())])
+            if branch is None:
+                return z, None
+            ends = zip(local[index[self.branch_from[branch]]].tolist(), local[index[self.branch_to[branch]]].tolist())
+            return z, np.stack([lu.inverse[:, f] - lu.inverse[:, t] for lu, (f, t) in zip(found, ends)])
+        z = np.stack(self._base_columns(col))
+        return z, None if branch is None else np.stack(self._update_column_list(branch.tolist()))
 
     def _fill(self, solved_key, rows, fault_bus, keys, plans, devices, bolted, current, on):
         """Solve faults ``rows`` with the factorisation of ``solved_key``, each updated by its plan; currents of

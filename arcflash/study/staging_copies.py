@@ -41,18 +41,36 @@ def follow_copies(context, buses, named, reduced):
     cohorts = {}
     for k, (bus, case) in enumerate(zip((buses - copy * tiles.n0).tolist(), np.asarray(reduced).tolist())):
         cohorts.setdefault((bus, bool(case)), []).append(k)
-    queue = [(bus, case, members) for (bus, case), members in cohorts.items()]
-    while queue:
-        bus, case, members = queue.pop()
-        members = np.array(members, dtype=np.intp)
-        cohort = _Cohort(context, bus, case, members, copy[members])
-        cohort.run()
-        for k, arc in cohort.finished:
-            arc.named = int(named[k])
-            results[k] = arc
-        for group in cohort.left:
-            alone.extend(group)
-        queue.extend((bus, case, group) for group in cohort.again)
+    active = [_Cohort(context, bus, case, np.array(members, dtype=np.intp), copy[members])
+              for (bus, case), members in cohorts.items()]
+    while active:  # a round: one stage of every cohort, their arcing currents found together
+        solved = [(cohort, cohort.solve()) for cohort in active]
+        solved = [(cohort, found) for cohort, found in solved if found is not None]
+        if solved:
+            bus = np.concatenate([cohort.stacked_bus for cohort, _ in solved])
+            bolted = np.concatenate([found[0] for _, found in solved])
+            case = np.concatenate([np.full(cohort.copy.size, cohort.reduced) for cohort, _ in solved])
+            arcing, code = context.arcing(bus, bolted, case)
+            start = 0
+            for cohort, (bolted, current) in solved:
+                part = slice(start, start + cohort.copy.size)
+                cohort.advance(bolted, current, arcing[part], code[part])
+                start = part.stop
+        following = []
+        for cohort in active:
+            for k, arc in cohort.finished:
+                arc.named = int(named[k])
+                results[k] = arc
+            cohort.finished = []
+            for group in cohort.left:
+                alone.extend(group)
+            cohort.left = []
+            following.extend(_Cohort(context, cohort.bus, cohort.reduced, np.array(group, dtype=np.intp),
+                                     copy[group]) for group in cohort.again)
+            cohort.again = []
+            if cohort.copy.size:
+                following.append(cohort)
+        active = following
     if alone:
         alone.sort()
         arcs = [StagedArc(int(buses[k]), reduced=bool(reduced[k]), named=int(named[k])) for k in alone]
@@ -82,6 +100,7 @@ class _Cohort:
         self.bus, self.reduced = bus, reduced
         self.position, self.copy = positions, copies
         self.finished, self.left, self.again = [], [], []  # lists of positions: followed alone, or anew
+        self.rounds = 0
         d0, n0 = self.tiles.d0, self.tiles.n0
         self.device = copies[:, None] * d0 + np.arange(d0)[None, :]  # each copy's devices
         self.stacked_bus = copies * n0 + bus
@@ -104,15 +123,17 @@ class _Cohort:
         found = sets.get(int(self.stacked_bus[k]), set())
         return {d - int(self.copy[k]) * self.tiles.d0 for d in found}
 
-    def run(self):
-        if not self.usable or self.context.motor_end_s is not None:  # followed alone (not taken together here)
+    def solve(self):
+        """The faults of this stage of every copy: (bolted current [kA], device currents [kA]), or None where
+        the copies are followed alone (a state solved otherwise, more stages than MAX_STAGES)."""
+        self.rounds += 1
+        if not self.usable or self.context.motor_end_s is not None or self.rounds > MAX_STAGES + 1:
+            self._leave(np.ones(self.copy.size, dtype=bool))  # not taken together here: followed alone
+            return None
+        solved = self.context.states.solve_copies(self.key, self.bus, self.copy)
+        if solved is None:
             self._leave(np.ones(self.copy.size, dtype=bool))
-            return
-        for _ in range(MAX_STAGES + 1):
-            if not self.copy.size:
-                return
-            self._stage()
-        self._leave(np.ones(self.copy.size, dtype=bool))  # more stages than MAX_STAGES: followed alone
+        return solved
 
     def _leave(self, mask):
         """Copies ``mask`` part from the cohort: followed alone, from their start."""
@@ -131,17 +152,12 @@ class _Cohort:
         self.steps = [[s[0]] + [v if v is None or isinstance(v, float) else v[mask] for v in s[1:]]
                       for s in self.steps]
 
-    def _stage(self):
-        """One stage of every copy (a round of ``staging._follow_local`` and ``staging._advance``, the same
-        operations on rows of copies); copies that part from the cohort are left on the way."""
+    def advance(self, bolted, current, arcing, code):
+        """One stage of every copy, its faults solved (:meth:`solve`) and its arcing currents and range codes
+        given (a round of ``staging._follow_local`` and ``staging._advance``, the same operations on rows of
+        copies); copies that part from the cohort are left on the way."""
         context, tiles = self.context, self.tiles
-        solved = context.states.solve_copies(self.key, self.bus, self.copy)
-        if solved is None:
-            self._leave(np.ones(self.copy.size, dtype=bool))
-            return
-        bolted, current = solved
         m = self.copy.size
-        arcing, code = context.arcing(self.stacked_bus, bolted, np.full(m, self.reduced))
         ratio = np.divide(arcing, bolted, out=np.zeros(m), where=bolted > 0)
         device_a = current * (ratio * 1000.0)[:, None]
         # the devices followed (staging._devices): the same for every copy kept

@@ -14,6 +14,7 @@ from arcflash.study.arcing import arcing_currents, equipment_table
 from arcflash.study.clearing import clear_arcs, clearing_paths
 from arcflash.study.faults import solve_scenario
 from arcflash.study.stacking import stacked_site
+from arcflash.study.staging import CHUNK_ARCS, StagedArc, _follow_chunk
 from arcflash.study.uncertainty import sample_design, sample_site, uncertain_inputs
 from tests.study.test_stack_tiling import _demo_with_more_inputs
 
@@ -46,22 +47,35 @@ def test_copies_followed_together_equal_each_followed_alone(source, tmp_path, mo
     site = _demo_with_more_inputs() if source == "demo" else _synthetic(tmp_path)
     stack = _stack(site, 60 if source == "demo" else 24, seed=3)
     seen = {"together": 0, "again": 0, "alone": 0}
-    run = copies_module._Cohort.run
+    finish, agree, alone_engine = copies_module._Cohort._finish, copies_module._Cohort._agree, copies_module._follow_chunk
 
-    def counted(cohort):
-        run(cohort)
-        seen["together"] += len(cohort.finished)
-        seen["again"] += sum(len(group) for group in cohort.again)
-        seen["alone"] += sum(len(group) for group in cohort.left)
+    def finished(cohort, *args):
+        seen["together"] += cohort.copy.size
+        return finish(cohort, *args)
 
-    monkeypatch.setattr(copies_module._Cohort, "run", counted)
+    def agreed(cohort, *args):
+        before = sum(len(group) for group in cohort.again)
+        found = agree(cohort, *args)
+        seen["again"] += sum(len(group) for group in cohort.again) - before
+        return found
+
+    def followed_alone(context, arcs):
+        seen["alone"] += len(arcs)
+        return alone_engine(context, arcs)
+
+    monkeypatch.setattr(copies_module._Cohort, "_finish", finished)
+    monkeypatch.setattr(copies_module._Cohort, "_agree", agreed)
+    monkeypatch.setattr(copies_module, "_follow_chunk", followed_alone)
     together = {name: _cleared(stack, name) for name in site.scenarios}
     assert seen["together"] > 100 and seen["again"] > 0 and seen["alone"] > 0, seen
 
-    def alone(cohort):  # every copy followed alone
-        cohort._leave(np.ones(cohort.copy.size, dtype=bool))
+    def every_arc_alone(context, buses, named, reduced):
+        arcs = [StagedArc(int(b), reduced=bool(r), named=int(d)) for b, d, r in zip(buses, named, reduced)]
+        for lo in range(0, len(arcs), CHUNK_ARCS):
+            _follow_chunk(context, arcs[lo:lo + CHUNK_ARCS])
+        return arcs
 
-    monkeypatch.setattr(copies_module._Cohort, "run", alone)
+    monkeypatch.setattr(copies_module, "follow_copies", every_arc_alone)
     for name in site.scenarios:
         expected = _cleared(stack, name)
         for field in ("table", "stages", "steps"):
