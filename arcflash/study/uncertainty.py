@@ -139,14 +139,33 @@ def _at_band_position(device, position):
         return moved
     unit = device.trip_unit
     p, d = 1.0 + position * unit.pickup_tolerance, 1.0 + position * unit.time_tolerance
-    scale = {**{f: p for f in _PICKUPS}, **{f: d for f in _DELAYS}}
+    own, maintenance = _band_plan(device)
+    update = {f: v * (p if pickup else d) for f, v, pickup in own}
+    update["pickup_tolerance"] = update["time_tolerance"] = 0.0
+    moved = dict(device.maintenance)
+    moved.update({f: v * (p if pickup else d) for f, v, pickup in maintenance})
+    return device.replaced({"trip_unit": unit.replaced(update), "maintenance": moved})
 
-    def moved(settings):
-        return {f: v * scale[f] if f in scale and v is not None else v for f, v in settings.items()}
 
-    update = {f: getattr(unit, f) * scale[f] for f in scale if getattr(unit, f) is not None}
-    unit = unit.replaced({**update, "pickup_tolerance": 0.0, "time_tolerance": 0.0})
-    return device.replaced({"trip_unit": unit, "maintenance": moved(device.maintenance)})
+#: The settings a band position moves, per trip-unit device met (by identity; the entry keeps the device).
+_BAND_PLANS = {}
+_BAND_PLANS_KEPT = 4096
+
+
+def _band_plan(device):
+    """(field, value, whether a pickup) of the trip unit's settings and of the device's maintenance settings
+    that a band position moves (:data:`_PICKUPS` by the pickup tolerance, :data:`_DELAYS` by the time
+    tolerance; those set), remembered by the device's identity: every sample moves the same ones."""
+    entry = _BAND_PLANS.get(id(device))
+    if entry is None or entry[0] is not device:
+        if len(_BAND_PLANS) >= _BAND_PLANS_KEPT:
+            _BAND_PLANS.clear()
+        unit = device.trip_unit
+        kinds = {**{f: True for f in _PICKUPS}, **{f: False for f in _DELAYS}}
+        own = tuple((f, getattr(unit, f), pickup) for f, pickup in kinds.items() if getattr(unit, f) is not None)
+        maintenance = tuple((f, v, kinds[f]) for f, v in device.maintenance.items() if f in kinds and v is not None)
+        entry = _BAND_PLANS[id(device)] = (device, own, maintenance)
+    return entry[1], entry[2]
 
 
 def sample_design(inputs, samples, seed):
