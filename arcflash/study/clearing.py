@@ -93,7 +93,8 @@ class ClearingPaths:
     no_device: np.ndarray
     energized: np.ndarray
     meshed: bool
-    notes: list
+    #: (buses a source reaches through no device, that source's number, the sources' ids): see ``notes``.
+    bare: tuple
     bank: DeviceBank
     cap_s: float | None
     source_bus: np.ndarray
@@ -111,6 +112,13 @@ class ClearingPaths:
     #: grouped by bus likewise (positions among the paths, in the order of ``by_path``'s groups) [-].
     by_path: tuple = None
     by_bus: tuple = None
+
+    @property
+    def notes(self):
+        """(buses, text) of the buses a source reaches through no device, one per such source."""
+        bare_bus, bare_src, names = self.bare
+        return [(buses, f"no protective device between source {names[number]} and this bus")
+                for number, buses in _grouped(bare_src, bare_bus)]
 
 
 def clearing_paths(site, scenario, faults):
@@ -154,8 +162,7 @@ def clearing_paths(site, scenario, faults):
         bus_ids=net.bus_ids, device_ids=np.array(net.device_ids, dtype=object), bus=bus, device=dev,
         path=path, device_ka=device_ka, live=live, bolted_ka=bolted,
         no_device=no_device, energized=np.bincount(reached_bus, minlength=n_bus) > 0, meshed=meshed_any,
-        notes=[(buses, f"no protective device between source {sources[number][0]} and this bus")
-               for number, buses in _grouped(bare_src, bare_bus)],
+        bare=(bare_bus, bare_src, [ident for ident, _ in sources]),
         bank=device_bank(site, scenario, net.device_ids), cap_s=site.facility.arc_duration_cap_s,
         source_bus=np.array([b for _, b in sources], dtype=np.intp),
         on_loop=on_loop, sources_reaching=np.bincount(reached_bus, minlength=n_bus), excluded=excluded_by_bus,
@@ -409,7 +416,7 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
     bus_base_ka = base_current_ka(site.facility.s_base_mva, net.base_kv)
     index = bus_index(paths.bus_ids)
     result = pd.DataFrame(index=index)
-    notes = list(paths.notes)
+    notes = [] if numbers_only else list(paths.notes)
     result["no_device"] = paths.no_device
     cases = (("full", "", arcing_ka), ("reduced", "reduced_", reduced_arcing_ka))
     one = {}  # per case: inception arcing current, one-stage duration and device, buses followed

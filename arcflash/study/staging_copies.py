@@ -20,9 +20,9 @@ from __future__ import annotations
 import numpy as np
 
 from ..models.network_stages import StateKey
-from .staging import (CHUNK_ARCS, MAX_STAGES, SIMULTANEOUS_S, StagedArc, _follow_chunk, _progressed)
+from .staging import CHUNK_ARCS, MAX_STAGES, SIMULTANEOUS_S, StagedArc, _follow_chunk, _progressed
 
-__all__ = ["follow_copies"]
+__all__ = ["CopyArc", "follow_copies"]
 
 #: Copies that part from their cohort together start again as a cohort of their own when at least this many;
 #: fewer are followed alone (a cohort's stage costs some array operations whatever its size) [-].
@@ -113,11 +113,14 @@ class _Cohort:
         self.history = []  # (dt of each copy [s], device currents of each copy [A])
         self.stages = []  # (start, end, bolted, arcing, range code), one value per copy each
         self.steps = []  # [device, opening time, arcing before, after, bolted before, after]
-        sets = [self._base_set(context.excluded, k) for k in range(copies.size)]
-        sides = [self._base_set(context.line_side, k) for k in range(copies.size)]
-        self.usable = all(x == sets[0] for x in sets) and all(x == sides[0] for x in sides)
-        self.never = np.array(sorted(sets[0] - sides[0]), dtype=np.intp) if copies.size else np.zeros(0, np.intp)
-        self.line_side = sides[0] if copies.size else set()
+        # the devices that do not clear this bus's arc, and those on its line side: every copy's are the base
+        # site's (stack_tiling), checked by their number
+        sets, sides = (self._base_set(context.excluded, 0), self._base_set(context.line_side, 0)) if copies.size \
+            else (set(), set())
+        self.usable = all(len(context.excluded.get(b, ())) == len(sets) and len(context.line_side.get(b, ())) ==
+                          len(sides) for b in self.stacked_bus.tolist())
+        self.never = np.array(sorted(sets - sides), dtype=np.intp)
+        self.line_side = sides
 
     def _base_set(self, sets, k):
         found = sets.get(int(self.stacked_bus[k]), set())
@@ -301,15 +304,31 @@ class _Cohort:
     def _finish(self, end, governing):
         """Every copy's arc ends at ``end`` [s], ``governing`` (base number) its device."""
         d0 = self.tiles.d0
-        stages = [tuple(v.tolist() for v in stage) for stage in self.stages]
+        stages = list(zip(*(zip(*(v.tolist() for v in stage)) for stage in self.stages)))  # per copy
         steps = [[s[0]] + [v if isinstance(v, float) else v.tolist() for v in s[1:]] for s in self.steps]
-        ends = end.tolist()
-        for i, (k, copy) in enumerate(zip(self.position.tolist(), self.copy.tolist())):
-            arc = StagedArc(int(self.stacked_bus[i]), reduced=self.reduced)
-            arc.stages = [(s[0][i], s[1][i], s[2][i], s[3][i], s[4][i]) for s in stages]
-            arc.steps = [[copy * d0 + s[0]] + [v if isinstance(v, float) else v[i] for v in s[1:]] for s in steps]
-            arc.opened = {copy * d0 + d for d in self.opened}
-            arc.done, arc.duration_s, arc.governing = True, ends[i], copy * d0 + governing
-            self.finished.append((k, arc))
+        for i, (k, copy, bus, ended) in enumerate(zip(self.position.tolist(), self.copy.tolist(),
+                                                      self.stacked_bus.tolist(), end.tolist())):
+            self.finished.append((k, CopyArc(bus, self.reduced, list(stages[i]), ended, copy * d0 + governing,
+                                             (steps, i, copy * d0))))
         self.position = self.position[:0]
         self.copy = self.copy[:0]
+
+
+class CopyArc:
+    """An arc followed with its cohort: what :class:`~.staging.StagedArc` reports of an arc that ended when
+    its last device opened (no cap, a trip): ``bus``, ``reduced``, ``named``, ``stages``, ``duration_s``,
+    ``governing``, ``no_trip`` and ``capped`` (False), ``steps`` (made when first read)."""
+
+    __slots__ = ("bus", "reduced", "named", "stages", "duration_s", "governing", "_steps")
+    no_trip = capped = False
+    done = True
+
+    def __init__(self, bus, reduced, stages, duration_s, governing, steps):
+        self.bus, self.reduced, self.named, self.stages = bus, reduced, -1, stages
+        self.duration_s, self.governing, self._steps = duration_s, governing, steps
+
+    @property
+    def steps(self):
+        """[device, opening time [s], arcing current before and after [kA], bolted before and after [kA]]."""
+        steps, i, shift = self._steps
+        return [[shift + s[0]] + [v if isinstance(v, float) else v[i] for v in s[1:]] for s in steps]
