@@ -218,15 +218,38 @@ def stacked_bank(site, scenario, device_ids):
         else:
             source, rows = plain, changed
         at = copy_of[changed] * len(ids) + j[changed]
-        units = source.kind[rows] == 1
-        if units.any():
-            for name in [name for name in bank.units if isinstance(name, str)]:
-                bank.units[name][bank.row[at[units]]] = source.units[name][source.row[rows[units]]]
+        if not _tileable(base, j[changed], source, rows):  # a changed kind, curve or relay layout (a
+            # mitigation candidate, not an uncertainty sample): the bank built device by device
+            stack.memory[key] = DeviceBank(site, scenario, device_ids)
+            return stack.memory[key]
+        for group, code in (("relays", 0), ("units", 1)):
+            picked = source.kind[rows] == code
+            if picked.any():
+                mine, theirs = getattr(bank, group), getattr(source, group)
+                for name in [name for name in mine if isinstance(name, str)]:
+                    mine[name][bank.row[at[picked]]] = theirs[name][source.row[rows[picked]]]
         curves = source.kind[rows] == 2
         bank.curve_position[at[curves]] = source.curve_position[rows[curves]]
         bank._parts.append((source, rows, at))
     stack.memory[key] = bank
     return bank
+
+
+def _tileable(base, positions, source, rows):
+    """Whether the changed devices (``rows`` of the bank ``source``, at ``positions`` of the ``base`` bank)
+    keep their base device's kind, digitised curve and relay parameter layout, so that their parameters
+    can be written over the base's repeated ones."""
+    if not np.array_equal(source.kind[rows], base.kind[positions]):
+        return False
+    curves = source.kind[rows] == 2
+    if curves.any():
+        names = np.array(source.curve_names + [""], dtype=object)[source.point_curve[rows[curves]]]
+        if not np.array_equal(names, np.array(base.curve_names + [""], dtype=object)[base.point_curve[positions[curves]]]):
+            return False
+    if (source.kind[rows] == 0).any():
+        return all(name in base.relays and np.shape(base.relays[name])[1:] == np.shape(values)[1:]
+                   for name, values in source.relays.items() if isinstance(name, str))
+    return True
 
 
 def _changed_bank(stack, maintenance):

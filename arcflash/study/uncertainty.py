@@ -225,12 +225,20 @@ def run_chunk(site, inputs, rows, scenario=None):
     The samples are studied together: each sampled site a copy in one stacked site
     (:mod:`arcflash.study.stacking`, at most :data:`~arcflash.study.stacking.STACK_BUSES` buses a stack),
     each copy's results equal to its sample studied alone."""
-    with collector_paused():  # a chunk makes many short-lived objects: the collector's passes cost a tenth
-        return _run_chunk(site, inputs, rows, scenario)
+    return _studied_variants(site, len(rows), lambda k: sample_site(site, inputs, rows[k]), scenario)
 
 
-def _run_chunk(site, inputs, rows, scenario=None):
-    """The work of :func:`run_chunk`."""
+def study_variants(site, variants, scenario=None):
+    """Governing incident energy [cal/cm²], arc-flash boundary [mm] and the bolted current of that row [kA]
+    of every bus for each of ``variants`` (sites made from ``site`` by replacing elements: uncertainty
+    samples, mitigation candidates; arrays variants × buses, buses in the site's order), studied together
+    as :func:`run_chunk` studies samples: each variant's numbers are those of its own study, bit for bit."""
+    return _studied_variants(site, len(variants), variants.__getitem__, scenario)
+
+
+def _studied_variants(site, count, variant, scenario):
+    """The variants ``variant(0)`` ... ``variant(count - 1)`` of ``site``, made a stack at a time and studied
+    with the cyclic collector paused (a chunk makes many short-lived objects: its passes cost a tenth)."""
     from .arcing import equipment_table
     from .faults import bus_index
     from .pipeline import scenario_numbers
@@ -238,20 +246,21 @@ def _run_chunk(site, inputs, rows, scenario=None):
     from .stacking import stack_size, stacked_site
 
     buses = list(site.buses)
-    energy = np.full((len(rows), len(buses)), np.nan)
-    boundary = np.full((len(rows), len(buses)), np.nan)
-    bolted = np.full((len(rows), len(buses)), np.nan)
+    energy = np.full((count, len(buses)), np.nan)
+    boundary = np.full((count, len(buses)), np.nan)
+    bolted = np.full((count, len(buses)), np.nan)
     names = [site.scenario(scenario).name] if scenario is not None else list(site.scenarios)
     size = stack_size(site)
-    for lo in range(0, len(rows), size):
-        group = rows[lo:lo + size]
-        stacked = stacked_site([sample_site(site, inputs, values) for values in group], base=site)
-        equipment = equipment_table(stacked)
-        order = bus_index(tagged_ids(buses, len(group)))
-        tables = [scenario_numbers(stacked, stacked.scenarios[name], equipment) for name in names]
-        shape = (len(group), len(buses))
-        for into, values in zip((energy, boundary, bolted), _governing_values(tables, order)):
-            into[lo:lo + len(group)] = values.reshape(shape)
+    with collector_paused():
+        for lo in range(0, count, size):
+            group = range(lo, min(count, lo + size))
+            stacked = stacked_site([variant(k) for k in group], base=site)
+            equipment = equipment_table(stacked)
+            order = bus_index(tagged_ids(buses, len(group)))
+            tables = [scenario_numbers(stacked, stacked.scenarios[name], equipment) for name in names]
+            shape = (len(group), len(buses))
+            for into, values in zip((energy, boundary, bolted), _governing_values(tables, order)):
+                into[lo:lo + len(group)] = values.reshape(shape)
     return energy, boundary, bolted
 
 
