@@ -321,7 +321,7 @@ class _Checks:
                 fed.setdefault((int(src), ids[int(dev)]), set()).add(int(bus))
             bank = device_bank(site, scenario, ids)
             self.scenarios.append((name, scenario, faults, ids, fed, current, low, bank))
-        self._base = {}
+        self._base, self._checks = {}, {}
 
     def _fastest_s(self, site, scenario, ids, device, current_a):
         """The changed device's fastest time (minimum band, no breaker time; a relay's curve) [s]."""
@@ -339,31 +339,53 @@ class _Checks:
             return point_curve_time_s(current, curve, band="min" if curve.min_time_s is not None else "max")
         return bank.clearing_time_s(np.full(current.size, d), current)
 
-    def _violations(self, site, device):
-        """(downstream device, fault bus, scenario) where ``device`` of ``site`` acts before the downstream
-        device clears (less the margin), over the range of fault currents."""
-        found = set()
-        for name, scenario, faults, ids, fed, current, low, bank in self.scenarios:
-            if device not in ids:
-                continue
+    def _pairs(self, number, device):
+        """The checks of ``device``'s selectivity in scenario ``number`` (remembered; they depend on the site's
+        network alone): per (downstream device, fault bus beyond it), the two devices' currents at
+        :data:`RANGE_POINTS` points from the reduced arcing current to the bolted current [A], and the margin
+        [s]."""
+        key = (number, device)
+        if key not in self._checks:
+            _, _, _, ids, fed, current, low, bank = self.scenarios[number]
             u = ids.index(device)
-            relay_u = bank.kind[u] == 0
+            checks = set()
             for (src, other), buses in fed.items():
                 mine = fed.get((src, device))
                 if other == device or not mine or not buses < mine:
                     continue
                 d = ids.index(other)
-                margin = RELAY_MARGIN_S if relay_u or bank.kind[d] == 0 else 0.0
-                for k in sorted(buses):
-                    i_u, i_d = current.get((k, u)), current.get((k, d))
-                    if not i_u or not i_d or not np.isfinite(low[k]):
-                        continue
-                    scale = np.geomspace(max(low[k], 1e-3), 1.0, RANGE_POINTS)
-                    t_u = self._fastest_s(site, scenario, ids, device, i_u * scale * 1000.0)
-                    t_d = bank.clearing_time_s(np.full(scale.size, d), i_d * scale * 1000.0)
-                    with np.errstate(invalid="ignore"):
-                        if (np.isfinite(t_u) & np.isfinite(t_d) & (t_u < t_d + margin)).any():
-                            found.add((other, faults.net.bus_ids[k], name))
+                checks.update((d, k) for k in buses
+                              if current.get((k, u)) and current.get((k, d)) and np.isfinite(low[k]))
+            checks = sorted(checks)
+            d = np.array([c[0] for c in checks], dtype=np.intp)
+            k = np.array([c[1] for c in checks], dtype=np.intp)
+            steps = np.linspace(0.0, 1.0, RANGE_POINTS)[None, :]
+            scale = np.power(np.maximum(low[k], 1e-3)[:, None], 1.0 - steps) if k.size else np.zeros((0, RANGE_POINTS))
+            amps_u = np.array([current[(j, u)] for j in k.tolist()])[:, None] * scale * 1000.0 if k.size else scale
+            amps_d = np.array([current[(j, e)] for j, e in zip(k.tolist(), d.tolist())])[:, None] * scale * 1000.0 \
+                if k.size else scale
+            margin = np.where((bank.kind[u] == 0) | (bank.kind[d] == 0), RELAY_MARGIN_S, 0.0)
+            self._checks[key] = (d, k, amps_u, amps_d, margin)
+        return self._checks[key]
+
+    def _violations(self, site, device):
+        """(downstream device, fault bus, scenario) where ``device`` of ``site`` acts before the downstream
+        device clears (less the margin), over the range of fault currents."""
+        from .device_bank import device_bank
+
+        found = set()
+        for number, (name, scenario, faults, ids, _, _, _, _) in enumerate(self.scenarios):
+            if device not in ids:
+                continue
+            d, k, amps_u, amps_d, margin = self._pairs(number, device)
+            if not d.size:
+                continue
+            t_u = self._fastest_s(site, scenario, ids, device, amps_u.ravel()).reshape(amps_u.shape)
+            t_d = device_bank(site, scenario, ids).clearing_time_s(np.repeat(d, amps_d.shape[1]),
+                                                                   amps_d.ravel()).reshape(amps_d.shape)
+            with np.errstate(invalid="ignore"):
+                bad = (np.isfinite(t_u) & np.isfinite(t_d) & (t_u < t_d + margin[:, None])).any(axis=1)
+            found.update((ids[e], faults.net.bus_ids[j], name) for e, j in zip(d[bad].tolist(), k[bad].tolist()))
         return found
 
     def cost(self, candidate, site):
