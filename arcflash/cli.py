@@ -11,6 +11,7 @@ import click
 
 from .cli_options import NON_NEGATIVE, POSITIVE, QUICK_FIELDS, SIGNED, in_option_words, quick_problem_words
 from .cli_options import refuse_alone, refuse_conflicts
+from .cli_mitigate import mitigate_command
 from .cli_selfcheck import selfcheck
 from .errors import SiteDataError
 from .models.errors import ModelRangeError
@@ -555,6 +556,7 @@ def site_schema(out):
 
 
 main.add_command(selfcheck)
+main.add_command(mitigate_command)
 
 
 if __name__ == "__main__":  # pragma: no cover

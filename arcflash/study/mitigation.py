@@ -101,9 +101,10 @@ class Candidate:
 def _together(candidates):
     """One candidate making every one of ``candidates`` (the same change on several devices)."""
     first = candidates[0]
-    return Candidate(tuple(d for c in candidates for d in c.devices), first.kind,
-                     first.change.split(":", 1)[-1].strip(), {k: v for c in candidates for k, v in c.updates.items()},
-                     first.key, {k: v for c in candidates for k, v in c.pickup_a.items()})
+    devices = tuple(d for c in candidates for d in c.devices)
+    return Candidate(devices, first.kind, " + ".join(devices) + ": " + first.change.split(": ", 1)[-1],
+                     {k: v for c in candidates for k, v in c.updates.items()}, first.key,
+                     {k: v for c in candidates for k, v in c.pickup_a.items()})
 
 
 @dataclass(frozen=True)
@@ -209,7 +210,7 @@ def mitigate(site, target_cal_cm2, space=None):
     devices = list(dict.fromkeys(d for b in high for d in clearing[b]))
     found = {d: candidates_for(site, d, space) for d in devices}
     every = [c for d in devices for c in found[d]]
-    for group in dict.fromkeys(tuple(clearing[b]) for b in high if len(clearing[b]) > 1):
+    for group in dict.fromkeys(tuple(sorted(clearing[b])) for b in high if len(clearing[b]) > 1):
         # arcs that several devices end together (fed over several paths): the same change on all of them
         keys = [{c.key: c for c in found[d]} for d in group]
         every += [_together([mine[key] for mine in keys]) for key in keys[0] if all(key in mine for mine in keys)]
