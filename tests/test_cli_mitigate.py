@@ -5,6 +5,7 @@ from __future__ import annotations
 from pathlib import Path
 
 import pandas as pd
+import pytest
 from click.testing import CliRunner
 
 from arcflash.cli import main
@@ -35,3 +36,52 @@ def test_mitigate_refuses_a_target_that_is_not_a_positive_energy():
     assert result.exit_code == 2 and "--target" in result.output
     result = CliRunner().invoke(main, ["mitigate", str(DEMO)])
     assert result.exit_code == 2 and "--target" in result.output
+
+
+def _tree_bytes(folder):
+    return {p.relative_to(folder): p.read_bytes() for p in sorted(Path(folder).rglob("*")) if p.is_file()}
+
+
+def test_applying_a_candidate_writes_a_revision_whose_study_gives_the_energy_reported(tmp_path):
+    # issue 17: "applying a proposed candidate and re-running the study reproduces the energy the finder
+    # reported"; the site folder itself is never changed, and the revision differs from it only in the
+    # changed device's settings (and the library path, made to point at the same file from the new folder)
+    import shutil
+
+    import arcflash
+
+    site_dir = tmp_path / "sites" / "demo"
+    shutil.copytree(DEMO, site_dir)
+    shutil.copytree(DEMO.parent / "libraries", tmp_path / "sites" / "libraries")
+    before = _tree_bytes(site_dir)
+    out = tmp_path / "m"
+    result = CliRunner().invoke(main, ["mitigate", str(site_dir), "--target", "8", "--out", str(out)])
+    assert result.exit_code == 0, result.output
+    table = pd.read_csv(out / "mitigation.csv")
+    best = table[(table["bus"] == "SWG-C")].iloc[0]
+    revision = tmp_path / "revision"
+    result = CliRunner().invoke(main, ["mitigate", str(site_dir), "--target", "8", "--apply", str(best["candidate"]),
+                                       "--to", str(revision)])
+    assert result.exit_code == 0, result.output
+    assert f"Revision with candidate {best['candidate']} written to" in result.output
+    assert _tree_bytes(site_dir) == before
+    note = (revision / "REVISION.md").read_text(encoding="utf-8")
+    assert best["change"] in note and "qualified persons" in note
+    again = arcflash.run_study(arcflash.load_site(revision)).governing
+    assert again.loc["SWG-C", "incident_energy_governing_cal_cm2"] == pytest.approx(best["incident_energy_cal_cm2"],
+                                                                                    rel=1e-6)  # the CSV's 6 digits
+    changed = {p for p, data in _tree_bytes(revision).items() if before.get(p) != data}
+    assert changed == {Path("devices.yaml"), Path("facility.yaml"), Path("REVISION.md")}
+
+
+def test_apply_refuses_an_existing_folder_a_missing_partner_and_an_unknown_number(tmp_path):
+    existing = tmp_path / "there"
+    existing.mkdir()
+    result = CliRunner().invoke(main, ["mitigate", str(DEMO), "--target", "8", "--apply", "0", "--to", str(existing)])
+    assert result.exit_code == 2 and "already exists" in result.output
+    result = CliRunner().invoke(main, ["mitigate", str(DEMO), "--target", "8", "--apply", "0"])
+    assert result.exit_code == 2 and "--apply and --to go together" in result.output
+    result = CliRunner().invoke(main, ["mitigate", str(DEMO), "--target", "8", "--apply", "99999", "--to",
+                                       str(tmp_path / "new")])
+    assert result.exit_code == 2 and "no candidate has that number" in result.output
+    assert not (tmp_path / "new").exists()

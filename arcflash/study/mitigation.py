@@ -89,6 +89,8 @@ class Candidate:
     updates: dict
     key: tuple
     pickup_a: dict
+    #: device -> {settings group ('trip_unit' or 'relay'): {field: new value}}: the change as site data.
+    settings: dict = dataclasses.field(default_factory=dict)
 
     def site_of(self, site):
         """The site with this change made (a variant: its devices replaced)."""
@@ -104,7 +106,8 @@ def _together(candidates):
     devices = tuple(d for c in candidates for d in c.devices)
     return Candidate(devices, first.kind, " + ".join(devices) + ": " + first.change.split(": ", 1)[-1],
                      {k: v for c in candidates for k, v in c.updates.items()}, first.key,
-                     {k: v for c in candidates for k, v in c.pickup_a.items()})
+                     {k: v for c in candidates for k, v in c.pickup_a.items()},
+                     {k: v for c in candidates for k, v in c.settings.items()})
 
 
 @dataclass(frozen=True)
@@ -127,8 +130,12 @@ def candidates_for(site, device_id, space):
     found = []
 
     def add(kind, change, update, key, pickup_a=None):
+        group = "trip_unit" if "trip_unit" in update else "relay"
+        was = getattr(device, group).model_dump()
+        now = update[group].model_dump()
         found.append(Candidate((device_id,), kind, f"{device_id}: {change}", {device_id: update}, key,
-                               {} if pickup_a is None else {device_id: pickup_a}))
+                               {} if pickup_a is None else {device_id: pickup_a},
+                               {device_id: {group: {f: v for f, v in now.items() if was.get(f) != v}}}))
 
     unit = device.trip_unit
     if unit is not None:
