@@ -17,7 +17,8 @@ from .output.cautions import CAUTION
 @click.option("--top", type=click.IntRange(min=1), default=3, show_default=True,
               help="Candidates shown per bus.")
 @click.option("--out", "out_dir", type=click.Path(file_okay=False), default=None,
-              help="Write mitigation.csv (every candidate, ranked per bus) and mitigation_buses.csv to this folder.")
+              help="Write mitigation.csv (every candidate, ranked per bus), mitigation_buses.csv and mitigation.pdf "
+                   "(before/after time-current plots of each bus's best change) to this folder.")
 @click.option("--apply", "apply_number", type=click.IntRange(min=0), default=None,
               help="Write a new site revision with this candidate's change (its number in mitigation.csv).")
 @click.option("--to", "new_dir", type=click.Path(file_okay=False), default=None,
@@ -28,6 +29,7 @@ def mitigate_command(site_dir, target_cal_cm2, top, out_dir, apply_number, new_d
     checked for selectivity, motor starting and transformer inrush."""
     from .cli import _load
     from .output.files import write_atomic
+    from .output.mitigation_pdf import write_mitigation_pdf
     from .study.mitigation import mitigate
 
     if (apply_number is None) != (new_dir is None):
@@ -42,7 +44,9 @@ def mitigate_command(site_dir, target_cal_cm2, top, out_dir, apply_number, new_d
         for name, table in (("mitigation.csv", found.candidates), ("mitigation_buses.csv", found.buses)):
             write_atomic(os.path.join(out_dir, name), lambda tmp, t=table: t.to_csv(tmp, index=False,
                                                                                    float_format="%.6g"))
-        click.echo(f"Candidates written to {os.path.join(out_dir, 'mitigation.csv')}")
+        write_atomic(os.path.join(out_dir, "mitigation.pdf"), lambda tmp: write_mitigation_pdf(site, found, tmp))
+        click.echo(f"Candidates written to {os.path.join(out_dir, 'mitigation.csv')}; before/after plots to "
+                   f"{os.path.join(out_dir, 'mitigation.pdf')}")
 
 
 def _apply(site_dir, site, found, number, new_dir):

@@ -29,6 +29,16 @@ def test_mitigate_names_each_bus_above_target_its_best_change_or_why_none_and_wr
     buses = pd.read_csv(out / "mitigation_buses.csv")
     assert set(buses["bus"]) == set(candidates["bus"]) | {"MV-MAIN", "GEN-SWBD", "GH-SVC", "GH-MAIN", "TC-SEC"}
     assert {"selectivity_lost", "starting_or_inrush", "incident_energy_cal_cm2", "kind"} <= set(candidates.columns)
+    # the PDF: the table of buses, then the best change's time-current plots before and after (its text)
+    from pypdf import PdfReader
+
+    pages = [page.extract_text() for page in PdfReader(out / "mitigation.pdf").pages]
+    assert "Target 8 cal/cm2" in pages[0] and "qualified persons" in pages[0]
+    assert "best: LVM-C-TU: short-time delay 0.3 -> 0.1 s" in pages[0].replace("\n", " ")
+    before = next(p for p in pages if "SWG-C, before" in p)
+    after = next(p for p in pages if "SWG-C, after: LVM-C-TU: short-time delay 0.3 -> 0.1 s" in p)
+    assert "Incident energy 15.6 cal/cm2" in before and "Incident energy 6.51 cal/cm2" in after
+    assert "clearing time [s]" in after and "LVM-C-TU" in after
 
 
 def test_mitigate_refuses_a_target_that_is_not_a_positive_energy():
