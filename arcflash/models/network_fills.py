@@ -72,7 +72,8 @@ class StateFills:
         point = local[col]
         f_all, t_all = self.branch_from, self.branch_to
         if branch is not None:  # Woodbury, rank one (as _fill_rank_one)
-            small = -self.branch_z_pu[branch] + (w[rows, local[index[f_all[branch]]]] - w[rows, local[index[t_all[branch]]]])
+            ends = local[index[f_all[branch]]], local[index[t_all[branch]]]
+            small = -self.branch_z_pu[branch] + (w[rows, ends[0]] - w[rows, ends[1]])
             ratio = w[rows, point] / small
             z -= w * ratio[:, None]
         i_fault = self.voltage_factor / z[rows, point]  # [pu]

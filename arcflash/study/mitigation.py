@@ -28,6 +28,7 @@ from __future__ import annotations
 
 import dataclasses
 from dataclasses import dataclass
+from typing import NamedTuple
 
 import numpy as np
 import pandas as pd
@@ -231,14 +232,16 @@ def mitigate(site, target_cal_cm2, space=None):
             if not set(candidate.devices) <= set(clearing[bus]):
                 continue
             reached = after[j, position[bus]]
-            lost, starting = costs[j]
+            pairs, troubles = costs[j]
             table.append({
                 "candidate": j, "bus": bus, "devices": " + ".join(candidate.devices), "change": candidate.change,
                 "kind": candidate.kind, "changes": len(candidate.devices),
                 "incident_energy_before_cal_cm2": before[bus], "incident_energy_cal_cm2": reached,
                 "ppe_category": int(nfpa70e.ppe_category(reached)) if np.isfinite(reached) else -2,
                 "reaches_target": bool(reached <= target_cal_cm2),
-                "selectivity_lost": lost, "starting_or_inrush": starting,
+                "selectivity_lost": "; ".join(f"{device} with {other} (faults at {_few(sorted(buses))})"
+                                              for (device, other), buses in pairs.items()),
+                "starting_or_inrush": "; ".join(troubles),
                 "reduced_arcing_reaches_pickup": all(checks.reduced_reaches(bus, d, a)
                                                      for d, a in candidate.pickup_a.items()),
             })
@@ -255,15 +258,16 @@ def mitigate(site, target_cal_cm2, space=None):
         order = {b: k for k, b in enumerate(high)}
         candidates = candidates.iloc[np.argsort(candidates["bus"].map(order).to_numpy(), kind="stable")]
         candidates = candidates.reset_index(drop=True)
-    return MitigationResult(candidates, _bus_summary(high, before, clearing, candidates, target_cal_cm2),
+    return MitigationResult(candidates, _bus_summary(high, before, clearing, candidates, costs, target_cal_cm2),
                             float(target_cal_cm2), every)
 
 
-_COLUMNS = ["candidate", "bus", "devices", "change", "kind", "changes", "incident_energy_before_cal_cm2", "incident_energy_cal_cm2",
-            "ppe_category", "reaches_target", "selectivity_lost", "starting_or_inrush", "reduced_arcing_reaches_pickup"]
+_COLUMNS = ["candidate", "bus", "devices", "change", "kind", "changes", "incident_energy_before_cal_cm2",
+            "incident_energy_cal_cm2", "ppe_category", "reaches_target", "selectivity_lost", "starting_or_inrush",
+            "reduced_arcing_reaches_pickup"]
 
 
-def _bus_summary(high, before, clearing, candidates, target):
+def _bus_summary(high, before, clearing, candidates, costs, target):
     """Per bus above the target: the best candidate that reaches it with selectivity and starting kept, or
     what prevents one."""
     out = []
@@ -282,11 +286,9 @@ def _bus_summary(high, before, clearing, candidates, target):
             status, note = "none", (f"no change in the searched space reaches {target:g} cal/cm2 (lowest "
                                     f"{mine['incident_energy_cal_cm2'].min():.3g})")
         else:
-            reaching = mine[mine["reaches_target"]]
-            pairs = dict.fromkeys(part.split(" (")[0] for text in reaching["selectivity_lost"] if text
-                                  for part in text.split("; "))
-            troubles = dict.fromkeys(part.split(" (")[0] for text in reaching["starting_or_inrush"] if text
-                                     for part in text.split("; "))
+            reaching = mine[mine["reaches_target"]]["candidate"].tolist()
+            pairs = dict.fromkeys(f"{device} with {other}" for j in reaching for device, other in costs[j][0])
+            troubles = dict.fromkeys(t.split(" (")[0] for j in reaching for t in costs[j][1])
             why = ([f"selectivity ({', '.join(pairs)})"] if pairs else []) + (
                 [f"starting or inrush ({', '.join(troubles)})"] if troubles else [])
             status, note = "none", "every change that reaches the target costs " + " and ".join(why)
@@ -300,6 +302,21 @@ def _few(names, shown=3):
     """Up to ``shown`` names, and how many more."""
     more = len(names) - shown
     return ", ".join(names[:shown]) + (f" and {more} more" if more > 0 else "")
+
+
+class _Scenario(NamedTuple):
+    """What the checks read of one scenario of the site as it is: its faults and device ids, the buses each
+    source feeds through each device (``fed``: (source number, device id) -> bus indices), each (bus,
+    device) pair's bolted current [kA], each bus's reduced arcing over bolted current [-], its device bank."""
+
+    name: str
+    scenario: object
+    faults: object
+    ids: list
+    fed: dict
+    current: dict
+    low: np.ndarray
+    bank: object
 
 
 class _Checks:
@@ -322,17 +339,18 @@ class _Checks:
             reduced = arcs["reduced_arcing_current_ka"].to_numpy(float)
             low = np.where(bolted > 0, reduced / np.where(bolted > 0, bolted, 1.0), np.nan)
             sol = faults.solution
-            current = {(int(k), int(d)): float(i) for k, d, i in zip(sol.device_fault_bus, sol.device, sol.device_current_ka)}
+            current = {(int(k), int(d)): float(i)
+                       for k, d, i in zip(sol.device_fault_bus, sol.device, sol.device_current_ka)}
             ids = list(faults.net.device_ids)
             fed = {}  # (source, device) -> buses fed through it
             for src, bus, dev in zip(paths.path // len(paths.bus_ids), paths.bus, paths.device):
                 fed.setdefault((int(src), ids[int(dev)]), set()).add(int(bus))
             bank = device_bank(site, scenario, ids)
-            self.scenarios.append((name, scenario, faults, ids, fed, current, low, bank))
+            self.scenarios.append(_Scenario(name, scenario, faults, ids, fed, current, low, bank))
         self._base, self._checks = {}, {}
 
     def _fastest_s(self, site, scenario, ids, device, current_a):
-        """The changed device's fastest time (minimum band, no breaker time; a relay's curve) [s]."""
+        """The changed device's fastest time (minimum band, no breaker time; a relay's curve with its breaker's) [s]."""
         from .device_bank import device_bank
 
         bank = device_bank(site, scenario, ids)
@@ -354,7 +372,8 @@ class _Checks:
         [s]."""
         key = (number, device)
         if key not in self._checks:
-            _, _, _, ids, fed, current, low, bank = self.scenarios[number]
+            ids, fed, current, low, bank = (getattr(self.scenarios[number], f)
+                                            for f in ("ids", "fed", "current", "low", "bank"))
             u = ids.index(device)
             checks = set()
             for (src, other), buses in fed.items():
@@ -382,23 +401,24 @@ class _Checks:
         from .device_bank import device_bank
 
         found = set()
-        for number, (name, scenario, faults, ids, _, _, _, _) in enumerate(self.scenarios):
-            if device not in ids:
+        for number, one in enumerate(self.scenarios):
+            if device not in one.ids:
                 continue
             d, k, amps_u, amps_d, margin = self._pairs(number, device)
             if not d.size:
                 continue
-            t_u = self._fastest_s(site, scenario, ids, device, amps_u.ravel()).reshape(amps_u.shape)
-            t_d = device_bank(site, scenario, ids).clearing_time_s(np.repeat(d, amps_d.shape[1]),
-                                                                   amps_d.ravel()).reshape(amps_d.shape)
+            t_u = self._fastest_s(site, one.scenario, one.ids, device, amps_u.ravel()).reshape(amps_u.shape)
+            t_d = device_bank(site, one.scenario, one.ids).clearing_time_s(np.repeat(d, amps_d.shape[1]),
+                                                                           amps_d.ravel()).reshape(amps_d.shape)
             with np.errstate(invalid="ignore"):
                 bad = (np.isfinite(t_u) & np.isfinite(t_d) & (t_u < t_d + margin[:, None])).any(axis=1)
-            found.update((ids[e], faults.net.bus_ids[j], name) for e, j in zip(d[bad].tolist(), k[bad].tolist()))
+            found.update((one.ids[e], one.faults.net.bus_ids[j], one.name)
+                         for e, j in zip(d[bad].tolist(), k[bad].tolist()))
         return found
 
     def cost(self, candidate, site):
-        """(selectivity lost, starting or inrush trouble) of a candidate made in ``site``, as text ('' for
-        none)."""
+        """What a candidate made in ``site`` costs that the site as it is does not: ({(changed device,
+        downstream device): fault buses} where selectivity is lost, [starting or inrush troubles])."""
         new = []
         for device in candidate.devices:
             if device not in self._base:
@@ -407,20 +427,19 @@ class _Checks:
         by_pair = {}
         for device, other, bus, _ in new:
             by_pair.setdefault((device, other), set()).add(bus)
-        lost = "; ".join(f"{device} with {other} (faults at {_few(sorted(buses))})"
-                         for (device, other), buses in by_pair.items())
         troubles = []
         for device in candidate.devices:
             if ("starting", device) not in self._base:
                 self._base[("starting", device)] = self._starting(self.site, device)
             troubles += [t for t in self._starting(site, device) if t not in self._base[("starting", device)]]
-        return lost, "; ".join(troubles)
+        return by_pair, troubles
 
     def _starting(self, site, device):
         """Troubles with the largest downstream motor's start or a fed transformer's inrush for ``device`` as
         set in ``site`` (texts)."""
         troubles = []
-        for name, scenario, faults, ids, fed, _, _, _ in self.scenarios[:1]:
+        for one in self.scenarios[:1]:
+            scenario, faults, ids, fed = one.scenario, one.faults, one.ids, one.fed
             if device not in ids:
                 continue
             buses = set().union(*[b for (src, d), b in fed.items() if d == device]) if fed else set()
@@ -445,10 +464,10 @@ class _Checks:
     def reduced_reaches(self, bus, device, pickup_a):
         """Whether ``device``'s current at the reduced arcing current of a fault at ``bus`` reaches its new
         pickup ``pickup_a`` (max band [A]) in some scenario."""
-        for _, _, faults, ids, _, current, low, _ in self.scenarios:
-            if device in ids and bus in faults.net.bus_ids:
-                k, u = list(faults.net.bus_ids).index(bus), ids.index(device)
-                i_u = current.get((k, u))
-                if i_u and np.isfinite(low[k]) and i_u * low[k] * 1000.0 >= pickup_a:
+        for one in self.scenarios:
+            if device in one.ids and bus in one.faults.net.bus_ids:
+                k, u = list(one.faults.net.bus_ids).index(bus), one.ids.index(device)
+                i_u = one.current.get((k, u))
+                if i_u and np.isfinite(one.low[k]) and i_u * one.low[k] * 1000.0 >= pickup_a:
                     return True
         return False
