@@ -50,7 +50,11 @@ MOTOR_START_S = 10.0
 INRUSH_MULTIPLE = 12.0
 INRUSH_S = 0.1
 #: Points over the range of fault currents at which selectivity is checked (log-spaced) [-].
-RANGE_POINTS = 6
+RANGE_POINTS = 12
+#: Where a change sets a new pickup, selectivity is also checked at these multiples of the top of its band:
+#: every 1 % from 0.60 to 1.01, so within 1 % above the band's lower edge, where the changed device's time
+#: drops, for tolerances up to 25 % (the edge of a 10 % band lies at 0.818) [-].
+PICKUP_EDGES = tuple(np.round(np.arange(0.60, 1.015, 0.01), 2))
 
 
 @dataclass(frozen=True)
@@ -395,9 +399,10 @@ class _Checks:
             self._checks[key] = (d, k, amps_u, amps_d, margin)
         return self._checks[key]
 
-    def _violations(self, site, device):
+    def _violations(self, site, device, pickup_a=None):
         """(downstream device, fault bus, scenario) where ``device`` of ``site`` acts before the downstream
-        device clears (less the margin), over the range of fault currents."""
+        device clears (less the margin), over the range of fault currents; with ``pickup_a`` (the device's new
+        pickup, top of its band [A]) also at the currents around that pickup's band, where its time drops."""
         from .device_bank import device_bank
 
         found = set()
@@ -407,6 +412,13 @@ class _Checks:
             d, k, amps_u, amps_d, margin = self._pairs(number, device)
             if not d.size:
                 continue
+            if pickup_a is not None:  # the band's edges (tolerances up to 25 %) within each fault's range
+                edges = pickup_a * np.array(PICKUP_EDGES)[None, :]
+                share = edges / amps_u[:, -1:]  # as a part of the bolted-current point
+                inside = (share >= amps_u[:, :1] / amps_u[:, -1:]) & (share <= 1.0)
+                share = np.where(inside, share, 1.0)
+                amps_u = np.concatenate([amps_u, amps_u[:, -1:] * share], axis=1)
+                amps_d = np.concatenate([amps_d, amps_d[:, -1:] * share], axis=1)
             t_u = self._fastest_s(site, one.scenario, one.ids, device, amps_u.ravel()).reshape(amps_u.shape)
             t_d = device_bank(site, one.scenario, one.ids).clearing_time_s(np.repeat(d, amps_d.shape[1]),
                                                                            amps_d.ravel()).reshape(amps_d.shape)
@@ -423,7 +435,8 @@ class _Checks:
         for device in candidate.devices:
             if device not in self._base:
                 self._base[device] = self._violations(self.site, device)
-            new += [(device, *v) for v in sorted(self._violations(site, device) - self._base[device])]
+            new += [(device, *v) for v in sorted(self._violations(site, device, candidate.pickup_a.get(device))
+                                                 - self._base[device])]
         by_pair = {}
         for device, other, bus, _ in new:
             by_pair.setdefault((device, other), set()).add(bus)
