@@ -71,15 +71,11 @@ class StateFills:
         rows = np.arange(copies.size)
         point = local[col]
         f_all, t_all = self.branch_from, self.branch_to
-        if branch is not None:  # Woodbury, rank one (as _fill_rank_one)
-            ends = local[index[f_all[branch]]], local[index[t_all[branch]]]
-            small = -self.branch_z_pu[branch] + (w[rows, ends[0]] - w[rows, ends[1]])
-            ratio = w[rows, point] / small
-            z -= w * ratio[:, None]
+        if branch is not None:
+            z -= self._rank_one(w, branch, point)
         i_fault = self.voltage_factor / z[rows, point]  # [pu]
         bolted = np.abs(i_fault) * base_current_ka(self.s_base_mva, self.base_kv[points])
-        b0 = tiles.base.device_branch
-        carrying = np.flatnonzero(closed[b0] & (label[f0[b0]] == label[base_bus]) & energized[f0[b0]])
+        carrying = tiles.base_carrying(base_key, int(label[base_bus]))
         device = copies[:, None] * d0 + carrying[None, :]
         b = self.device_branch[device]
         at = rows[:, None]
@@ -228,14 +224,10 @@ class StateFills:
             if updated.size:
                 opened = branch[mine][updated]
                 w = np.stack(self._update_column_list(opened.tolist()))
-                rows = np.arange(updated.size)
-                small = -self.branch_z_pu[opened] + (w[rows, local[index[f_all[opened]]]]
-                                                    - w[rows, local[index[t_all[opened]]]])
-                ratio = w[rows, point[updated]] / small
                 if updated.size == z.shape[0]:  # every fault updated (the usual case): in place
-                    z -= w * ratio[:, None]
+                    z -= self._rank_one(w, opened, point[updated])
                 else:
-                    z[updated] = z[updated] - w * ratio[:, None]
+                    z[updated] = z[updated] - self._rank_one(w, opened, point[updated])
             i_fault = self.voltage_factor / z[np.arange(mine.size), point]  # [pu]
             rows_js = live_rows[faults[mine]]
             on[rows_js] = True
@@ -252,6 +244,16 @@ class StateFills:
             i_dev *= np.abs(i_fault)[at]
             i_dev *= scale[d]
             current[rows_js[at], d] = i_dev
+
+    def _rank_one(self, w, branch, point):
+        """The correction of base-state columns (one per row) for one opened branch each, Woodbury rank one:
+        Z' = Z - w (w[point] / (-z_b + w[f] - w[t])), ``w`` = Z u_b on the rows of the branch's part (one row
+        per column), ``point`` each column's position in its part [pu]."""
+        index, local = self._prepared(self._BASE)[0], self._base_local()
+        rows = np.arange(branch.size)
+        small = -self.branch_z_pu[branch] + (w[rows, local[index[self.branch_from[branch]]]]
+                                            - w[rows, local[index[self.branch_to[branch]]]])
+        return w * (w[rows, point] / small)[:, None]
 
     def _fill_base(self, js, col, points, live_rows, fault_bus, base_columns, b, scale, bolted, current, on):
         """Faults ``js`` in the base state, every part at once: each fault's column on the rows of its own part

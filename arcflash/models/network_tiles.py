@@ -160,12 +160,16 @@ class TiledTopology:
         ``key`` — those that may carry a fault's current there — in ascending order, ``position`` giving each
         device's position (-1: not wanted) [-]."""
         copy, label_number = part
-        base_key = self.base_key(key, copy)
+        wanted = position[self.base_carrying(self.base_key(key, copy), label_number) + copy * self.d0]
+        return np.sort(wanted[wanted >= 0])
+
+    def base_carrying(self, base_key, label_number):
+        """The base network's devices closed, energised and in the part ``label_number`` of its state
+        ``base_key`` (remembered) [-]."""
         at = (base_key, label_number)
         found = self._carrying.get(at)
         if found is None:
             f, _, closed, energized, label = self.base._topology(base_key)
             b = self.base.device_branch
             found = self._carrying[at] = np.flatnonzero(closed[b] & (label[f[b]] == label_number) & energized[f[b]])
-        wanted = position[found + copy * self.d0]
-        return np.sort(wanted[wanted >= 0])
+        return found

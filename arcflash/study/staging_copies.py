@@ -17,10 +17,13 @@ start: its result is then that engine's, as for any arc.
 
 from __future__ import annotations
 
+from types import SimpleNamespace
+
 import numpy as np
 
 from ..models.network_stages import StateKey
-from .staging import CHUNK_ARCS, MAX_STAGES, SIMULTANEOUS_S, StagedArc, _follow_chunk, _progressed
+from .staging import (CHUNK_ARCS, MAX_STAGES, SIMULTANEOUS_S, StagedArc, _after_openings, _follow_chunk,
+                      _governing, _progressed)
 
 __all__ = ["CopyArc", "follow_copies"]
 
@@ -120,7 +123,10 @@ class _Cohort:
         self.usable = all(len(context.excluded.get(b, ())) == len(sets) and len(context.line_side.get(b, ())) ==
                           len(sides) for b in self.stacked_bus.tolist())
         self.never = np.array(sorted(sets - sides), dtype=np.intp)
-        self.line_side = sides
+        # staging's own state changes and governing rule, read in the base network (the cohort stands for
+        # the arc: its ``bus`` and ``key`` are the base network's)
+        self._base_context = SimpleNamespace(states=self.tiles.base, device_branch=self.tiles.base.device_branch,
+                                             line_side={bus: sides})
 
     def _base_set(self, sets, k):
         found = sets.get(int(self.stacked_bus[k]), set())
@@ -276,30 +282,13 @@ class _Cohort:
         return bool(keep.any()), row, kept
 
     def _after(self, key, devices):
-        """The state after ``devices`` (base numbers) open (staging._after_openings, in the base network)."""
-        opened, split = set(key.opened), key.split
-        branch = self.tiles.base.device_branch
-        for d in devices:
-            if d in self.line_side:  # on the arc's source side: the bus is cut from the arc
-                moved = set(split[1]) if split else set()
-                split = (self.bus, frozenset(moved | {int(branch[d])}))
-            else:
-                opened.add(int(branch[d]))
-        return StateKey(frozenset(opened), key.motors_off, split)
+        """The state after ``devices`` (base numbers) open: ``staging._after_openings`` in the base network."""
+        return _after_openings(self._base_context, self, key, devices, False)
 
     def _governing(self, devices):
-        """Of the devices opening at the arc's end, the one that governs (staging._governing, in the base
-        network)."""
-        if len(devices) == 1:
-            return devices[0]
-        base = self.tiles.base
-        branch = base.device_branch
-        before = StateKey(frozenset(set(self.key.opened) - {int(branch[d]) for d in devices}), self.key.motors_off,
-                          self.key.split)
-        enough = [d for d in devices if not base.reaches_source(self._after(before, [d]), self.bus)]
-        enough = enough or list(devices)
-        hops = base.hops_from(self.bus)
-        return min(enough, key=lambda d: min(hops[base.branch_from[branch[d]]], hops[base.branch_to[branch[d]]]))
+        """Of the devices opening at the arc's end, the one that governs: ``staging._governing`` in the base
+        network."""
+        return _governing(self._base_context, self, devices)
 
     def _finish(self, end, governing):
         """Every copy's arc ends at ``end`` [s], ``governing`` (base number) its device."""
