@@ -360,6 +360,40 @@ def _needs_stages(faults, paths, ratio, arcing_pu, duration, governing, threshol
     return paths.energized & ~paths.no_device & ~exact
 
 
+def back_feed_threshold_pu(paths, net, cap_level_a, device_base_ka):
+    """Per bus: the lowest current at which a device of its part that may carry a share under the device
+    table's threshold clears within the cap (``cap_level_a`` per device [A]; any other device carries nothing
+    or the whole current there: :func:`back_feeding_devices`), in per unit of the device's base [pu]."""
+    level_pu = np.where(paths.back_feed, cap_level_a / 1000.0 / device_base_ka, np.inf)
+    threshold_pu = np.full(int(paths.bus_part.max(initial=-1)) + 1, np.inf)
+    np.minimum.at(threshold_pu, paths.bus_part[net.branch_from[net.device_branch]], level_pu)
+    return threshold_pu[paths.bus_part]
+
+
+def arc_duration_s(duration, paths):
+    """Each bus's arc duration from the devices' (``duration``): ``inf`` where no device stands between a
+    source and the bus, NaN where it is de-energised; and the same taken at most to the site's duration cap
+    (``paths.cap_s``), which an energy is computed with [s]."""
+    duration = np.where(paths.energized, np.where(paths.no_device, np.inf, duration), np.nan)
+    return duration, (np.minimum(duration, paths.cap_s) if paths.cap_s is not None else duration)
+
+
+def staging_context(site, net, paths, equipment, states=None, cap_level_a=None, bank=None):
+    """The :class:`~.staging.StagingContext` of a scenario: its network states (made when not given), the device
+    bank (``paths.bank`` unless given), each device's clearing level within the cap (``cap_level_a``, from the
+    bank when not given) [A]."""
+    from .staging import StagingContext, network_states, stage_arcing
+
+    bank = paths.bank if bank is None else bank
+    cap = paths.cap_s
+    return StagingContext(
+        states=states or network_states(site, net), bank=bank, device_branch=net.device_branch,
+        arcing=stage_arcing(net, equipment), excluded=paths.excluded, line_side=paths.line_side,
+        hot_a=bank.threshold_a(cap if cap is not None else np.inf) if cap_level_a is None else cap_level_a,
+        cap_s=cap, motor_end_s=site.facility.motor_contribution_end_s,
+        carrying=lambda buses: devices_carrying(paths, buses))
+
+
 def _sequence_text(steps, device_ids):
     return "; ".join(f"{device_ids[d]} opens at {t:.3f} s (arc {before:.3g} -> {after:.3g} kA)"
                      for d, t, before, after, *_ in steps)
@@ -398,7 +432,7 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
     from ..models.network import base_current_ka
     from .arcing import equipment_table
     from .faults import bus_index
-    from .staging import StagingContext, follow_arcs, network_states, stage_arcing
+    from .staging import follow_arcs, network_states
 
     paths = clearing_paths(site, scenario, faults) if paths is None else paths
     equipment = equipment_table(site) if equipment is None else equipment
@@ -407,12 +441,7 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
     motor_end_s = site.facility.motor_contribution_end_s
     device_base_ka = base_current_ka(site.facility.s_base_mva, net.device_kv)
     cap_level_a = paths.bank.threshold_a(cap if cap is not None else np.inf)  # clears within the cap from here
-    # Per bus: the lowest such level of a device of its part that may carry a share under the device table's
-    # threshold (any other device carries nothing or the whole current there: back_feeding_devices) [pu].
-    level_pu = np.where(paths.back_feed, cap_level_a / 1000.0 / device_base_ka, np.inf)
-    threshold_pu = np.full(int(paths.bus_part.max(initial=-1)) + 1, np.inf)
-    np.minimum.at(threshold_pu, paths.bus_part[net.branch_from[net.device_branch]], level_pu)
-    threshold_pu = threshold_pu[paths.bus_part]
+    threshold_pu = back_feed_threshold_pu(paths, net, cap_level_a, device_base_ka)
     bus_base_ka = base_current_ka(site.facility.s_base_mva, net.base_kv)
     index = bus_index(paths.bus_ids)
     result = pd.DataFrame(index=index)
@@ -438,11 +467,7 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
         one[case] = (arc_ka, duration, governing, staged)
     followed = {case: [] for case, _, _ in cases}
     if any(one[case][3].any() for case, _, _ in cases):
-        context = StagingContext(
-            states=states or network_states(site, net), bank=paths.bank, device_branch=net.device_branch,
-            arcing=stage_arcing(net, equipment), excluded=paths.excluded, line_side=paths.line_side,
-            hot_a=cap_level_a, cap_s=cap, motor_end_s=motor_end_s,
-            carrying=lambda buses: devices_carrying(paths, buses))
+        context = staging_context(site, net, paths, equipment, states, cap_level_a)
         # Both cases of a bus side by side: they share the bus's fault columns.
         bus = np.concatenate([np.flatnonzero(one[case][3]) for case, _, _ in cases])
         reduced = np.concatenate([np.full(int(one[case][3].sum()), case == "reduced") for case, _, _ in cases])
@@ -474,13 +499,11 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
                 step_rows.append((paths.bus_ids[k], case, paths.device_ids[d], t, before, after,
                                   bolted_before, bolted_after))
         any_staged |= staged
-        duration = np.where(paths.no_device, np.inf, duration)
-        duration = np.where(paths.energized, duration, np.nan)
+        duration, capped_s = arc_duration_s(duration, paths)
         governing = np.where(paths.no_device, -1, governing)
         no_trip = (np.isinf(duration) & ~paths.no_device) | no_trip_staged
         capped = ((duration > cap) if cap is not None else np.zeros(n_bus, bool)) | capped_staged
-        if cap is not None:
-            duration = np.minimum(duration, cap)
+        duration = capped_s
         result[f"{prefix}clearing_time_s"] = duration
         if numbers_only:
             continue

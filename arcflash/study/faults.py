@@ -248,14 +248,17 @@ class ScenarioFaults:
         )
 
 
-def solve_scenario(site, scenario=None, for_clearing=False):
+def solve_scenario(site, scenario=None, for_clearing=False, backfeed_floor_ka=None):
     """Bolted faults at every bus and the device currents, one scenario.
 
     With ``for_clearing``, back-feed rows (a device carrying current from
     motors or sources below it to a fault elsewhere) are kept only where the
     current could make the device clear within the arc-duration cap: the
     rows clearing can use. Staged clearing solves every device's current
-    anew and does not depend on this.
+    anew and does not depend on this. ``backfeed_floor_ka`` (per device,
+    [kA]) replaces those currents: a lower floor keeps more rows and leaves
+    the clearing unchanged (tested), so variants of the site that lower
+    devices' settings can share one solve (:mod:`.setting_variants`).
 
     Returns
     -------
@@ -270,7 +273,9 @@ def solve_scenario(site, scenario=None, for_clearing=False):
     chosen = site.scenario(scenario)
     net = build_network(site, chosen)
     floor = None
-    if for_clearing and net.device_ids:
+    if backfeed_floor_ka is not None:
+        floor = np.asarray(backfeed_floor_ka, dtype=float)
+    elif for_clearing and net.device_ids:
         from .device_bank import device_bank
 
         cap = site.facility.arc_duration_cap_s

@@ -5,21 +5,22 @@ For every bus whose governing incident energy is above the target, the devices t
 scenario and arcing case above the target) get candidate changes from a stated search space
 (:class:`SearchSpace`): lower instantaneous pickups, lower short-time pickups and delays of trip units,
 lower instantaneous pickups of relays, and the device's energy-reducing maintenance settings made the
-working setting (a procedure). Every candidate is a variant of the site studied through the whole chain —
-faults, staged clearing, both arcing cases, every scenario — all variants together
-(:func:`~arcflash.study.uncertainty.study_variants`).
+working setting (a procedure). Every candidate is studied through the whole chain — faults, staged
+clearing, both arcing cases, every scenario — at each bus whose clearing devices it changes, all
+candidates together (:func:`~arcflash.study.setting_variants.variant_numbers`: a setting moves no fault
+current, so the site's faults serve every candidate; each number is the one a study of the changed site
+gives, bit for bit).
 
-Each candidate is checked against:
+Each candidate is checked (:mod:`.mitigation_checks`) against:
 
-- **selectivity** with every device downstream of the changed one: for faults at every bus beyond the
-  downstream device, over the range of fault currents there (from the reduced arcing current to the
-  bolted current), the changed device's fastest time must not come before the downstream device's total
-  clearing time plus a coordination margin (:data:`RELAY_MARGIN_S` where a relay is involved, none between
-  banded devices, whose bands carry their tolerances). Only what the change breaks is charged to it: pairs
-  the site already leaves uncoordinated are reported as they are, not as a cost.
-- **starting and inrush**: no trip within :data:`MOTOR_START_S` at :data:`MOTOR_START_MULTIPLE` times the
-  largest downstream motor's full-load current, nor within :data:`INRUSH_S` at :data:`INRUSH_MULTIPLE`
-  times the rated current of a transformer it feeds (common practice).
+- **selectivity** with every device downstream of a changed one, over the range of currents that device
+  carries for faults beyond it (from the reduced arcing current to the bolted current): the changed
+  device's fastest time must not come before the downstream device's total clearing time plus a
+  coordination margin (0.2 s where a relay is one of the pair, none between banded devices, whose bands
+  carry their tolerances). Only what the change breaks is charged to it: pairs the site already leaves
+  uncoordinated are reported as they are, not as a cost.
+- **starting and inrush**: no trip within 10 s at 9 times the largest downstream motor's full-load current,
+  nor within 0.1 s at 12 times the rated current of a transformer it feeds (common practice).
 - whether the arcing current in the reduced case still reaches the new instantaneous pickup (else the
   energy reached rests on the full arcing current only; the energies reported take both cases anyway).
 """
@@ -28,33 +29,14 @@ from __future__ import annotations
 
 import dataclasses
 from dataclasses import dataclass
-from typing import NamedTuple
 
 import numpy as np
 import pandas as pd
 
 from ..models import nfpa70e
-from ..models.curves import point_curve_time_s, trip_unit_time_batch_s
-from ..models.transformer import rated_current_a
+from .mitigation_checks import Checks
 
 __all__ = ["Candidate", "MitigationResult", "SearchSpace", "candidates_for", "mitigate"]
-
-#: Coordination time interval where a relay is one of the pair [s] (common practice: 0.2 s between
-#: static relays and the devices they back up; 0.3 s with electromechanical relays, from memory).
-RELAY_MARGIN_S = 0.2
-#: Motor starting: locked-rotor current as a multiple of full-load current, times an asymmetry allowance
-#: for instantaneous elements (common practice: 6 x FLA, 1.5 asymmetrical) [-], held for [s].
-MOTOR_START_MULTIPLE = 6.0 * 1.5
-MOTOR_START_S = 10.0
-#: Transformer magnetising inrush: a multiple of rated current for a time (common practice: 12 x for 0.1 s).
-INRUSH_MULTIPLE = 12.0
-INRUSH_S = 0.1
-#: Points over the range of fault currents at which selectivity is checked (log-spaced) [-].
-RANGE_POINTS = 12
-#: Where a change sets a new pickup, selectivity is also checked at these multiples of the top of its band:
-#: every 1 % from 0.60 to 1.01, so within 1 % above the band's lower edge, where the changed device's time
-#: drops, for tolerances up to 25 % (the edge of a 10 % band lies at 0.818) [-].
-PICKUP_EDGES = tuple(np.round(np.arange(0.60, 1.015, 0.01), 2))
 
 
 @dataclass(frozen=True)
@@ -75,10 +57,10 @@ class SearchSpace:
         Propose a device's energy-reducing maintenance settings as its working settings (a procedure) [-]
     """
 
-    instantaneous_multiples: tuple = (2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0, 9.0, 10.0, 12.0)
-    short_time_pickups: tuple = (1.5, 2.0, 2.5, 3.0, 4.0, 5.0, 6.0, 8.0, 10.0)
-    short_time_delays_s: tuple = (0.05, 0.1, 0.2, 0.3, 0.4)
-    relay_instantaneous_multiples: tuple = (2.0, 3.0, 4.0, 5.0, 6.0, 8.0, 10.0, 12.0, 15.0, 20.0)
+    instantaneous_multiples: tuple = (1.5, 2.0, 2.5, 3.0, 3.5, 4.0, 4.5, 5.0, 6.0, 7.0, 8.0, 9.0, 10.0, 11.0, 12.0)
+    short_time_pickups: tuple = (1.5, 2.0, 2.5, 3.0, 3.5, 4.0, 5.0, 6.0, 7.0, 8.0, 9.0, 10.0)
+    short_time_delays_s: tuple = (0.05, 0.1, 0.15, 0.2, 0.25, 0.3, 0.4, 0.5)
+    relay_instantaneous_multiples: tuple = (1.5, 2.0, 3.0, 4.0, 5.0, 6.0, 8.0, 10.0, 12.0, 15.0, 20.0, 25.0, 30.0)
     maintenance: bool = True
 
 
@@ -198,7 +180,7 @@ def mitigate(site, target_cal_cm2, space=None):
     MitigationResult
     """
     from .pipeline import _study
-    from .uncertainty import study_variants
+    from .setting_variants import variant_numbers
 
     space = SearchSpace() if space is None else space
     rows, steps, _, _ = _study(site, None)
@@ -226,29 +208,31 @@ def mitigate(site, target_cal_cm2, space=None):
         # arcs that several devices end together (fed over several paths): the same change on all of them
         keys = [{c.key: c for c in found[d]} for d in group]
         every += [_together([mine[key] for mine in keys]) for key in keys[0] if all(key in mine for mine in keys)]
-    after = study_variants(site, [c.site_of(site) for c in every])[0] if every else np.zeros((0, len(buses)))
-    checks = _Checks(site)
-    costs = [checks.cost(c, c.site_of(site)) for c in every]
+    # each candidate at the buses whose clearing devices it changes (only) is studied
+    asked = [(j, bus) for bus in high for j, c in enumerate(every) if set(c.devices) <= set(clearing[bus])]
+    sites = [c.site_of(site) for c in every]
+    solved = {}
+    after = dict(zip(asked, variant_numbers(site, sites, [j for j, _ in asked], [b for _, b in asked],
+                                            [c.devices for c in every], keep=solved)[0])) if asked else {}
+    checks = Checks(site, every, sites, solved)
+    costs = checks.costs()
     table = []
-    position = {b: k for k, b in enumerate(buses)}
-    for bus in high:
-        for j, candidate in enumerate(every):
-            if not set(candidate.devices) <= set(clearing[bus]):
-                continue
-            reached = after[j, position[bus]]
-            pairs, troubles = costs[j]
-            table.append({
-                "candidate": j, "bus": bus, "devices": " + ".join(candidate.devices), "change": candidate.change,
-                "kind": candidate.kind, "changes": len(candidate.devices),
-                "incident_energy_before_cal_cm2": before[bus], "incident_energy_cal_cm2": reached,
-                "ppe_category": int(nfpa70e.ppe_category(reached)) if np.isfinite(reached) else -2,
-                "reaches_target": bool(reached <= target_cal_cm2),
-                "selectivity_lost": "; ".join(f"{device} with {other} (faults at {_few(sorted(buses))})"
-                                              for (device, other), buses in pairs.items()),
-                "starting_or_inrush": "; ".join(troubles),
-                "reduced_arcing_reaches_pickup": all(checks.reduced_reaches(bus, d, a)
-                                                     for d, a in candidate.pickup_a.items()),
-            })
+    for j, bus in asked:
+        candidate = every[j]
+        reached = after[j, bus]
+        pairs, troubles = costs[j]
+        table.append({
+            "candidate": j, "bus": bus, "devices": " + ".join(candidate.devices), "change": candidate.change,
+            "kind": candidate.kind, "changes": len(candidate.devices),
+            "incident_energy_before_cal_cm2": before[bus], "incident_energy_cal_cm2": reached,
+            "ppe_category": int(nfpa70e.ppe_category(reached)) if np.isfinite(reached) else -2,
+            "reaches_target": bool(reached <= target_cal_cm2),
+            "selectivity_lost": "; ".join(f"{device} with {other} (faults at {_few(sorted(buses))})"
+                                          for (device, other), buses in pairs.items()),
+            "starting_or_inrush": "; ".join(troubles),
+            "reduced_arcing_reaches_pickup": all(checks.reduced_reaches(bus, d, a)
+                                                 for d, a in candidate.pickup_a.items()),
+        })
     candidates = pd.DataFrame(table, columns=_COLUMNS)
     if len(candidates):
         # per bus: those reaching the target first, then those keeping selectivity and starting, the lowest
@@ -275,8 +259,9 @@ def _bus_summary(high, before, clearing, candidates, costs, target):
     """Per bus above the target: the best candidate that reaches it with selectivity and starting kept, or
     what prevents one."""
     out = []
+    by_bus = {bus: rows for bus, rows in candidates.groupby("bus", sort=False)} if len(candidates) else {}
     for bus in high:
-        mine = candidates[candidates["bus"] == bus] if len(candidates) else candidates
+        mine = by_bus.get(bus, candidates.iloc[:0])
         good = mine[mine["reaches_target"] & (mine["selectivity_lost"] == "") & (mine["starting_or_inrush"] == "")]
         if len(good):
             best = good.iloc[0]
@@ -306,181 +291,3 @@ def _few(names, shown=3):
     """Up to ``shown`` names, and how many more."""
     more = len(names) - shown
     return ", ".join(names[:shown]) + (f" and {more} more" if more > 0 else "")
-
-
-class _Scenario(NamedTuple):
-    """What the checks read of one scenario of the site as it is: its faults and device ids, the buses each
-    source feeds through each device (``fed``: (source number, device id) -> bus indices), each (bus,
-    device) pair's bolted current [kA], each bus's reduced arcing over bolted current [-], its device bank."""
-
-    name: str
-    scenario: object
-    faults: object
-    ids: list
-    fed: dict
-    current: dict
-    low: np.ndarray
-    bank: object
-
-
-class _Checks:
-    """Selectivity, starting and inrush of a changed device, against the site as it is."""
-
-    def __init__(self, site):
-        from .arcing import arcing_currents, equipment_table
-        from .clearing import clearing_paths
-        from .device_bank import device_bank
-        from .faults import solve_scenario
-
-        self.site = site
-        self.scenarios = []
-        equipment = equipment_table(site)
-        for name, scenario in site.scenarios.items():
-            faults = solve_scenario(site, name)
-            paths = clearing_paths(site, scenario, faults)
-            arcs = arcing_currents(site, faults.buses, equipment)
-            bolted = faults.buses["bolted_ka"].to_numpy(float)
-            reduced = arcs["reduced_arcing_current_ka"].to_numpy(float)
-            low = np.where(bolted > 0, reduced / np.where(bolted > 0, bolted, 1.0), np.nan)
-            sol = faults.solution
-            current = {(int(k), int(d)): float(i)
-                       for k, d, i in zip(sol.device_fault_bus, sol.device, sol.device_current_ka)}
-            ids = list(faults.net.device_ids)
-            fed = {}  # (source, device) -> buses fed through it
-            for src, bus, dev in zip(paths.path // len(paths.bus_ids), paths.bus, paths.device):
-                fed.setdefault((int(src), ids[int(dev)]), set()).add(int(bus))
-            bank = device_bank(site, scenario, ids)
-            self.scenarios.append(_Scenario(name, scenario, faults, ids, fed, current, low, bank))
-        self._base, self._checks = {}, {}
-
-    def _fastest_s(self, site, scenario, ids, device, current_a):
-        """The changed device's fastest time (minimum band, no breaker time; a relay's curve with its breaker's) [s]."""
-        from .device_bank import device_bank
-
-        bank = device_bank(site, scenario, ids)
-        d = ids.index(device)
-        current = np.asarray(current_a, dtype=float)
-        kind = bank.kind[d]
-        if kind == 1:
-            return trip_unit_time_batch_s(current, bank.units, np.full(current.size, bank.row[d]), band="min",
-                                          clearing=False)
-        if kind == 2:
-            curve = bank.curves[bank.curve_names[bank.point_curve[d]]]
-            return point_curve_time_s(current, curve, band="min" if curve.min_time_s is not None else "max")
-        return bank.clearing_time_s(np.full(current.size, d), current)
-
-    def _pairs(self, number, device):
-        """The checks of ``device``'s selectivity in scenario ``number`` (remembered; they depend on the site's
-        network alone): per (downstream device, fault bus beyond it), the two devices' currents at
-        :data:`RANGE_POINTS` points from the reduced arcing current to the bolted current [A], and the margin
-        [s]."""
-        key = (number, device)
-        if key not in self._checks:
-            ids, fed, current, low, bank = (getattr(self.scenarios[number], f)
-                                            for f in ("ids", "fed", "current", "low", "bank"))
-            u = ids.index(device)
-            checks = set()
-            for (src, other), buses in fed.items():
-                mine = fed.get((src, device))
-                if other == device or not mine or not buses < mine:
-                    continue
-                d = ids.index(other)
-                checks.update((d, k) for k in buses
-                              if current.get((k, u)) and current.get((k, d)) and np.isfinite(low[k]))
-            checks = sorted(checks)
-            d = np.array([c[0] for c in checks], dtype=np.intp)
-            k = np.array([c[1] for c in checks], dtype=np.intp)
-            steps = np.linspace(0.0, 1.0, RANGE_POINTS)[None, :]
-            scale = np.power(np.maximum(low[k], 1e-3)[:, None], 1.0 - steps) if k.size else np.zeros((0, RANGE_POINTS))
-            amps_u = np.array([current[(j, u)] for j in k.tolist()])[:, None] * scale * 1000.0 if k.size else scale
-            amps_d = np.array([current[(j, e)] for j, e in zip(k.tolist(), d.tolist())])[:, None] * scale * 1000.0 \
-                if k.size else scale
-            margin = np.where((bank.kind[u] == 0) | (bank.kind[d] == 0), RELAY_MARGIN_S, 0.0)
-            self._checks[key] = (d, k, amps_u, amps_d, margin)
-        return self._checks[key]
-
-    def _violations(self, site, device, pickup_a=None):
-        """(downstream device, fault bus, scenario) where ``device`` of ``site`` acts before the downstream
-        device clears (less the margin), over the range of fault currents; with ``pickup_a`` (the device's new
-        pickup, top of its band [A]) also at the currents around that pickup's band, where its time drops."""
-        from .device_bank import device_bank
-
-        found = set()
-        for number, one in enumerate(self.scenarios):
-            if device not in one.ids:
-                continue
-            d, k, amps_u, amps_d, margin = self._pairs(number, device)
-            if not d.size:
-                continue
-            if pickup_a is not None:  # the band's edges (tolerances up to 25 %) within each fault's range
-                edges = pickup_a * np.array(PICKUP_EDGES)[None, :]
-                share = edges / amps_u[:, -1:]  # as a part of the bolted-current point
-                inside = (share >= amps_u[:, :1] / amps_u[:, -1:]) & (share <= 1.0)
-                share = np.where(inside, share, 1.0)
-                amps_u = np.concatenate([amps_u, amps_u[:, -1:] * share], axis=1)
-                amps_d = np.concatenate([amps_d, amps_d[:, -1:] * share], axis=1)
-            t_u = self._fastest_s(site, one.scenario, one.ids, device, amps_u.ravel()).reshape(amps_u.shape)
-            t_d = device_bank(site, one.scenario, one.ids).clearing_time_s(np.repeat(d, amps_d.shape[1]),
-                                                                           amps_d.ravel()).reshape(amps_d.shape)
-            with np.errstate(invalid="ignore"):
-                bad = (np.isfinite(t_u) & np.isfinite(t_d) & (t_u < t_d + margin[:, None])).any(axis=1)
-            found.update((one.ids[e], one.faults.net.bus_ids[j], one.name)
-                         for e, j in zip(d[bad].tolist(), k[bad].tolist()))
-        return found
-
-    def cost(self, candidate, site):
-        """What a candidate made in ``site`` costs that the site as it is does not: ({(changed device,
-        downstream device): fault buses} where selectivity is lost, [starting or inrush troubles])."""
-        new = []
-        for device in candidate.devices:
-            if device not in self._base:
-                self._base[device] = self._violations(self.site, device)
-            new += [(device, *v) for v in sorted(self._violations(site, device, candidate.pickup_a.get(device))
-                                                 - self._base[device])]
-        by_pair = {}
-        for device, other, bus, _ in new:
-            by_pair.setdefault((device, other), set()).add(bus)
-        troubles = []
-        for device in candidate.devices:
-            if ("starting", device) not in self._base:
-                self._base[("starting", device)] = self._starting(self.site, device)
-            troubles += [t for t in self._starting(site, device) if t not in self._base[("starting", device)]]
-        return by_pair, troubles
-
-    def _starting(self, site, device):
-        """Troubles with the largest downstream motor's start or a fed transformer's inrush for ``device`` as
-        set in ``site`` (texts)."""
-        troubles = []
-        for one in self.scenarios[:1]:
-            scenario, faults, ids, fed = one.scenario, one.faults, one.ids, one.fed
-            if device not in ids:
-                continue
-            buses = set().union(*[b for (src, d), b in fed.items() if d == device]) if fed else set()
-            bus_ids = list(faults.net.bus_ids)
-            at = {bus_ids[k] for k in buses}
-            kv = faults.net.device_kv[ids.index(device)]
-            motors = [m for m in site.motors.values() if m.bus in at]
-            if motors:
-                largest = max(motors, key=lambda m: m.kva)
-                amps = MOTOR_START_MULTIPLE * rated_current_a(largest.kva, largest.kv) * largest.kv / kv
-                if self._fastest_s(site, scenario, ids, device, [amps])[0] < MOTOR_START_S:
-                    troubles.append(f"trips on {largest.id}'s start ({amps:.0f} A)")
-            own = site.devices[device]  # a device on a transformer's primary side sees its inrush
-            fed_transformers = [t for t in site.transformers.values()
-                                if t.primary_bus in at or (own.branch == t.id and own.at_bus == t.primary_bus)]
-            for t in fed_transformers:
-                amps = INRUSH_MULTIPLE * rated_current_a(t.kva, t.primary_kv) * t.primary_kv / kv
-                if self._fastest_s(site, scenario, ids, device, [amps])[0] < INRUSH_S:
-                    troubles.append(f"trips on {t.id}'s inrush ({amps:.0f} A)")
-        return troubles
-
-    def reduced_reaches(self, bus, device, pickup_a):
-        """Whether ``device``'s current at the reduced arcing current of a fault at ``bus`` reaches its new
-        pickup ``pickup_a`` (max band [A]) in some scenario."""
-        for one in self.scenarios:
-            if device in one.ids and bus in one.faults.net.bus_ids:
-                k, u = list(one.faults.net.bus_ids).index(bus), one.ids.index(device)
-                i_u = one.current.get((k, u))
-                if i_u and np.isfinite(one.low[k]) and i_u * one.low[k] * 1000.0 >= pickup_a:
-                    return True
-        return False

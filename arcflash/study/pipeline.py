@@ -120,15 +120,24 @@ def scenario_numbers(site, scenario, equipment):
     kv, bolted = buses["nominal_kv"].to_numpy(float), buses["bolted_ka"].to_numpy(float)
     duration = times.table.reindex(buses.index)
     live = buses["energized"].to_numpy(bool) & (bolted > 0)
+    values = arc_numbers(kv, bolted, at, config, live, duration["clearing_time_s"].to_numpy(float),
+                         duration["reduced_clearing_time_s"].to_numpy(float), times.stages, pd.Index(buses.index))
+    return (*values, bolted), buses.index
+
+
+def arc_numbers(kv, bolted, at, config, live, clearing_time_s, reduced_clearing_time_s, stages, position):
+    """The values of :data:`ENERGY_COLUMNS` of arcs (one per entry of ``position``, the labels the ``bus``
+    column of ``stages`` holds): the one-stage energies of the ``live`` ones from their arc durations, those
+    followed stage by stage (``stages``, :func:`~.clearing.clear_arcs`) summed stage by stage; NaN elsewhere.
+    ``kv`` [kV], ``bolted`` [kA], ``at`` (gap, working distance, height, width, depth [mm]) and ``config`` are
+    each arc's bus's [cal/cm², mm]."""
     values = [np.full(kv.size, np.nan) for _ in ENERGY_COLUMNS]
     if live.any():
         _, found = _energies(kv[live], bolted[live], at["gap_mm"][live], at["working_distance_mm"][live],
-                             duration["clearing_time_s"].to_numpy(float)[live],
-                             duration["reduced_clearing_time_s"].to_numpy(float)[live], config[live],
+                             clearing_time_s[live], reduced_clearing_time_s[live], config[live],
                              at["height_mm"][live], at["width_mm"][live], at["depth_mm"][live])
         for into, value in zip(values, found):
             into[live] = value
-    position = pd.Index(buses.index)
 
     def lookup(labels):
         p = position.get_indexer(labels)
@@ -136,13 +145,13 @@ def scenario_numbers(site, scenario, equipment):
                 at["width_mm"][p], at["depth_mm"][p])
 
     for case, energy, boundary in (("full", values[0], values[2]), ("reduced", values[1], values[3])):
-        found = _staged_case(times.stages, case, lookup)
+        found = _staged_case(stages, case, lookup)
         if found is not None:
             _, labels, _, r = found
             p = position.get_indexer(labels)
             energy[p] = j_cm2_to_cal_cm2(r.incident_energy_j_cm2)
             boundary[p] = r.arc_flash_boundary_mm
-    return (*values, bolted), buses.index
+    return values
 
 
 def _scenario_rows(site, scenario, equipment, stated_times=None):

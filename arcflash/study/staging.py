@@ -67,6 +67,7 @@ class StagedArc:
 
     bus: int
     reduced: bool = False
+    variant: int = 0  # which of a variant bank's device sets the arc sees (StagingContext.bank)
     key: StateKey = BASE_STATE
     time_s: float = 0.0
     held_device: np.ndarray = field(default_factory=lambda: NO_DEVICES)  # replaced, never changed in place
@@ -93,7 +94,9 @@ class StagingContext:
     states : NetworkStates
         The scenario's network, solvable in any state.
     bank : DeviceBank
-        Clearing-time elements of every device.
+        Clearing-time elements of every device; or a bank of several variants of the devices
+        (:class:`~arcflash.study.setting_variants.VariantBank`), each arc reading its own (``StagedArc.variant``:
+        ``elements`` takes the variant of each pair, ``threshold_a`` gives one row per variant).
     device_branch : numpy.ndarray of int
         Branch of each device [-]
     arcing : callable
@@ -108,7 +111,7 @@ class StagingContext:
     hot_a : numpy.ndarray
         Per device, a current below which it does not clear within the cap
         (a lower bound; without a cap, below which none of its elements
-        operates) [A]
+        operates); one row per variant with a variant bank [A]
     cap_s : float or None
         Arc-duration cap [s]
     motor_end_s : float or None
@@ -131,7 +134,7 @@ class StagingContext:
     carrying: object = None
 
 
-def follow_arcs(context, buses, named=None, reduced=None):
+def follow_arcs(context, buses, named=None, reduced=None, variants=None):
     """Follow the arcs at ``buses`` (bus indices) until each ends; see the module docstring.
 
     ``reduced`` (bool per arc) marks the arcs of the reduced-arcing-current
@@ -142,7 +145,7 @@ def follow_arcs(context, buses, named=None, reduced=None):
     each arc by the one-stage reading at the currents of its inception; an
     arc that reaches the duration cap names it as its governing device,
     unless it opened before the cap (then the device that would open next
-    is named).
+    is named). ``variants`` (per arc) is the variant of the devices each arc sees, with a variant bank.
 
     Arcs are taken in chunks of :data:`CHUNK_ARCS`; the arcs of a chunk
     advance together, one stage per round: one network solve and one curve
@@ -158,7 +161,9 @@ def follow_arcs(context, buses, named=None, reduced=None):
         from .staging_copies import follow_copies
 
         return follow_copies(context, buses, named, reduced)
-    arcs = [StagedArc(int(k), reduced=bool(r), named=int(d)) for k, d, r in zip(buses, named, reduced)]
+    variants = np.zeros(len(buses), dtype=np.intp) if variants is None else variants
+    arcs = [StagedArc(int(k), reduced=bool(r), named=int(d), variant=int(v))
+            for k, d, r, v in zip(buses, named, reduced, variants)]
     for lo in range(0, len(arcs), CHUNK_ARCS):  # a chunk at a time: trip progress is held for few arcs
         _follow_chunk(context, arcs[lo:lo + CHUNK_ARCS])
     return arcs
@@ -174,6 +179,7 @@ class _DevicesOf:
         self.states, self.bank, self.subset = states, bank, subset
         self.branch_from, self.branch_to = states.branch_from, states.branch_to
         self.element_count = bank.element_count
+        self.variants = getattr(bank, "variants", None)
 
     def solve_pairs(self, keys, fault_bus):
         return self.states.solve_pairs(keys, fault_bus, devices=self.subset)
@@ -184,11 +190,11 @@ class _DevicesOf:
     def hops_from(self, bus):
         return self.states.hops_from(bus)
 
-    def elements(self, device, current_a):
-        return self.bank.elements(self.subset[device], current_a)
+    def elements(self, device, current_a, variants=None):
+        return _elements(self.bank, self.subset[device], current_a, variants)
 
     def threshold_a(self, within_s):
-        return self.bank.threshold_a(within_s)[self.subset]
+        return self.bank.threshold_a(within_s)[..., self.subset]
 
 
 def _local(context, chunk):
@@ -213,7 +219,7 @@ def _local(context, chunk):
         return {bus: {int(local[d]) for d in devices if local[d] >= 0} for bus, devices in sets.items() if bus in buses}
 
     return dataclasses.replace(context, states=view, bank=view, device_branch=context.device_branch[subset],
-                               hot_a=context.hot_a[subset],
+                               hot_a=context.hot_a[..., subset],
                                excluded=renumbered(context.excluded), line_side=renumbered(context.line_side)), local
 
 
@@ -250,7 +256,8 @@ def _follow_local(context, chunk):
         device_a = solved.device_current_ka * (ratio * 1000.0)[:, None]
         rows, devices = _devices(context, active, device_a)
         sizes = np.bincount(rows, minlength=len(active))
-        times, reset, breaker = context.bank.elements(devices, device_a[rows, devices])
+        times, reset, breaker = _elements(context.bank, devices, device_a[rows, devices],
+                                          np.array([a.variant for a in active], dtype=np.intp)[rows])
         bounds = np.concatenate(([0], np.cumsum(sizes)))
         chosen = [devices[bounds[j]:bounds[j + 1]] for j in range(len(active))]
         # Trip progress so far (zero for an arc with none held and no past stages), then the time each
@@ -301,7 +308,7 @@ def _warm(context, arc, device_a):
     """Devices whose current reaches one of their elements' pickups, less those that have tripped and
     those that never open for this bus, as a mask [-] (the bank's lower bounds of the pickups, found when
     first needed: few arcs come here)."""
-    warm = device_a >= context.bank.threshold_a(np.inf)  # below: no element operates
+    warm = device_a >= _of_arc(context.bank.threshold_a(np.inf), arc)  # below: no element operates
     if arc.opening or arc.opened:  # tripped (opening pending) or opened: never again
         warm[list(arc.opening) + list(arc.opened)] = False
     excluded = context.excluded.get(arc.bus, set())
@@ -309,6 +316,18 @@ def _warm(context, arc, device_a):
         never = list(excluded - context.line_side.get(arc.bus, set()))
         warm[never] = False
     return warm
+
+
+def _elements(bank, devices, current_a, variants):
+    """``bank.elements`` of ``devices`` at ``current_a``; a variant bank's, each pair in its arc's variant."""
+    if getattr(bank, "variants", None) is None:
+        return bank.elements(devices, current_a)
+    return bank.elements(devices, current_a, variants)
+
+
+def _of_arc(per_device, arc):
+    """A per-device array of the context, the arc's variant's row where it has one per variant."""
+    return per_device if per_device.ndim == 1 else per_device[arc.variant]
 
 
 def _devices(context, arcs, device_a):
@@ -321,7 +340,8 @@ def _devices(context, arcs, device_a):
     progress cannot reach 1 in time): it is not followed until its current first reaches that level;
     then its progress so far is replayed from the arc's history (:func:`_replay`), so nothing is lost.
     """
-    hot = device_a >= context.hot_a  # below: it does not clear within the cap (nor operates without one)
+    hot_a = context.hot_a if context.hot_a.ndim == 1 else context.hot_a[[arc.variant for arc in arcs]]
+    hot = device_a >= hot_a  # below: it does not clear within the cap (nor operates without one)
     for j, arc in enumerate(arcs):
         if arc.opening or arc.opened:  # tripped (opening pending) or opened: never again
             hot[j, list(arc.opening) + list(arc.opened)] = False
@@ -346,7 +366,7 @@ def _replay(context, arc, devices):
     """Trip progress of ``devices`` at the arc's present time, from the currents of its past stages."""
     progress = np.zeros((devices.size, context.bank.element_count))
     for dt, device_a in arc.history:
-        times, reset, _ = context.bank.elements(devices, device_a[devices])
+        times, reset, _ = _elements(context.bank, devices, device_a[devices], np.full(devices.size, arc.variant))
         progress = _progressed(progress, times, reset, dt)
     return progress
 
@@ -377,7 +397,8 @@ def _progress(context, arcs, rows, devices, shape):
             dt = np.array([arcs[j].history[h][0] for j in past.tolist()])[np.searchsorted(past, mine)]
             currents = np.stack([arcs[j].history[h][1] for j in past.tolist()])  # one row per arc
             current = currents[np.searchsorted(past, mine), devices[at]]
-            times, reset, _ = context.bank.elements(devices[at], current)
+            times, reset, _ = _elements(context.bank, devices[at], current,
+                                        np.array([arcs[j].variant for j in mine.tolist()], dtype=np.intp))
             replayed[live] = _progressed(replayed[live], times, reset, dt[:, None])
         progress[fresh] = replayed
     return progress
@@ -450,7 +471,7 @@ def _next_to_open(context, arc, devices, open_at, device_a):
     others[devices] = False
     others = np.flatnonzero(others)  # not followed: below the cap's level
     if others.size:
-        times, _, breaker = context.bank.elements(others, device_a[others])
+        times, _, breaker = _elements(context.bank, others, device_a[others], np.full(others.size, arc.variant))
         progress = _replay(context, arc, others)
         with np.errstate(invalid="ignore"):
             at = arc.time_s + np.where(np.isfinite(times), (1.0 - progress) * times, np.inf).min(axis=1) + breaker

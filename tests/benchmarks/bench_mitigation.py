@@ -51,7 +51,7 @@ def main():
     print(f"candidates: {len(found.proposals)} on {len(per_device)} devices "
           f"({counts[0] if counts else 0} to {counts[-1] if counts else 0} per device); "
           f"{int((found.buses['status'] == 'candidates').sum())} buses reach the target with selectivity kept")
-    print(f"search {search_s:.1f} s; ratio search / one study: {search_s / plain_s:.0f}  (target under 10)")
+    print(f"search {search_s:.2f} s; ratio search / one study: {search_s / plain_s:.1f}  (target under 10)")
 
 
 if __name__ == "__main__":

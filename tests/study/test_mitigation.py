@@ -121,3 +121,16 @@ def test_every_demo_bus_above_target_gets_candidates_or_the_reason_none_does(tar
             mine = found.candidates[found.candidates["bus"] == bus]
             assert mine.iloc[0]["reaches_target"] and mine.iloc[0]["selectivity_lost"] == ""
             assert np.all(np.diff(mine["reaches_target"].to_numpy(int)) <= 0)  # those reaching it first
+
+
+def test_fault_ranges_of_a_downstream_device_merge_where_they_overlap():
+    # the selectivity check's intervals (arithmetic of the method): per downstream device, ranges that overlap
+    # or touch become one interval; a gap between them is left out
+    from arcflash.study.mitigation_checks import _intervals
+
+    d = np.array([3, 3, 3, 1, 1, 3])
+    lo = np.array([100.0, 150.0, 500.0, 10.0, 30.0, 900.0])
+    hi = np.array([200.0, 180.0, 900.0, 20.0, 40.0, 950.0])
+    interval = _intervals(d, lo, hi)
+    # device 1: [10, 20] and [30, 40] apart; device 3: [100, 200] holding [150, 180]; [500, 900] touching [900, 950]
+    assert interval.tolist() == [2, 2, 3, 0, 1, 3]
