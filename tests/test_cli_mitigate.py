@@ -20,7 +20,9 @@ def test_mitigate_names_each_bus_above_target_its_best_change_or_why_none_and_wr
     text = result.output
     assert "Target: 8 cal/cm2" in text
     assert "SWG-C: 15.6 cal/cm2 now; ended by LVM-C-TU" in text
-    assert "  best: LVM-C-TU: short-time delay 0.3 -> 0.1 s" in text
+    assert "  best: LVM-C-TU: zone-selective interlocking (short-time delay 0.05 s for an arc in its zone" in text
+    assert "LVM-C-TU: short-time delay 0.3 -> 0.1 s [setting]: 6.51 cal/cm2, category 2; selectivity and starting " \
+        "kept" in text
     assert "SWG-A: 26.3 cal/cm2 now; ended by LVM-A, LVM-B" in text
     assert "every change that reaches the target costs selectivity (LVM-A with FDR-A1" in text
     assert "only adding one, hardware, could lower it" in text  # MV-MAIN: no device upstream
@@ -34,11 +36,11 @@ def test_mitigate_names_each_bus_above_target_its_best_change_or_why_none_and_wr
 
     pages = [page.extract_text() for page in PdfReader(out / "mitigation.pdf").pages]
     assert "Target 8 cal/cm2" in pages[0] and "qualified persons" in pages[0]
-    assert "best: LVM-C-TU: short-time delay 0.3 -> 0.1 s" in pages[0].replace("\n", " ")
+    assert "best: LVM-C-TU: zone-selective interlocking" in pages[0].replace("\n", " ")
     before = next(p for p in pages if "SWG-C, before" in p)
-    after = next(p for p in pages if "SWG-C, after: LVM-C-TU: short-time delay 0.3 -> 0.1 s" in p)
-    assert "Incident energy 15.6 cal/cm2" in before and "Incident energy 6.51 cal/cm2" in after
-    assert "clearing time [s]" in after and "LVM-C-TU" in after
+    after = next(p for p in pages if "SWG-C, after: LVM-C-TU: zone-selective interlocking" in p)
+    assert "Incident energy 15.6 cal/cm2" in before and "Incident energy 4.24 cal/cm2" in after
+    assert "clearing time [s]" in after and "LVM-C-TU (0.48 kV), its zone settings in force" in after
 
 
 def test_mitigate_refuses_a_target_that_is_not_a_positive_energy():
@@ -95,3 +97,29 @@ def test_apply_refuses_an_existing_folder_a_missing_partner_and_an_unknown_numbe
                                        str(tmp_path / "new")])
     assert result.exit_code == 2 and "no candidate has that number" in result.output
     assert not (tmp_path / "new").exists()
+
+
+def test_applying_a_smaller_fuse_rewrites_the_device_curve_in_the_revision(tmp_path):
+    # a hardware candidate (demo: the 65E fuse in place of F-TC's 100E, from the device library): the
+    # revision's devices.yaml names the new curve in F-TC's item, every other line as it was
+    import shutil
+
+    import arcflash
+    from arcflash.study.mitigation import mitigate
+
+    site_dir = tmp_path / "sites" / "demo"
+    shutil.copytree(DEMO, site_dir)
+    shutil.copytree(DEMO.parent / "libraries", tmp_path / "sites" / "libraries")
+    found = mitigate(arcflash.load_site(site_dir), 8.0)
+    number = next(j for j, c in enumerate(found.proposals) if c.key == ("curve", "FUSE-65E-15KV"))
+    revision = tmp_path / "revision"
+    result = CliRunner().invoke(main, ["mitigate", str(site_dir), "--target", "8", "--apply", str(number),
+                                       "--to", str(revision)])
+    assert result.exit_code == 0, result.output
+    old = (site_dir / "devices.yaml").read_text(encoding="utf-8").splitlines()
+    new = (revision / "devices.yaml").read_text(encoding="utf-8").splitlines()
+    changed = [(a, b) for a, b in zip(old, new) if a != b]
+    assert len(old) == len(new) and changed == [
+        ("- {id: F-TC, branch: T-C, at_bus: SS-C-PRI, kind: fuse, curve: FUSE-100E-15KV}",
+         "- {id: F-TC, branch: T-C, at_bus: SS-C-PRI, kind: fuse, curve: FUSE-65E-15KV}")]
+    assert arcflash.load_site(revision).devices["F-TC"].curve == "FUSE-65E-15KV"

@@ -32,9 +32,8 @@ class TccPage(Flowable):
         self.width, self.height = width_in * inch, height_in * inch
         self.curves = []
         currents = np.logspace(0, 6.5, 500)
-        maintenance_of = {d.device: d.maintenance for d in data.devices}
         for device in data.devices:
-            curve = device_curve(site, device.device, maintenance=maintenance_of[device.device])
+            curve = device_curve(site, device.device, maintenance=device.maintenance, zone=device.zone)
             times = np.asarray(curve.clearing_time_s(currents), dtype=float)
             self.curves.append((device, currents * device.kv / data.kv, times))
 
@@ -172,5 +171,6 @@ class TccPage(Flowable):
             canvas.setDash()
             words = f"{device.device} ({device.kv:g} kV)"
             words += ", energy-reducing maintenance switching on" if device.maintenance else ""
+            words += ", its zone settings in force (the bus is in its zone)" if device.zone else ""
             canvas.drawString(x0 + 36, y, words)
             y -= 10

@@ -93,6 +93,9 @@ class CurveIn(_Settings):
         None, description="Above this current: magnetic trip or current-limiting range."
     )
     instantaneous_s: Positive = 0.01
+    rated_kv: Positive | None = Field(
+        None, description="Rated voltage [kV]: a mitigation search proposes the device in place of another only "
+                          "where its rating covers the voltage (none stated: never proposed).")
 
     @model_validator(mode="after")
     def _valid_curve(self):
@@ -121,7 +124,7 @@ SETTINGS_OF_KIND = {
 
 
 def check_device_settings(device):
-    """The device's settings block matches its kind; maintenance overrides are valid.
+    """The device's settings block matches its kind; maintenance and zone overrides are valid.
 
     Raises
     ------
@@ -132,12 +135,15 @@ def check_device_settings(device):
     given = [name for name in ("relay", "trip_unit", "curve") if getattr(device, name) is not None]
     if given != [needed]:
         raise ValueError(f"for a {device.kind}: '{needed}' settings and no other settings block")
-    if device.maintenance:
+    for block, words in (("maintenance", "maintenance settings"), ("zone", "zone settings")):
+        overrides = getattr(device, block)
+        if not overrides:
+            continue
         if needed == "curve":
-            raise ValueError("maintenance settings only on relays and trip units (a fuse or fixed curve has none)")
+            raise ValueError(f"{words} only on relays and trip units (a fuse or fixed curve has none)")
         base = getattr(device, needed)
         try:
-            type(base).model_validate({**base.model_dump(), **device.maintenance})
+            type(base).model_validate({**base.model_dump(), **overrides})
         except ValidationError as exc:
             error = exc.errors()[0]
             text = error["msg"].removeprefix("Value error, ")
@@ -145,5 +151,5 @@ def check_device_settings(device):
                 name, text = text[1:].split(FIELD_MARK, 1)
             else:
                 name = ".".join(str(part) for part in error["loc"])
-            raise field_error(f"maintenance.{name}", text.strip()[:1].lower() + text.strip()[1:]) from None
+            raise field_error(f"{block}.{name}", text.strip()[:1].lower() + text.strip()[1:]) from None
     return device

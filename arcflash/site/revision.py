@@ -23,7 +23,8 @@ class RevisionError(ValueError):
 
 def write_revision(site_dir, site, settings, note, new_dir):
     """Copy ``site_dir`` (the folder ``site`` was loaded from) to ``new_dir`` (which must not exist) with the
-    ``settings`` changed (device -> {settings group: {field: value}}) and ``note`` written to REVISION.md;
+    ``settings`` changed (device -> {settings group, or 'device' for the device's own fields: {field: value}})
+    and ``note`` written to REVISION.md;
     the new folder's path.
 
     Raises
@@ -58,7 +59,7 @@ def write_revision(site_dir, site, settings, note, new_dir):
         again = load_site(target)
         for device, groups in settings.items():
             for group, fields in groups.items():
-                now = getattr(again.devices[device], group).model_dump()
+                now = (again.devices[device] if group == "device" else getattr(again.devices[device], group)).model_dump()
                 wrong = {f: now.get(f) for f, v in fields.items() if now.get(f) != v}
                 if wrong:
                     raise RevisionError(f"device {device}: {group} reads back {wrong}, not {fields}")
@@ -112,7 +113,10 @@ def _rewritten(lines, line, device, groups):
         raise RevisionError(f"device {device}: its item at line {line} could not be read back")
     item = item[0]
     for group, fields in groups.items():
-        item[group] = {**(item.get(group) or {}), **fields}
+        if group == "device":  # the device's own fields (its curve)
+            item.update(fields)
+        else:
+            item[group] = {**(item.get(group) or {}), **fields}
     dumped = yaml.safe_dump([item], sort_keys=False, default_flow_style=None, width=110)
     new = [" " * indent + text + "\n" for text in dumped.splitlines()]
     return lines[:start] + new + lines[end:]

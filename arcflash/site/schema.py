@@ -478,6 +478,11 @@ class Device(_Element):
     curve: Identifier | None = Field(None, description="Id of a curve of the device library.")
     maintenance: dict = Field(default_factory=dict,
                               description="Alternate settings (a subset of relay or trip_unit fields).")
+    zone: dict = Field(default_factory=dict,
+                       description="Settings in force for an arc in the device's zone (a subset of relay or "
+                                   "trip_unit fields): zone-selective interlocking (the short-time delay of a "
+                                   "trip unit not restrained) or a differential scheme (an instantaneous element "
+                                   "of its relay). The zone: the buses it feeds with no other device between.")
     #: Where a digitised curve's device clears inside its band: -1 on the minimum curve, +1 on the total-clearing
     #: curve (what a study takes). Never read from site data: only an uncertainty sample moves it.
     _curve_band_position: float = PrivateAttr(1.0)

@@ -274,7 +274,7 @@ def _one_stage(paths, time, live=None):
     return duration, governing
 
 
-def _name_capped(paths, states, buses, ratio, governing):
+def _name_capped(paths, states, buses, ratio, governing, zones=None):
     """The device named for arcs capped before any opening, at ``buses`` fed over several paths, from
     every device's current (none pruned): the fastest device of the slowest path at the inception currents.
 
@@ -295,26 +295,35 @@ def _name_capped(paths, states, buses, ratio, governing):
     live = np.zeros(paths.path.size, dtype=bool)
     live[rows] = share[paths.path[rows]] >= NEGLIGIBLE_PATH_SHARE
     time = np.full(paths.path.size, np.inf)
-    time[rows] = paths.bank.clearing_time_s(paths.device[rows], device_ka * ratio[paths.bus[rows]] * 1000.0)
+    time[rows] = _times(paths, zones, paths.device[rows], device_ka * ratio[paths.bus[rows]] * 1000.0, paths.bus[rows])
     _, named = _one_stage(paths, time, live)
     governing = governing.copy()
     governing[buses] = named[buses]
     return governing
 
 
-def _pair_times(faults, paths, ratio):
+def _times(paths, zones, device, current_a, bus):
+    """Clearing times of ``device`` at ``current_a`` for arcs at ``bus``: the scenario's bank's, or with zone
+    settings (``zones``: :func:`.zones.zone_variants`) the devices of each bus's variant [s]."""
+    if zones is None:
+        return paths.bank.clearing_time_s(device, current_a)
+    return zones[0].clearing_time_s(device, current_a, zones[1][bus])
+
+
+def _pair_times(faults, paths, ratio, zones=None):
     """Clearing time of every (fault bus, device) pair of the fault solution, and of every path row, at the
     currents of the fault's inception (``ratio``: arcing over bolted current per bus) [s]: a row read from its
     pair's time where its current is the pair's (the same product, so the same time), else evaluated."""
     solution = faults.solution
-    every = paths.bank.clearing_time_s(
-        solution.device, np.nan_to_num(solution.device_current_ka * ratio[solution.device_fault_bus] * 1000.0))
+    every = _times(paths, zones, solution.device,
+                   np.nan_to_num(solution.device_current_ka * ratio[solution.device_fault_bus] * 1000.0),
+                   solution.device_fault_bus)
     amps = paths.device_ka * ratio[paths.bus] * 1000.0
     read = (paths.pair >= 0) & np.isfinite(amps)
     time = np.empty(amps.size)
     time[read] = every[paths.pair[read]]
     if not read.all():
-        time[~read] = paths.bank.clearing_time_s(paths.device[~read], amps[~read])
+        time[~read] = _times(paths, zones, paths.device[~read], amps[~read], paths.bus[~read])
     return every, time
 
 
@@ -433,6 +442,7 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
     from .arcing import equipment_table
     from .faults import bus_index
     from .staging import follow_arcs, network_states
+    from .zones import zone_variants
 
     paths = clearing_paths(site, scenario, faults) if paths is None else paths
     equipment = equipment_table(site) if equipment is None else equipment
@@ -440,8 +450,16 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
     n_bus, cap = len(paths.bus_ids), paths.cap_s
     motor_end_s = site.facility.motor_contribution_end_s
     device_base_ka = base_current_ka(site.facility.s_base_mva, net.device_kv)
-    cap_level_a = paths.bank.threshold_a(cap if cap is not None else np.inf)  # clears within the cap from here
-    threshold_pu = back_feed_threshold_pu(paths, net, cap_level_a, device_base_ka)
+    zones = zone_variants(site, scenario, paths)  # None: no device has zone settings
+    bank = paths.bank if zones is None else zones[0]
+    cap_level_a = bank.threshold_a(cap if cap is not None else np.inf)  # clears within the cap from here
+    if zones is None:
+        threshold_pu = back_feed_threshold_pu(paths, net, cap_level_a, device_base_ka)
+    else:  # each bus at its variant's levels
+        threshold_pu = np.empty(n_bus)
+        for v in np.unique(zones[1]).tolist():
+            mine = zones[1] == v
+            threshold_pu[mine] = back_feed_threshold_pu(paths, net, cap_level_a[v], device_base_ka)[mine]
     bus_base_ka = base_current_ka(site.facility.s_base_mva, net.base_kv)
     index = bus_index(paths.bus_ids)
     result = pd.DataFrame(index=index)
@@ -453,7 +471,7 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
     for case, _, arc in cases:
         arc_ka = (arc if arc.index.equals(index) else arc.reindex(index)).to_numpy(float)
         ratio = np.where(paths.bolted_ka > 0, arc_ka / np.where(paths.bolted_ka > 0, paths.bolted_ka, 1.0), 0.0)
-        every, time = _pair_times(faults, paths, ratio)
+        every, time = _pair_times(faults, paths, ratio, zones)
         duration, governing = _one_stage(paths, time)
         staged = _needs_stages(faults, paths, ratio, np.nan_to_num(arc_ka) / bus_base_ka, duration, governing,
                                threshold_pu, motor_end_s, every)
@@ -463,18 +481,19 @@ def clear_arcs(site, scenario, faults, arcing_ka, reduced_arcing_ka, paths=None,
                                      & (duration > cap))
             if several.size:
                 states = states or network_states(site, net)
-                governing = _name_capped(paths, states, several, ratio, governing)
+                governing = _name_capped(paths, states, several, ratio, governing, zones)
         one[case] = (arc_ka, duration, governing, staged)
     followed = {case: [] for case, _, _ in cases}
     if any(one[case][3].any() for case, _, _ in cases):
-        context = staging_context(site, net, paths, equipment, states, cap_level_a)
+        context = staging_context(site, net, paths, equipment, states, cap_level_a, bank)
         # Both cases of a bus side by side: they share the bus's fault columns.
         bus = np.concatenate([np.flatnonzero(one[case][3]) for case, _, _ in cases])
         reduced = np.concatenate([np.full(int(one[case][3].sum()), case == "reduced") for case, _, _ in cases])
         named = np.concatenate([np.where(np.isfinite(one[case][1]), one[case][2], -1)[one[case][3]]
                                 for case, _, _ in cases])  # the one-stage device, where it trips
         order = np.lexsort((reduced, bus))
-        for arc in follow_arcs(context, bus[order], named[order], reduced[order]):
+        for arc in follow_arcs(context, bus[order], named[order], reduced[order],
+                               None if zones is None else zones[1][bus[order]]):
             followed["reduced" if arc.reduced else "full"].append(arc)
     stage_rows, step_rows = [], []
     any_staged = np.zeros(n_bus, dtype=bool)

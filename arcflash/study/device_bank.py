@@ -45,9 +45,17 @@ class DeviceCurve:
         return point_curve_time_s(current_a, self.settings, band="max")
 
 
-def device_curve(site, device_id, maintenance=False):
-    """The clearing-time function of one device, maintenance settings on or off."""
+def zoned(device):
+    """``device`` with its zone settings in force over its own, none left to switch (:mod:`.zones`)."""
+    group = "trip_unit" if device.trip_unit is not None else "relay"
+    return device.replaced({group: getattr(device, group).replaced(device.zone), "zone": {}})
+
+
+def device_curve(site, device_id, maintenance=False, zone=False):
+    """The clearing-time function of one device, maintenance settings on or off, zone settings in force or not
+    (an arc in its zone, :mod:`.zones`)."""
     device = site.devices[device_id]
+    device = zoned(device) if zone and device.zone else device
     frequency = site.facility.frequency_hz
     if device.relay is not None:
         r = device.relay.model_copy(update=device.maintenance) if maintenance else device.relay
@@ -301,6 +309,20 @@ BISECTION_HALVINGS = 18
 BISECTION_LEVELS = 4
 #: At most this many devices take the halvings several at a time (more: one call per halving costs less) [-].
 BISECTION_TREE_DEVICES = 128
+
+def bank_of_devices(site, scenario, devices):
+    """A bank of ``devices`` ((id, device) pairs: replacements of devices of ``site``, each its own entry, in
+    order), the maintenance settings on for those whose id the scenario switches on."""
+    from types import SimpleNamespace
+
+    names = [str(e) for e in range(len(devices))]
+    switched = set(scenario.energy_reducing_maintenance_switching)
+    holder = SimpleNamespace(devices=dict(zip(names, (d for _, d in devices))), facility=site.facility,
+                             curves=site.curves)
+    on = SimpleNamespace(energy_reducing_maintenance_switching=[n for n, (ident, _) in zip(names, devices)
+                                                                if ident in switched])
+    return DeviceBank(holder, on, names)
+
 
 _BANKS = {}
 _BANKS_KEPT = 64

@@ -277,9 +277,11 @@ def solve_scenario(site, scenario=None, for_clearing=False, backfeed_floor_ka=No
         floor = np.asarray(backfeed_floor_ka, dtype=float)
     elif for_clearing and net.device_ids:
         from .device_bank import device_bank
+        from .zones import zone_floor_ka
 
         cap = site.facility.arc_duration_cap_s
         floor = device_bank(site, chosen, net.device_ids).threshold_a(cap if cap is not None else np.inf) / 1000.0
+        floor = zone_floor_ka(site, chosen, net.device_ids, floor)  # zone settings: their lower levels too
     solution = solve_faults(
         net.base_kv, net.branch_from, net.branch_to, net.branch_z_pu, net.shunt_bus, net.shunt_z_pu,
         net.source_bus, net.device_branch, net.device_kv, voltage_factor=site.facility.voltage_factor,

@@ -55,6 +55,17 @@ class SearchSpace:
         Relay instantaneous pickups, multiples of the inverse-time pickup [-]
     maintenance : bool
         Propose a device's energy-reducing maintenance settings as its working settings (a procedure) [-]
+    smaller_devices : bool
+        Propose, in place of a fuse or thermal-magnetic breaker, each smaller one of the same kind among the
+        site's curves and device library, rated for the voltage (hardware) [-]
+    zone_interlocking_delay_s : float or None
+        Propose zone-selective interlocking to a trip unit with a short-time element: for an arc in its zone,
+        its short-time delay at this unrestrained band (hardware; common practice: the shortest band of
+        electronic trip units); None: not proposed [s]
+    differential_pickup_multiple : float or None
+        Propose a differential scheme to a relay-breaker: for an arc in its zone, an instantaneous element at
+        this multiple of its inverse-time pickup (hardware; conservative: a differential element is more
+        sensitive than the overcurrent pickup); None: not proposed [-]
     """
 
     instantaneous_multiples: tuple = (1.5, 2.0, 2.5, 3.0, 3.5, 4.0, 4.5, 5.0, 6.0, 7.0, 8.0, 9.0, 10.0, 11.0, 12.0)
@@ -62,11 +73,14 @@ class SearchSpace:
     short_time_delays_s: tuple = (0.05, 0.1, 0.15, 0.2, 0.25, 0.3, 0.4, 0.5)
     relay_instantaneous_multiples: tuple = (1.5, 2.0, 3.0, 4.0, 5.0, 6.0, 8.0, 10.0, 12.0, 15.0, 20.0, 25.0, 30.0)
     maintenance: bool = True
+    smaller_devices: bool = True
+    zone_interlocking_delay_s: float | None = 0.05
+    differential_pickup_multiple: float | None = 1.0
 
 
 @dataclass(frozen=True)
 class Candidate:
-    """A change to one device or more: ``kind`` 'setting' or 'procedure', ``change`` in words, ``updates``
+    """A change to one device or more: ``kind`` 'setting', 'procedure' or 'hardware', ``change`` in words, ``updates``
     (device -> its new fields), ``key`` (what the change sets, the same for the same change on another
     device), ``pickup_a`` (device -> its new instantaneous or short-time pickup, max band [A])."""
 
@@ -76,7 +90,8 @@ class Candidate:
     updates: dict
     key: tuple
     pickup_a: dict
-    #: device -> {settings group ('trip_unit' or 'relay'): {field: new value}}: the change as site data.
+    #: device -> {settings group ('trip_unit', 'relay', or 'device' for the device's own fields): {field: new
+    #: value}}: the change as site data.
     settings: dict = dataclasses.field(default_factory=dict)
 
     def site_of(self, site):
@@ -117,12 +132,15 @@ def candidates_for(site, device_id, space):
     found = []
 
     def add(kind, change, update, key, pickup_a=None):
-        group = "trip_unit" if "trip_unit" in update else "relay"
-        was = getattr(device, group).model_dump()
-        now = update[group].model_dump()
+        if "curve" in update or "zone" in update:
+            settings = {"device": dict(update)}
+        else:
+            group = "trip_unit" if "trip_unit" in update else "relay"
+            was = getattr(device, group).model_dump()
+            now = update[group].model_dump()
+            settings = {group: {f: v for f, v in now.items() if was.get(f) != v}}
         found.append(Candidate((device_id,), kind, f"{device_id}: {change}", {device_id: update}, key,
-                               {} if pickup_a is None else {device_id: pickup_a},
-                               {device_id: {group: {f: v for f, v in now.items() if was.get(f) != v}}}))
+                               {} if pickup_a is None else {device_id: pickup_a}, {device_id: settings}))
 
     unit = device.trip_unit
     if unit is not None:
@@ -161,7 +179,34 @@ def candidates_for(site, device_id, space):
                   else {"relay": relay.replaced(device.maintenance)} if relay is not None else None)
         if update is not None:
             add("procedure", f"energy-reducing maintenance settings on ({settings})", update, ("maintenance",))
+    delay = space.zone_interlocking_delay_s
+    if delay is not None and not device.zone and unit is not None and unit.short_time_pickup is not None \
+            and unit.short_time_delay_s > delay:
+        add("hardware", f"zone-selective interlocking (short-time delay {delay:g} s for an arc in its zone; the "
+                        f"devices downstream must restrain it)", {"zone": {"short_time_delay_s": delay}}, ("zone",))
+    multiple = space.differential_pickup_multiple
+    if multiple is not None and not device.zone and relay is not None:
+        setting = multiple * relay.pickup_a
+        add("hardware", f"differential protection of its zone (an instantaneous element at {setting:g} A "
+                        f"secondary for an arc in its zone)", {"zone": {"instantaneous_a": setting}}, ("zone",))
+    if space.smaller_devices and device.curve is not None:
+        for name, curve in _smaller(site, device):
+            add("hardware", f"{device.kind} {device.curve} -> {name} (a smaller one, rated {curve.rated_kv:g} kV: "
+                            f"confirm it carries the load)", {"curve": name}, ("curve", name),
+                curve.instantaneous_a)
     return found
+
+
+def _smaller(site, device):
+    """(id, curve) of the site's curves (its device library's included) that could replace ``device``'s: the
+    same kind, rated for the voltage of its bus, and smaller (it starts to operate at a lower current: the
+    first current of its band below the present one's), smallest last."""
+    present = site.curves[device.curve]
+    kv = site.buses[device.at_bus].nominal_kv
+    found = [(name, curve) for name, curve in site.curves.items()
+             if name != device.curve and curve.kind == present.kind and curve.rated_kv is not None
+             and curve.rated_kv >= kv and curve.current_a[0] < present.current_a[0]]
+    return sorted(found, key=lambda item: -item[1].current_a[0])
 
 
 def mitigate(site, target_cal_cm2, space=None):
@@ -180,7 +225,6 @@ def mitigate(site, target_cal_cm2, space=None):
     MitigationResult
     """
     from .pipeline import _study
-    from .setting_variants import variant_numbers
 
     space = SearchSpace() if space is None else space
     rows, steps, _, _ = _study(site, None)
@@ -212,8 +256,7 @@ def mitigate(site, target_cal_cm2, space=None):
     asked = [(j, bus) for bus in high for j, c in enumerate(every) if set(c.devices) <= set(clearing[bus])]
     sites = [c.site_of(site) for c in every]
     solved = {}
-    after = dict(zip(asked, variant_numbers(site, sites, [j for j, _ in asked], [b for _, b in asked],
-                                            [c.devices for c in every], keep=solved)[0])) if asked else {}
+    after = _reached(site, every, sites, asked, before, solved)
     checks = Checks(site, every, sites, solved)
     costs = checks.costs()
     table = []
@@ -238,7 +281,7 @@ def mitigate(site, target_cal_cm2, space=None):
         # per bus: those reaching the target first, then those keeping selectivity and starting, the lowest
         # energy, the fewest changes, and the least change (the highest new pickup or delay) on a tie
         keeps = (candidates["selectivity_lost"] == "") & (candidates["starting_or_inrush"] == "")
-        least = [-every[j].key[1] if len(every[j].key) > 1 else 0.0 for j in candidates["candidate"]]
+        least = [-_size(every[j], site) for j in candidates["candidate"]]
         candidates = candidates.assign(_keeps=keeps, _least=least).sort_values(
             ["bus", "reaches_target", "_keeps", "incident_energy_cal_cm2", "changes", "_least"],
             ascending=[True, False, False, True, True, True], kind="stable")
@@ -250,6 +293,98 @@ def mitigate(site, target_cal_cm2, space=None):
                             float(target_cal_cm2), every)
 
 
+def _reached(site, every, sites, asked, before, solved):
+    """The governing energy each candidate reaches at each bus asked ((candidate, bus) -> [cal/cm²]): by
+    :func:`~.setting_variants.variant_numbers` (``solved`` receives what it made of each scenario).
+
+    A zone scheme proposed (zone settings on devices) is studied at a bus with those of its devices whose zone
+    holds the bus in every scenario where they feed it made to work with their zone settings, the others as
+    set: what the scheme gives there. Where a device's zone holds the bus in some of those scenarios only,
+    and on a site that has zone settings already, the changed site is studied whole
+    (:func:`~.uncertainty.study_variants`)."""
+    from .setting_variants import variant_numbers
+    from .uncertainty import study_variants
+    from .zones import has_zones, zoned
+
+    if not asked:
+        return {}
+    buses = list(site.buses)
+    whole = set(range(len(every))) if has_zones(site) else set()
+    states = _zone_states(site, every, asked) if not whole else {}
+    variants, number, requests = [], {}, []  # the sites studied, by (candidate, devices zoned); each request's
+    for j, bus in asked:
+        if j in whole:
+            continue
+        state = states.get((j, bus))
+        if state is None:
+            key = (j, None)
+        elif "some" in state.values():
+            whole.add(j)
+            continue
+        else:
+            key = (j, tuple(d for d, s in state.items() if s == "every"))
+        if key not in number:
+            number[key] = len(variants)
+            zoned_here = key[1] or ()
+            variants.append((sites[j] if key[1] is None else dataclasses.replace(
+                site, devices={**site.devices, **{d: zoned(sites[j].devices[d]) for d in zoned_here}}),
+                every[j].devices if key[1] is None else zoned_here))
+        requests.append((j, bus, number[key]))
+    requests = [r for r in requests if r[0] not in whole]
+    after = {}
+    if requests:
+        energy = variant_numbers(site, [v for v, _ in variants], [k for _, _, k in requests],
+                                 [b for _, b, _ in requests], [c for _, c in variants], keep=solved)[0]
+        after = {(j, bus): e for (j, bus, _), e in zip(requests, energy)}
+    if whole:
+        chosen = sorted(whole)
+        energy = study_variants(site, [sites[j] for j in chosen])[0]
+        for j, bus in asked:
+            if j in whole:
+                after[j, bus] = energy[chosen.index(j), buses.index(bus)]
+    return after
+
+
+def _zone_states(site, every, asked):
+    """Per (zone candidate, bus) asked: per device of the candidate, whether the bus is in its zone in
+    'every' scenario where it feeds the bus, in 'no' scenario, or in 'some' [-]."""
+    from .clearing import clearing_paths
+    from .faults import solve_scenario
+    from .zones import zone_buses
+
+    wanted = [(j, bus) for j, bus in asked if every[j].key == ("zone",)]
+    if not wanted:
+        return {}
+    scenarios = []
+    for name, scenario in site.scenarios.items():
+        paths = clearing_paths(site, scenario, solve_scenario(site, name))
+        scenarios.append((paths, list(paths.bus_ids), list(paths.device_ids), {}))
+    states = {}
+    for j, bus in wanted:
+        state = {}
+        for device in every[j].devices:
+            inside = []
+            for paths, bus_ids, ids, zones in scenarios:
+                if device not in ids:
+                    continue
+                d, k = ids.index(device), bus_ids.index(bus)
+                if d not in zones:
+                    zones[d] = set(zone_buses(paths, d).tolist())
+                if ((paths.bus == k) & (paths.device == d)).any():
+                    inside.append(k in zones[d])
+            state[device] = "every" if inside and all(inside) else ("no" if not any(inside) else "some")
+        states[j, bus] = state
+    return states
+
+
+def _size(candidate, site):
+    """How much of a device a change leaves (the higher, the less it changes): the new pickup or delay, or
+    the first current of a replacing device's band [-, s, A]."""
+    if candidate.key[0] == "curve":
+        return float(site.curves[candidate.key[1]].current_a[0])
+    return float(candidate.key[1]) if len(candidate.key) > 1 else 0.0
+
+
 _COLUMNS = ["candidate", "bus", "devices", "change", "kind", "changes", "incident_energy_before_cal_cm2",
             "incident_energy_cal_cm2", "ppe_category", "reaches_target", "selectivity_lost", "starting_or_inrush",
             "reduced_arcing_reaches_pickup"]
@@ -259,23 +394,33 @@ def _bus_summary(high, before, clearing, candidates, costs, target):
     """Per bus above the target: the best candidate that reaches it with selectivity and starting kept, or
     what prevents one."""
     out = []
-    by_bus = {bus: rows for bus, rows in candidates.groupby("bus", sort=False)} if len(candidates) else {}
+    # the table's columns as arrays, and each bus's rows (in their ranked order)
+    column = {name: candidates[name].to_numpy() for name in ("bus", "reaches_target", "selectivity_lost",
+                                                              "starting_or_inrush", "change", "candidate",
+                                                              "incident_energy_cal_cm2")}
+    good_rows = column["reaches_target"].astype(bool) & (column["selectivity_lost"] == "") & \
+        (column["starting_or_inrush"] == "")
+    rows_of = {}
+    for k, bus in enumerate(column["bus"].tolist()):
+        rows_of.setdefault(bus, []).append(k)
     for bus in high:
-        mine = by_bus.get(bus, candidates.iloc[:0])
-        good = mine[mine["reaches_target"] & (mine["selectivity_lost"] == "") & (mine["starting_or_inrush"] == "")]
-        if len(good):
-            best = good.iloc[0]
-            status, note = "candidates", f"{best['change']} ({best['incident_energy_cal_cm2']:.3g} cal/cm2)"
+        mine = np.array(rows_of.get(bus, []), dtype=np.intp)
+        good = mine[good_rows[mine]]
+        reaching = mine[column["reaches_target"][mine].astype(bool)]
+        if good.size:
+            best = good[0]
+            status, note = "candidates", (f"{column['change'][best]} "
+                                          f"({column['incident_energy_cal_cm2'][best]:.3g} cal/cm2)")
         elif not clearing[bus]:
             status, note = "none", ("no protective device of the site ends its arc (it lasts to the duration cap, "
                                     "or a stated time): only adding one, hardware, could lower it")
-        elif not len(mine):
+        elif not mine.size:
             status, note = "none", "no change in the searched space for " + ", ".join(clearing[bus])
-        elif not mine["reaches_target"].any():
+        elif not reaching.size:
             status, note = "none", (f"no change in the searched space reaches {target:g} cal/cm2 (lowest "
-                                    f"{mine['incident_energy_cal_cm2'].min():.3g})")
+                                    f"{np.nanmin(column['incident_energy_cal_cm2'][mine].astype(float)):.3g})")
         else:
-            reaching = mine[mine["reaches_target"]]["candidate"].tolist()
+            reaching = column["candidate"][reaching].tolist()
             pairs = dict.fromkeys(f"{device} with {other}" for j in reaching for device, other in costs[j][0])
             troubles = dict.fromkeys(t.split(" (")[0] for j in reaching for t in costs[j][1])
             why = ([f"selectivity ({', '.join(pairs)})"] if pairs else []) + (

@@ -160,9 +160,8 @@ class Checks:
     def __init__(self, site, candidates, sites, solved=None):
         from .arcing import arcing_currents, equipment_table
         from .clearing import clearing_paths
-        from .device_bank import device_bank
+        from .device_bank import bank_of_devices, device_bank
         from .faults import solve_scenario
-        from .setting_variants import _changed_bank
 
         solved = solved or {}
 
@@ -175,14 +174,18 @@ class Checks:
         equipment = equipment_table(site)
         for name, scenario in site.scenarios.items():
             made = solved.get(name)
-            if made is not None and made.entries == self.entries:
-                faults, paths, arcs, bank, bank_changed = made.faults, made.paths, made.arcs, made.bank, made.changed
+            if made is not None:  # the faults and paths a candidate's study made (the same forward currents)
+                faults, paths, arcs, bank = made.faults, made.paths, made.arcs, made.bank
             else:
                 faults = solve_scenario(site, name)
                 paths = clearing_paths(site, scenario, faults)
                 arcs = arcing_currents(site, faults.buses, equipment)
                 bank = device_bank(site, scenario, list(faults.net.device_ids))
-                bank_changed = _changed_bank(site, scenario, changed) if changed else None
+            if made is not None and made.entries == self.entries and all(
+                    a is b for a, b in zip(made.devices, (device for _, device in changed))):
+                bank_changed = made.changed
+            else:
+                bank_changed = bank_of_devices(site, scenario, changed) if changed else None
             bolted = faults.buses["bolted_ka"].to_numpy(float)
             reduced = arcs["reduced_arcing_current_ka"].to_numpy(float)
             low = np.where(bolted > 0, reduced / np.where(bolted > 0, bolted, 1.0), np.nan)

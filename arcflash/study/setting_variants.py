@@ -16,7 +16,7 @@ on the site's faults:
   (:func:`.uncertainty._governing_values`),
 
 with a device bank that reads each changed device from one bank of every variant's changed devices and
-every other device from the site's (:class:`PatchedBank`).
+every other device from the site's (:mod:`.bank_variants`).
 
 One thing the fault table takes from the devices: it keeps a device's back-feed rows only where the
 device could clear within the arc-duration cap (:func:`.faults.solve_scenario`). A lower floor keeps more
@@ -37,83 +37,11 @@ import numpy as np
 import pandas as pd
 
 from ..models.network import base_current_ka
-from .device_bank import DeviceBank
+from .bank_variants import PatchedBank, VariantBank
+from .device_bank import bank_of_devices
+from .zones import has_zones
 
-__all__ = ["PatchedBank", "VariantBank", "changed_devices", "variant_numbers"]
-
-
-def _evaluated(base, changed, device, entry, current, method):
-    """``method`` ('clearing_time_s' or 'elements') of the site bank ``base`` for the pairs whose ``entry`` is -1
-    (its ``device``), of the bank ``changed`` for the others (its entry), put back in order."""
-    mine, theirs = np.flatnonzero(entry < 0), np.flatnonzero(entry >= 0)
-    parts = [(getattr(bank, method)(index, current[at]), at)
-             for bank, index, at in ((base, device[mine], mine), (changed, entry[theirs], theirs)) if at.size]
-    if method == "clearing_time_s":
-        t = np.empty(current.shape)
-        for found, at in parts:
-            t[at] = found
-        return t
-    width = max(base.element_count, changed.element_count if changed is not None else 1)
-    times, reset, breaker = np.full((current.size, width), np.inf), np.zeros((current.size, width)), np.zeros(current.size)
-    for (t, r, b), at in parts:
-        times[at, :t.shape[1]], reset[at, :r.shape[1]], breaker[at] = t, r, b
-    return times, reset, breaker
-
-
-class PatchedBank:
-    """A device bank of the site's devices with some replaced: entry ``j`` is the site bank's device
-    ``device[j]``, or where ``entry[j] >= 0``, entry ``entry[j]`` of ``changed`` (a bank of the replacing
-    devices). Answers what the one-stage reading asks of a bank."""
-
-    def __init__(self, base, changed, device, entry):
-        self.base, self.changed = base, changed
-        self.device, self.entry = np.asarray(device, dtype=np.intp), np.asarray(entry, dtype=np.intp)
-        self.element_count = max(base.element_count, changed.element_count if changed is not None else 1)
-
-    def clearing_time_s(self, device, current_a):
-        """Clearing time of each entry at its current (max band) [s]; see :meth:`DeviceBank.clearing_time_s`."""
-        device = np.asarray(device, dtype=np.intp)
-        return _evaluated(self.base, self.changed, self.device[device], self.entry[device],
-                          np.asarray(current_a, dtype=float), "clearing_time_s")
-
-
-class VariantBank:
-    """Every variant's devices at once (``variants`` of them): variant ``k``'s device ``d`` is entry ``e`` of
-    the bank ``changed`` where ``keys[e] == k * n_dev + d``, else the site bank's device ``d``. What staged
-    clearing asks of a bank, each pair or arc in its own variant (:class:`~.staging.StagingContext`)."""
-
-    def __init__(self, base, changed, keys, variants, n_dev):
-        self.base, self.changed, self.variants, self.n_dev = base, changed, variants, n_dev
-        keys = np.asarray(keys, dtype=np.int64)
-        self._order = np.argsort(keys, kind="stable")
-        self._keys = keys[self._order]
-        self.element_count = max(base.element_count, changed.element_count if changed is not None else 1)
-        self._thresholds = {}
-
-    def entry(self, device, variants):
-        """The changed bank's entry of each (device, variant), -1 for the site's own device [-]."""
-        key = np.asarray(variants, dtype=np.int64) * self.n_dev + np.asarray(device, dtype=np.int64)
-        if not self._keys.size:
-            return np.full(key.shape, -1, dtype=np.intp)
-        at = np.minimum(np.searchsorted(self._keys, key), self._keys.size - 1)
-        return np.where(self._keys[at] == key, self._order[at], -1)
-
-    def elements(self, device, current_a, variants):
-        """Each element of ``device[k]`` as variant ``variants[k]`` has it, at ``current_a[k]``; see
-        :meth:`DeviceBank.elements`."""
-        device = np.asarray(device, dtype=np.intp)
-        return _evaluated(self.base, self.changed, device, self.entry(device, variants),
-                          np.asarray(current_a, dtype=float), "elements")
-
-    def threshold_a(self, within_s):
-        """Smallest current at which each device clears within ``within_s``, one row per variant
-        (see :meth:`DeviceBank.threshold_a`) [A]."""
-        if within_s not in self._thresholds:
-            found = np.tile(self.base.threshold_a(within_s), (self.variants, 1))
-            if self._keys.size:
-                found.ravel()[self._keys] = self.changed.threshold_a(within_s)[self._order]
-            self._thresholds[within_s] = found
-        return self._thresholds[within_s].copy()
+__all__ = ["changed_devices", "variant_numbers"]
 
 
 def changed_devices(site, variant):
@@ -125,23 +53,14 @@ def changed_devices(site, variant):
     if variant.devices.keys() != site.devices.keys():
         raise ValueError("a setting variant keeps the site's devices")
     changed = [ident for ident, device in variant.devices.items() if device is not site.devices[ident]]
+    if any(device.zone for device in site.devices.values()) or any(variant.devices[i].zone for i in changed):
+        raise ValueError("zone settings: a setting variant of a site with zones is studied whole "
+                         "(uncertainty.study_variants)")
     for ident in changed:
         was, now = site.devices[ident], variant.devices[ident]
         if (was.branch, was.at_bus) != (now.branch, now.at_bus):
             raise ValueError(f"a setting variant keeps device {ident} where it is")
     return changed
-
-
-def _changed_bank(site, scenario, devices):
-    """A bank of ``devices`` (replacing devices of ``site``, each its own entry), maintenance settings on for
-    those the scenario switches on."""
-    names = [str(e) for e in range(len(devices))]
-    switched = set(scenario.energy_reducing_maintenance_switching)
-    holder = SimpleNamespace(devices=dict(zip(names, (d for _, d in devices))), facility=site.facility,
-                             curves=site.curves)
-    on = SimpleNamespace(energy_reducing_maintenance_switching=[n for n, (ident, _) in zip(names, devices)
-                                                                if ident in switched])
-    return DeviceBank(holder, on, names)
 
 
 def _gathered(keys, wanted, size):
@@ -209,6 +128,9 @@ def variant_numbers(site, variants, variant, bus, changed=None, keep=None):
     variant = np.asarray(variant, dtype=np.intp)
     if changed is None:
         changed = [changed_devices(site, v) for v in variants]
+    elif has_zones(site) or any(v.devices[i].zone for v, mine in zip(variants, changed) for i in mine):
+        raise ValueError("zone settings: a setting variant of a site with zones is studied whole "
+                         "(uncertainty.study_variants)")
     changes = [[(k, ident, v.devices[ident]) for ident in mine] for k, (v, mine) in enumerate(zip(variants, changed))]
     changes = [c for mine in changes for c in mine]
     equipment = equipment_table(site)
@@ -233,7 +155,7 @@ def _scenario(site, scenario, changes, variant, bus, equipment, keep=None):
     where = {ident: d for d, ident in enumerate(ids)}
     mine = [(k, where[ident], device) for k, ident, device in changes if ident in where]
     base = device_bank(site, scenario, ids)
-    changed = _changed_bank(site, scenario, [(ids[d], device) for _, d, device in mine]) if mine else None
+    changed = bank_of_devices(site, scenario, [(ids[d], device) for _, d, device in mine]) if mine else None
     cap = site.facility.arc_duration_cap_s
     within = cap if cap is not None else np.inf
     floor = base.threshold_a(within)
@@ -244,7 +166,8 @@ def _scenario(site, scenario, changes, variant, bus, equipment, keep=None):
     arcs = arcing_currents(site, faults.buses, equipment)
     if keep is not None:
         keep[scenario.name] = SimpleNamespace(faults=faults, paths=paths, arcs=arcs, bank=base, changed=changed,
-                                              entries=[(k, ids[d]) for k, d, _ in mine])
+                                              entries=[(k, ids[d]) for k, d, _ in mine],
+                                              devices=[device for _, _, device in mine])
     solution = faults.solution
     at_bus = pd.Index(net.bus_ids).get_indexer(bus)
     n = at_bus.size

@@ -157,11 +157,30 @@ def follow_arcs(context, buses, named=None, reduced=None, variants=None):
     """
     named = np.full(len(buses), -1) if named is None else named
     reduced = np.zeros(len(buses), dtype=bool) if reduced is None else reduced
+    variants = np.zeros(len(buses), dtype=np.intp) if variants is None else np.asarray(variants, dtype=np.intp)
     if getattr(context.states, "_tiles", None) is not None:  # a stacked site: each arc's copies together
         from .staging_copies import follow_copies
 
-        return follow_copies(context, buses, named, reduced)
-    variants = np.zeros(len(buses), dtype=np.intp) if variants is None else variants
+        if not variants.any():
+            if getattr(context.bank, "variants", None) is not None:  # variant 0 of a variant bank: as set
+                context = dataclasses.replace(context, bank=context.bank.base, hot_a=context.hot_a[0])
+            return follow_copies(context, buses, named, reduced)
+        # arcs in a variant of the devices (zone settings) are followed alone, the others with their copies
+        buses = np.asarray(buses)
+        alone = np.flatnonzero(variants != 0)
+        together = np.flatnonzero(variants == 0)
+        found = [None] * len(buses)
+        own = dataclasses.replace(context, bank=context.bank.base, hot_a=context.hot_a[0])  # variant 0: as set
+        for j, arc in zip(together.tolist(), follow_copies(own, buses[together], named[together],
+                                                           reduced[together])):
+            found[j] = arc
+        arcs = [StagedArc(int(buses[j]), reduced=bool(reduced[j]), named=int(named[j]), variant=int(variants[j]))
+                for j in alone.tolist()]
+        for lo in range(0, len(arcs), CHUNK_ARCS):
+            _follow_chunk(context, arcs[lo:lo + CHUNK_ARCS])
+        for j, arc in zip(alone.tolist(), arcs):
+            found[j] = arc
+        return found
     arcs = [StagedArc(int(k), reduced=bool(r), named=int(d), variant=int(v))
             for k, d, r, v in zip(buses, named, reduced, variants)]
     for lo in range(0, len(arcs), CHUNK_ARCS):  # a chunk at a time: trip progress is held for few arcs

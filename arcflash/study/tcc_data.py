@@ -24,24 +24,28 @@ class PathRecord:
     starts: np.ndarray  # first sorted row of each bus (length buses + 1)
     device: np.ndarray
     device_ka: np.ndarray
+    nearest: np.ndarray = None  # per row: the device is the nearest to the bus on its path (its zone, .zones)
 
     @classmethod
     def from_paths(cls, scenario, paths):
         """From a scenario's :class:`arcflash.study.clearing.ClearingPaths`."""
+        from .zones import nearest_rows
+
         order = np.argsort(paths.bus, kind="stable").astype(np.int64)
         starts = np.searchsorted(paths.bus[order], np.arange(len(paths.bus_ids) + 1))
         return cls(scenario, list(paths.bus_ids), np.asarray(paths.device_ids), order, starts,
-                   np.asarray(paths.device), np.asarray(paths.device_ka, dtype=float))
+                   np.asarray(paths.device), np.asarray(paths.device_ka, dtype=float), nearest_rows(paths))
 
     def devices_at(self, bus):
-        """(device ids, bolted current through each [kA at its own voltage]) on the source paths of ``bus``,
-        in path order, each device once (its largest current)."""
+        """(device ids, bolted current through each [kA at its own voltage], whether the bus is in its zone) on
+        the source paths of ``bus``, in path order, each device once (its largest current)."""
         k = self.bus_ids.index(bus)
         rows = self.order[self.starts[k]:self.starts[k + 1]]
-        found = {}
-        for d, ka in zip(self.device[rows].tolist(), self.device_ka[rows].tolist()):
+        found, zone = {}, {}
+        for d, ka, near in zip(self.device[rows].tolist(), self.device_ka[rows].tolist(), self.nearest[rows].tolist()):
             found[d] = max(found.get(d, 0.0), ka)
-        return [str(self.device_ids[d]) for d in found], list(found.values())
+            zone[d] = zone.get(d, False) or near
+        return [str(self.device_ids[d]) for d in found], list(found.values()), [zone[d] for d in found]
 
 
 @dataclass(frozen=True)
@@ -56,6 +60,7 @@ class TccDevice:
     arcing_a: float
     reduced_arcing_a: float
     opens_at_s: float = float("nan")  # its opening in the study's sequence of the governing case, if any
+    zone: bool = False  # its zone settings are in force: the bus is in its zone (arcflash.study.zones)
 
 
 @dataclass(frozen=True)
@@ -90,7 +95,8 @@ def tcc_data(site, bus, row, record, steps=None):
     device = row["device_governing"]
     if isinstance(device, str) and device in site.devices and device not in opened:
         opened[device] = float(row["clearing_time_governing_s"])
-    ids, bolted_through = record.devices_at(bus)
+    ids, bolted_through, in_zone = record.devices_at(bus)
+    zone = {d for d, inside in zip(ids, in_zone) if inside and site.devices[d].zone}
     bolted = float(row["bolted_ka"])
     share = {d: (0.0 if bolted <= 0 else ka / bolted) for d, ka in zip(ids, bolted_through)}
     nan = float("nan")
@@ -98,7 +104,7 @@ def tcc_data(site, bus, row, record, steps=None):
         TccDevice(d, site.buses[site.devices[d].at_bus].nominal_kv, d in maintenance,
                   share[d] * float(row["arcing_current_ka"]) * 1000.0 if d in share else nan,
                   share[d] * float(row["reduced_arcing_current_ka"]) * 1000.0 if d in share else nan,
-                  opened.get(d, nan))
+                  opened.get(d, nan), d in zone)
         for d in list(share) + [d for d in opened if d not in share and d in site.devices])
     return TccData(bus, scenario.name, site.buses[bus].nominal_kv, bolted, float(row["arcing_current_ka"]),
                    float(row["reduced_arcing_current_ka"]), devices, case,

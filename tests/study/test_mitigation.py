@@ -134,3 +134,27 @@ def test_fault_ranges_of_a_downstream_device_merge_where_they_overlap():
     interval = _intervals(d, lo, hi)
     # device 1: [10, 20] and [30, 40] apart; device 3: [100, 200] holding [150, 180]; [500, 900] touching [900, 950]
     assert interval.tolist() == [2, 2, 3, 0, 1, 3]
+
+
+def test_a_smaller_fuse_from_the_library_is_proposed_and_its_inrush_checked(tmp_path):
+    # TC-SEC (the demo's transformer T-C secondary) is ended by the 100E primary fuse F-TC. The invented library
+    # holds a 65E and a 40E fuse rated 15.5 kV (site_data/libraries/invented_curves.yaml, invented data): both
+    # are proposed as hardware. By hand, T-C's inrush is 12 x 62.76 A = 753 A (common practice multiple); the
+    # 40E fuse's minimum-melt band passes (400 A, 0.25 s) and (800 A, 0.05 s), so at 753 A it melts in
+    # 10^(lg 0.25 + lg(753/400)/lg 2 x lg(0.05/0.25)) = 0.058 s, within 0.1 s: it trips on the inrush; the 65E
+    # ((650 A, 0.25 s) to (1,300 A, 0.05 s)) melts in 0.18 s: it does not. Applying the 65E and studying the
+    # revision gives the energy reported, bit for bit.
+    site = arcflash.load_site(DEMO)
+    found = mitigate(site, 8.0)
+    rows = found.candidates[(found.candidates["bus"] == "TC-SEC") & (found.candidates["kind"] == "hardware")]
+    changes = dict(zip(rows["change"].str.extract(r"-> (FUSE-[\w-]+)")[0], rows.itertuples()))
+    assert set(changes) == {"FUSE-65E-15KV", "FUSE-40E-15KV"}
+    assert "trips on T-C's inrush (753 A)" in changes["FUSE-40E-15KV"].starting_or_inrush
+    assert changes["FUSE-65E-15KV"].starting_or_inrush == ""
+    assert changes["FUSE-65E-15KV"].incident_energy_cal_cm2 < changes["FUSE-65E-15KV"].incident_energy_before_cal_cm2
+    candidate = found.proposals[changes["FUSE-65E-15KV"].candidate]
+    assert candidate.settings == {"F-TC": {"device": {"curve": "FUSE-65E-15KV"}}}
+    again = arcflash.run_study(candidate.site_of(site)).governing.loc["TC-SEC", "incident_energy_governing_cal_cm2"]
+    assert again == changes["FUSE-65E-15KV"].incident_energy_cal_cm2
+    # a fuse of another voltage rating, or none stated, is never proposed
+    assert not any("FUSE-100-LV" in c or "FUSE-30-LV" in c for c in rows["change"])
