@@ -41,6 +41,8 @@ def test_mitigate_names_each_bus_above_target_its_best_change_or_why_none_and_wr
     after = next(p for p in pages if "SWG-C, after: LVM-C-TU: zone-selective interlocking" in p)
     assert "Incident energy 15.6 cal/cm2" in before and "Incident energy 4.24 cal/cm2" in after
     assert "clearing time [s]" in after and "LVM-C-TU (0.48 kV), its zone settings in force" in after
+    # the feeders just downstream of the changed main are drawn too, before and after (selectivity)
+    assert all(f"{feeder} (0.48 kV)" in page for feeder in ("FDR-C1", "FDR-C2") for page in (before, after))
 
 
 def test_mitigate_refuses_a_target_that_is_not_a_positive_energy():

@@ -40,7 +40,42 @@ def write_mitigation_pdf(site, found, path, model=None):
             after = run_study(changed)
             for title, where, results in (("before", site, before), (f"after: {candidate.change}", changed, after)):
                 energy = results.governing.loc[row.bus, "incident_energy_governing_cal_cm2"]
+                data = _with_downstream(where, _tcc_data_again(where, results, row.bus), candidate.devices)
                 story += [PageBreak(), Paragraph(escape(f"{row.bus}, {title}"), _STYLES["Heading2"]),
-                          _p(f"Incident energy {energy:.3g} cal/cm2"),
-                          TccPage(where, _tcc_data_again(where, results, row.bus))]
+                          _p(f"Incident energy {energy:.3g} cal/cm2. Also drawn: the devices just downstream of "
+                             f"{', '.join(candidate.devices)}, with which it must stay selective."),
+                          TccPage(where, data)]
     build_pdf(path, story, site, model, f"Mitigation search - {site.facility.name}")
+
+
+#: Devices just downstream of a changed device drawn on its before/after pages, at most [-].
+DOWNSTREAM_DRAWN = 5
+
+
+def _with_downstream(site, data, changed):
+    """``data`` (a TCC page's) with the devices just downstream of the ``changed`` ones added (the first
+    :data:`DOWNSTREAM_DRAWN`, by the buses they feed), in the page's scenario; their currents at this bus's arc
+    are not drawn (NaN)."""
+    import dataclasses
+
+    from ..study.clearing import clearing_paths
+    from ..study.faults import solve_scenario
+    from ..study.tcc_data import TccDevice
+    from ..study.zones import first_below
+
+    scenario = site.scenario(data.scenario)
+    paths = clearing_paths(site, scenario, solve_scenario(site, scenario.name))
+    ids = list(paths.device_ids)
+    shown = {d.device for d in data.devices}
+    extra = []
+    for device in changed:
+        if device in ids:
+            below = first_below(paths, ids.index(device))
+            fed = {int(d): int((paths.device == d).sum()) for d in below.tolist()}
+            extra += [ids[d] for d in sorted(fed, key=lambda d: -fed[d]) if ids[d] not in shown]
+    extra = list(dict.fromkeys(extra))[:DOWNSTREAM_DRAWN]
+    maintenance = set(scenario.energy_reducing_maintenance_switching)
+    nan = float("nan")
+    added = tuple(TccDevice(d, site.buses[site.devices[d].at_bus].nominal_kv, d in maintenance, nan, nan)
+                  for d in extra)
+    return dataclasses.replace(data, devices=tuple(data.devices) + added)

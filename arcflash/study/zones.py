@@ -25,7 +25,7 @@ import numpy as np
 from .bank_variants import VariantBank
 from .device_bank import bank_of_devices, zoned
 
-__all__ = ["has_zones", "nearest_rows", "zone_buses", "zone_floor_ka", "zone_variants", "zoned"]
+__all__ = ["first_below", "has_zones", "nearest_rows", "zone_buses", "zone_floor_ka", "zone_variants", "zoned"]
 
 
 def has_zones(site):
@@ -97,3 +97,22 @@ def zone_floor_ka(site, scenario, device_ids, floor_ka):
     at = np.array([d for d, _ in mine], dtype=np.intp)
     floor_ka[at] = np.minimum(floor_ka[at], levels)
     return floor_ka
+
+
+def first_below(paths, device):
+    """The devices just downstream of ``device`` (index): on the source path to a bus it feeds, the next
+    device toward the bus (the one of those it feeds a subset of buses through that feeds the most) [-]."""
+    n_bus = len(paths.bus_ids)
+    source = paths.path // n_bus
+    n_src = int(source.max()) + 1 if source.size else 1
+    group = paths.device.astype(np.int64) * n_src + source
+    fed = np.bincount(group)[group] if group.size else np.zeros(0, dtype=np.int64)
+    mine = paths.device == device
+    through = np.zeros(int(paths.path.max()) + 1 if paths.path.size else 0, dtype=np.int64)
+    through[paths.path[mine]] = fed[mine]  # per path: how many buses the device feeds from its source
+    below = ~mine & (fed < through[paths.path])
+    if not below.any():
+        return np.zeros(0, dtype=np.intp)
+    most = np.zeros(through.size, dtype=np.int64)
+    np.maximum.at(most, paths.path[below], fed[below])
+    return np.unique(paths.device[below & (fed == most[paths.path])])
