@@ -24,6 +24,19 @@ def devices_protecting(site, scenario, bus):
     return list(dict.fromkeys(found))
 
 
+def _in_zone(site, scenario, faults, bus):
+    """The devices with zone settings whose zone holds ``bus`` in the scenario (:mod:`arcflash.study.zones`)."""
+    from ..study.clearing import clearing_paths
+    from ..study.zones import has_zones, nearest_rows
+
+    if not has_zones(site):
+        return set()
+    paths = clearing_paths(site, scenario, faults)
+    rows = nearest_rows(paths) & (paths.bus == list(paths.bus_ids).index(bus))
+    return {str(paths.device_ids[d]) for d in np.unique(paths.device[rows]).tolist()
+            if site.devices[str(paths.device_ids[d])].zone}
+
+
 def tcc_figure(site, bus, scenario=None, reference_kv=None):
     """A log-log TCC figure for ``bus``: its protecting devices, its fault currents.
 
@@ -46,12 +59,14 @@ def tcc_figure(site, bus, scenario=None, reference_kv=None):
     table = faults.devices[faults.devices["fault_bus"] == bus].set_index("device")
     ratio = arcs.loc[bus, "arcing_current_ka"] / faults.buses.loc[bus, "bolted_ka"]
     maintenance = set(chosen.energy_reducing_maintenance_switching)
+    zone = _in_zone(site, chosen, faults, bus)
     for device in devices_protecting(site, chosen, bus):
-        curve = device_curve(site, device, maintenance=device in maintenance)
+        curve = device_curve(site, device, maintenance=device in maintenance, zone=device in zone)
         device_kv = site.buses[site.devices[device].at_bus].nominal_kv
         times = curve.clearing_time_s(currents)
         shown = np.isfinite(times)
         label = device + (" (energy-reducing maintenance switching on)" if device in maintenance else "")
+        label += " (zone settings in force)" if device in zone else ""
         line, = axes.plot(currents[shown] * device_kv / ref, times[shown], label=label)
         if device in table.index:
             amps = table.loc[device, "current_ka"] * ratio * 1000.0
