@@ -53,9 +53,6 @@ def changed_devices(site, variant):
     if variant.devices.keys() != site.devices.keys():
         raise ValueError("a setting variant keeps the site's devices")
     changed = [ident for ident, device in variant.devices.items() if device is not site.devices[ident]]
-    if any(device.zone for device in site.devices.values()) or any(variant.devices[i].zone for i in changed):
-        raise ValueError("zone settings: a setting variant of a site with zones is studied whole "
-                         "(uncertainty.study_variants)")
     for ident in changed:
         was, now = site.devices[ident], variant.devices[ident]
         if (was.branch, was.at_bus) != (now.branch, now.at_bus):
@@ -128,7 +125,7 @@ def variant_numbers(site, variants, variant, bus, changed=None, keep=None):
     variant = np.asarray(variant, dtype=np.intp)
     if changed is None:
         changed = [changed_devices(site, v) for v in variants]
-    elif has_zones(site) or any(v.devices[i].zone for v, mine in zip(variants, changed) for i in mine):
+    if has_zones(site) or any(v.devices[i].zone for v, mine in zip(variants, changed) for i in mine):
         raise ValueError("zone settings: a setting variant of a site with zones is studied whole "
                          "(uncertainty.study_variants)")
     changes = [[(k, ident, v.devices[ident]) for ident in mine] for k, (v, mine) in enumerate(zip(variants, changed))]
@@ -171,19 +168,16 @@ def _scenario(site, scenario, changes, variant, bus, equipment, keep=None):
     solution = faults.solution
     at_bus = pd.Index(net.bus_ids).get_indexer(bus)
     n = at_bus.size
-    # every (variant, device) of the requests' rows and pairs, numbered; a changed one reads the changed bank
+    # every variant's devices (a changed one read from the changed bank); every (variant, device) of the
+    # requests' rows and pairs numbered, a bank of those
     changed_key = np.array([k * n_dev + d for k, d, _ in mine], dtype=np.int64)
-    order = np.argsort(changed_key, kind="stable")
+    every_bank = VariantBank(base, changed, changed_key, int(variant.max(initial=-1)) + 1, n_dev)
     rows, row_request, _, _ = _gathered(paths.bus, at_bus, n_bus)
     pairs, pair_request, pair_rank, pair_start = _gathered(solution.device_fault_bus, at_bus, n_bus)
     keys, compact = np.unique(np.concatenate([variant[row_request].astype(np.int64) * n_dev + paths.device[rows],
                                               variant[pair_request].astype(np.int64) * n_dev + solution.device[pairs]]),
                               return_inverse=True)
-    found = np.searchsorted(changed_key[order], keys)
-    hit = (found < changed_key.size) & (changed_key[order][np.minimum(found, max(changed_key.size - 1, 0))] == keys)
-    entry = np.where(hit, order[np.minimum(found, max(changed_key.size - 1, 0))], -1) if changed_key.size else \
-        np.full(keys.size, -1, dtype=np.intp)
-    bank = PatchedBank(base, changed, keys % n_dev, entry)
+    bank = PatchedBank(base, changed, keys % n_dev, every_bank.entry(keys % n_dev, keys // n_dev))
     # the requests' pairs in request order; each row's pair found there
     first_pair = np.concatenate(([0], np.cumsum(np.bincount(pair_request, minlength=n))[:-1]))
     pair = paths.pair[rows]
@@ -201,7 +195,6 @@ def _scenario(site, scenario, changes, variant, bus, equipment, keep=None):
                                  device_current_ka=solution.device_current_ka[pairs]))
     device_base_ka = base_current_ka(site.facility.s_base_mva, net.device_kv)
     bus_base_ka = base_current_ka(site.facility.s_base_mva, net.base_kv)
-    every_bank = VariantBank(base, changed, changed_key, int(variant.max(initial=-1)) + 1, n_dev)
     levels = every_bank.threshold_a(within)  # each variant's devices' levels within the cap [A]
     threshold_pu = back_feed_threshold_pu(paths, net, base.threshold_a(within), device_base_ka)[at_bus]
     for k in sorted({k for k, d, _ in mine if paths.back_feed[d]}):  # a back-feeding device changed: its part's level

@@ -105,3 +105,9 @@ def test_a_variant_that_changes_more_than_devices_is_refused():
     other = dataclasses.replace(site, devices={**site.devices, "FDR-A1": device.replaced({"at_bus": "MCC-A1"})})
     with pytest.raises(ValueError, match="keeps device FDR-A1 where it is"):
         changed_devices(site, other)
+    # zone settings give each bus its own devices: a variant with them is studied whole, never here
+    main = site.devices["LVM-A"]
+    zoned_site = dataclasses.replace(site, devices={**site.devices,
+                                                    "LVM-A": main.replaced({"zone": {"short_time_delay_s": 0.05}})})
+    with pytest.raises(ValueError, match="zone settings"):
+        variant_numbers(site, [zoned_site], [0], ["SWG-A"])
