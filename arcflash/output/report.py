@@ -312,7 +312,10 @@ def _tcc_data_again(site, results, bus):
     row = results.governing.loc[bus]
     scenario = site.scenario(row["scenario"])
     paths = clearing_paths(site, scenario, solve_scenario(site, scenario.name, for_clearing=True))
-    return tcc_data(site, bus, row, PathRecord.from_paths(scenario.name, paths), results.steps)
+    from ..study.pipeline import _zone_rows
+
+    return tcc_data(site, bus, row, PathRecord.from_paths(scenario.name, paths, _zone_rows(site, scenario, paths)),
+                    results.steps)
 
 
 def _watermark(canvas, word="DRAFT"):

@@ -27,12 +27,12 @@ def devices_protecting(site, scenario, bus):
 def _in_zone(site, scenario, faults, bus):
     """The devices with zone settings whose zone holds ``bus`` in the scenario (:mod:`arcflash.study.zones`)."""
     from ..study.clearing import clearing_paths
-    from ..study.zones import has_zones, nearest_rows
+    from ..study.zones import has_zones, zone_rows
 
     if not has_zones(site):
         return set()
     paths = clearing_paths(site, scenario, faults)
-    rows = nearest_rows(paths) & (paths.bus == list(paths.bus_ids).index(bus))
+    rows = zone_rows(site, scenario, paths) & (paths.bus == list(paths.bus_ids).index(bus))
     return {str(paths.device_ids[d]) for d in np.unique(paths.device[rows]).tolist()
             if site.devices[str(paths.device_ids[d])].zone}
 

@@ -350,7 +350,7 @@ def _zone_states(site, every, asked):
     'every' scenario where it feeds the bus, in 'no' scenario, or in 'some' [-]."""
     from .clearing import clearing_paths
     from .faults import solve_scenario
-    from .zones import zone_buses
+    from .zones import zone_rows
 
     wanted = [(j, bus) for j, bus in asked if every[j].key == ("zone",)]
     if not wanted:
@@ -358,18 +358,18 @@ def _zone_states(site, every, asked):
     scenarios = []
     for name, scenario in site.scenarios.items():
         paths = clearing_paths(site, scenario, solve_scenario(site, name))
-        scenarios.append((paths, list(paths.bus_ids), list(paths.device_ids), {}))
+        scenarios.append((paths, list(paths.bus_ids), list(paths.device_ids), zone_rows(site, scenario, paths), {}))
     states = {}
     for j, bus in wanted:
         state = {}
         for device in every[j].devices:
             inside = []
-            for paths, bus_ids, ids, zones in scenarios:
+            for paths, bus_ids, ids, rows, zones in scenarios:
                 if device not in ids:
                     continue
                 d, k = ids.index(device), bus_ids.index(bus)
                 if d not in zones:
-                    zones[d] = set(zone_buses(paths, d).tolist())
+                    zones[d] = set(paths.bus[rows & (paths.device == d)].tolist())
                 if ((paths.bus == k) & (paths.device == d)).any():
                     inside.append(k in zones[d])
             state[device] = "every" if inside and all(inside) else ("no" if not any(inside) else "some")

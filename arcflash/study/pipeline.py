@@ -194,7 +194,15 @@ def _scenario_rows(site, scenario, equipment, stated_times=None):
     stages = cleared.stages[~cleared.stages["bus"].isin(list(stated_times or {}))]
     steps = cleared.steps[~cleared.steps["bus"].isin(list(stated_times or {}))]
     _staged_energy(table, stages)
-    return table, stages, steps, PathRecord.from_paths(scenario.name, paths)
+    return table, stages, steps, PathRecord.from_paths(scenario.name, paths, _zone_rows(site, scenario, paths))
+
+
+def _zone_rows(site, scenario, paths):
+    """Which path rows' devices' zone holds the bus (:func:`.zones.zone_rows`), None on a site without zone
+    settings."""
+    from .zones import has_zones, zone_rows
+
+    return zone_rows(site, scenario, paths) if has_zones(site) else None
 
 
 #: The kinds of study flag, numbered: a label prints the numbers of its row's flags ("STUDY NOTES 2, 5") and

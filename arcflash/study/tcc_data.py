@@ -24,17 +24,17 @@ class PathRecord:
     starts: np.ndarray  # first sorted row of each bus (length buses + 1)
     device: np.ndarray
     device_ka: np.ndarray
-    nearest: np.ndarray = None  # per row: the device is the nearest to the bus on its path (its zone, .zones)
+    zone: np.ndarray = None  # per row: the device's zone holds the bus (arcflash.study.zones.zone_rows)
 
     @classmethod
-    def from_paths(cls, scenario, paths):
-        """From a scenario's :class:`arcflash.study.clearing.ClearingPaths`."""
-        from .zones import nearest_rows
-
+    def from_paths(cls, scenario, paths, zone=None):
+        """From a scenario's :class:`arcflash.study.clearing.ClearingPaths` (``zone``: which rows' devices' zone
+        holds the bus, :func:`arcflash.study.zones.zone_rows`; none where not given)."""
         order = np.argsort(paths.bus, kind="stable").astype(np.int64)
         starts = np.searchsorted(paths.bus[order], np.arange(len(paths.bus_ids) + 1))
         return cls(scenario, list(paths.bus_ids), np.asarray(paths.device_ids), order, starts,
-                   np.asarray(paths.device), np.asarray(paths.device_ka, dtype=float), nearest_rows(paths))
+                   np.asarray(paths.device), np.asarray(paths.device_ka, dtype=float),
+                   np.zeros(paths.bus.size, dtype=bool) if zone is None else zone)
 
     def devices_at(self, bus):
         """(device ids, bolted current through each [kA at its own voltage], whether the bus is in its zone) on
@@ -42,7 +42,7 @@ class PathRecord:
         k = self.bus_ids.index(bus)
         rows = self.order[self.starts[k]:self.starts[k + 1]]
         found, zone = {}, {}
-        for d, ka, near in zip(self.device[rows].tolist(), self.device_ka[rows].tolist(), self.nearest[rows].tolist()):
+        for d, ka, near in zip(self.device[rows].tolist(), self.device_ka[rows].tolist(), self.zone[rows].tolist()):
             found[d] = max(found.get(d, 0.0), ka)
             zone[d] = zone.get(d, False) or near
         return [str(self.device_ids[d]) for d in found], list(found.values()), [zone[d] for d in found]

@@ -11,7 +11,13 @@ zone, a device works with its ``zone:`` settings in force over its own (common p
   the breaker at once (modelled as an instantaneous element: ``zone: {instantaneous_a: ...}``).
 
 For an arc elsewhere, the device keeps its own settings (a downstream device restrains it, or the fault lies
-outside its differential zone), so selectivity is kept by the scheme itself.
+outside its differential zone), so selectivity is kept by the scheme itself. A device that is not on the
+bus's source paths but carries current for its fault (motors or a source behind it feeding the fault back)
+may see it too and restrain the devices upstream: where any such device's largest back-fed current (the
+bolted one) reaches the current from which it may restrain (its short-time pickup band's lower edge; a
+relay's pickup), the bus is taken to be in no zone-selective interlocking zone (the longer arc, the
+conservative reading; tested). A differential zone is bounded by its current transformers: a current fed
+back through it leaves the zone and is not seen.
 
 Each bus gets a variant of the devices: the devices with zone settings whose zone holds it (none: variant 0,
 the site's own devices); a :class:`~.bank_variants.VariantBank` gives every arc, one-stage or staged, the
@@ -25,7 +31,8 @@ import numpy as np
 from .bank_variants import VariantBank
 from .device_bank import bank_of_devices, zoned
 
-__all__ = ["first_below", "has_zones", "nearest_rows", "zone_buses", "zone_floor_ka", "zone_variants", "zoned"]
+__all__ = ["first_below", "has_zones", "nearest_rows", "restrained", "restraint_pickup_a", "zone_buses", "zone_floor_ka", "zone_rows",
+           "zone_variants", "zoned"]
 
 
 def has_zones(site):
@@ -52,10 +59,49 @@ def nearest_rows(paths):
     return fed == fewest[paths.path]
 
 
-def zone_buses(paths, device):
+def restraint_pickup_a(device):
+    """The current from which ``device`` may send a restraint signal upstream [A]: the lower edge of a trip
+    unit's short-time pickup band, a relay's inverse-time pickup (primary amperes); ``inf`` for a device that
+    cannot (a fuse, a digitised curve, a trip unit without a short-time element)."""
+    unit, relay = device.trip_unit, device.relay
+    if unit is not None and unit.short_time_pickup is not None:
+        return unit.short_time_pickup * unit.long_time_pickup * unit.rating_a * (1.0 - unit.pickup_tolerance)
+    if relay is not None:
+        return relay.pickup_a * relay.ct_primary_a / relay.ct_secondary_a
+    return np.inf
+
+
+def restrained(site, scenario, paths):
+    """Per bus (index): whether a device off its source paths carries, for a fault there, at least the current
+    from which it may restrain (:func:`restraint_pickup_a`; its back-fed bolted current, from the fault table
+    without the clearing floor): zone-selective interlocking upstream of the bus is then taken to be
+    restrained [-]."""
+    from .faults import solve_scenario
+
+    solution = solve_scenario(site, scenario.name).solution
+    ids = list(paths.device_ids)
+    n_bus, n_dev = len(paths.bus_ids), len(ids)
+    pickup = np.array([restraint_pickup_a(site.devices[ident]) for ident in ids], dtype=float)
+    on_path = np.zeros(n_bus * n_dev, dtype=bool)
+    on_path[paths.bus.astype(np.int64) * n_dev + paths.device] = True
+    off = ~on_path[solution.device_fault_bus.astype(np.int64) * n_dev + solution.device]
+    seen = solution.device_current_ka * 1000.0 >= pickup[solution.device]
+    found = np.zeros(n_bus, dtype=bool)
+    found[solution.device_fault_bus[off & seen]] = True
+    return found
+
+
+def zone_rows(site, scenario, paths):
+    """Per path row: whether its device's zone holds the row's bus: the nearest device (:func:`nearest_rows`),
+    and for a trip unit (zone-selective interlocking) the bus not restrained (:func:`restrained`; a relay's
+    differential zone is bounded by its current transformers, which a back-fed current crosses twice) [-]."""
+    relay = np.array([site.devices[ident].relay is not None for ident in paths.device_ids], dtype=bool)
+    return nearest_rows(paths) & (relay[paths.device] | ~restrained(site, scenario, paths)[paths.bus])
+
+
+def zone_buses(site, scenario, paths, device):
     """The buses (indices) in the zone of device ``device`` (index) in a scenario's paths [-]."""
-    nearest = nearest_rows(paths)
-    return np.unique(paths.bus[nearest & (paths.device == device)])
+    return np.unique(paths.bus[zone_rows(site, scenario, paths) & (paths.device == device)])
 
 
 def zone_variants(site, scenario, paths):
@@ -66,7 +112,7 @@ def zone_variants(site, scenario, paths):
     ids = list(paths.device_ids)
     n_bus, n_dev = len(paths.bus_ids), len(ids)
     with_zone = np.array([bool(site.devices[ident].zone) for ident in ids], dtype=bool)
-    rows = nearest_rows(paths) & with_zone[paths.device]
+    rows = zone_rows(site, scenario, paths) & with_zone[paths.device]
     pairs = np.unique(paths.bus[rows].astype(np.int64) * n_dev + paths.device[rows])
     bus, device = pairs // n_dev, pairs % n_dev
     variant = np.zeros(n_bus, dtype=np.intp)
