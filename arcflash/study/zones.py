@@ -36,14 +36,22 @@ __all__ = ["first_below", "has_zones", "nearest_rows", "restrained", "restraint_
 
 
 def has_zones(site):
-    """Whether any device of ``site`` (of a stacked site, its base's or one a copy changed) has zone settings."""
-    stack = getattr(site, "stack", None)
-    if stack is None:
-        return any(device.zone for device in site.devices.values())
-    from .stack_tiling import _changed
+    """Whether any device of ``site`` (of a stacked site, its base's or one a copy changed) has zone settings
+    (remembered while the site lives: each scenario asks several times)."""
+    from .remembered import site_memory
 
-    return any(device.zone for device in stack.base.devices.values()) or any(
-        stack.copies[k].devices[ident].zone for k, changed in enumerate(_changed(stack, "devices")) for ident in changed)
+    memory = site_memory("zones", site)
+    if "any" not in memory:
+        stack = getattr(site, "stack", None)
+        if stack is None:
+            memory["any"] = any(device.zone for device in site.devices.values())
+        else:
+            from .stack_tiling import _changed
+
+            memory["any"] = any(device.zone for device in stack.base.devices.values()) or any(
+                stack.copies[k].devices[ident].zone
+                for k, changed in enumerate(_changed(stack, "devices")) for ident in changed)
+    return memory["any"]
 
 
 def nearest_rows(paths):
