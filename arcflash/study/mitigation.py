@@ -4,8 +4,9 @@ bus above a target energy at once, each kept only with what it costs in selectiv
 For every bus whose governing incident energy is above the target, the devices that end its arcs (in any
 scenario and arcing case above the target) get candidate changes from a stated search space
 (:class:`SearchSpace`): lower instantaneous pickups, lower short-time pickups and delays of trip units,
-lower instantaneous pickups of relays, and the device's energy-reducing maintenance settings made the
-working setting (a procedure). Every candidate is studied through the whole chain — faults, staged
+lower instantaneous pickups of relays, the device's energy-reducing maintenance settings made the working
+setting (a procedure), and hardware: zone-selective interlocking or a differential zone (zone settings,
+:mod:`.zones`), a smaller fuse or breaker from the device library. Every candidate is studied through the whole chain — faults, staged
 clearing, both arcing cases, every scenario — at each bus whose clearing devices it changes, all
 candidates together (:func:`~arcflash.study.setting_variants.variant_numbers`: a setting moves no fault
 current, so the site's faults serve every candidate; each number is the one a study of the changed site
@@ -34,7 +35,8 @@ import numpy as np
 import pandas as pd
 
 from ..models import nfpa70e
-from .mitigation_checks import Checks
+from .mitigation_checks import (  # noqa: F401 (the constants' earlier home)
+    INRUSH_MULTIPLE, INRUSH_S, MOTOR_START_MULTIPLE, MOTOR_START_S, PICKUP_EDGES, RANGE_POINTS, RELAY_MARGIN_S, Checks)
 
 __all__ = ["Candidate", "MitigationResult", "SearchSpace", "candidates_for", "mitigate"]
 
