@@ -86,10 +86,12 @@ class VariantBank:
 
     def threshold_a(self, within_s):
         """Smallest current at which each device clears within ``within_s``, one row per variant
-        (see :meth:`DeviceBank.threshold_a`) [A]."""
+        (see :meth:`DeviceBank.threshold_a`; read-only, remembered: a copy per call of variants × devices
+        values would cost more than the reading) [A]."""
         if within_s not in self._thresholds:
             found = np.tile(self.base.threshold_a(within_s), (self.variants, 1))
             if self._keys.size:
                 found.ravel()[self._keys] = self.changed.threshold_a(within_s)[self._order]
+            found.flags.writeable = False
             self._thresholds[within_s] = found
-        return self._thresholds[within_s].copy()
+        return self._thresholds[within_s]
