@@ -64,7 +64,7 @@ def _with_downstream(site, data, changed):
     from ..study.zones import first_below
 
     scenario = site.scenario(data.scenario)
-    paths = clearing_paths(site, scenario, solve_scenario(site, scenario.name))
+    paths = clearing_paths(site, scenario, solve_scenario(site, scenario.name, for_clearing=True))
     ids = list(paths.device_ids)
     shown = {d.device for d in data.devices}
     extra = []

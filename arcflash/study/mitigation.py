@@ -29,6 +29,7 @@ Each candidate is checked (:mod:`.mitigation_checks`) against:
 from __future__ import annotations
 
 import dataclasses
+from collections.abc import Mapping
 from dataclasses import dataclass
 
 import numpy as np
@@ -98,10 +99,29 @@ class Candidate:
 
     def site_of(self, site):
         """The site with this change made (a variant: its devices replaced)."""
-        devices = dict(site.devices)
-        for ident, update in self.updates.items():
-            devices[ident] = devices[ident].replaced(update)
-        return dataclasses.replace(site, devices=devices)
+        return _with_devices(site, {ident: site.devices[ident].replaced(update) for ident, update in self.updates.items()})
+
+
+class _Overlay(Mapping):
+    """A site's devices with some replaced, the others read from the site's own mapping (a candidate's site:
+    a copy of a large site's devices per candidate would cost more than its study)."""
+
+    def __init__(self, base, replaced):
+        self._base, self._replaced = base, replaced
+
+    def __getitem__(self, ident):
+        return self._replaced[ident] if ident in self._replaced else self._base[ident]
+
+    def __iter__(self):
+        return iter(self._base)
+
+    def __len__(self):
+        return len(self._base)
+
+
+def _with_devices(site, replaced):
+    """``site`` with the devices of ``replaced`` (id -> device) in place of its own."""
+    return dataclasses.replace(site, devices=_Overlay(site.devices, replaced))
 
 
 def _together(candidates):
@@ -328,8 +348,8 @@ def _reached(site, every, sites, asked, before, solved):
         if key not in number:
             number[key] = len(variants)
             zoned_here = key[1] or ()
-            variants.append((sites[j] if key[1] is None else dataclasses.replace(
-                site, devices={**site.devices, **{d: zoned(sites[j].devices[d]) for d in zoned_here}}),
+            variants.append((sites[j] if key[1] is None else _with_devices(
+                site, {d: zoned(sites[j].devices[d]) for d in zoned_here}),
                 every[j].devices if key[1] is None else zoned_here))
         requests.append((j, bus, number[key]))
     requests = [r for r in requests if r[0] not in whole]
@@ -359,7 +379,7 @@ def _zone_states(site, every, asked):
         return {}
     scenarios = []
     for name, scenario in site.scenarios.items():
-        paths = clearing_paths(site, scenario, solve_scenario(site, name))
+        paths = clearing_paths(site, scenario, solve_scenario(site, name, for_clearing=True))
         scenarios.append((paths, list(paths.bus_ids), list(paths.device_ids), zone_rows(site, scenario, paths), {}))
     states = {}
     for j, bus in wanted:

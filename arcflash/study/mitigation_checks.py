@@ -177,7 +177,7 @@ class Checks:
             if made is not None:  # the faults and paths a candidate's study made (the same forward currents)
                 faults, paths, arcs, bank = made.faults, made.paths, made.arcs, made.bank
             else:
-                faults = solve_scenario(site, name)
+                faults = solve_scenario(site, name, for_clearing=True)
                 paths = clearing_paths(site, scenario, faults)
                 arcs = arcing_currents(site, faults.buses, equipment)
                 bank = device_bank(site, scenario, list(faults.net.device_ids))

@@ -81,15 +81,16 @@ def restraint_pickup_a(device):
 
 def restrained(site, scenario, paths):
     """Per bus (index): whether a device off its source paths carries, for a fault there, at least the current
-    from which it may restrain (:func:`restraint_pickup_a`; its back-fed bolted current, from the fault table
-    without the clearing floor): zone-selective interlocking upstream of the bus is then taken to be
-    restrained [-]."""
+    from which it may restrain (:func:`restraint_pickup_a`; its back-fed bolted current, from a fault table
+    whose back-fed rows are those at or above that current): zone-selective interlocking upstream of the bus
+    is then taken to be restrained [-]."""
     from .faults import solve_scenario
 
-    solution = solve_scenario(site, scenario.name).solution
     ids = list(paths.device_ids)
     n_bus, n_dev = len(paths.bus_ids), len(ids)
     pickup = np.array([restraint_pickup_a(site.devices[ident]) for ident in ids], dtype=float)
+    # the back-fed rows below a device's restraint pickup are left out of the solve: they restrain nothing
+    solution = solve_scenario(site, scenario.name, backfeed_floor_ka=pickup / 1000.0).solution
     on_path = np.zeros(n_bus * n_dev, dtype=bool)
     on_path[paths.bus.astype(np.int64) * n_dev + paths.device] = True
     off = ~on_path[solution.device_fault_bus.astype(np.int64) * n_dev + solution.device]
