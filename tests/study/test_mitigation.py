@@ -17,7 +17,7 @@ import pytest
 
 import arcflash
 from arcflash.study.mitigation import SearchSpace, mitigate
-from tests.site.helpers import write_site
+from tests.site.helpers import lv_substation, write_site
 
 DEMO = Path(__file__).resolve().parents[2] / "site_data" / "fenwick_ridge"
 
@@ -25,14 +25,7 @@ DEMO = Path(__file__).resolve().parents[2] / "site_data" / "fenwick_ridge"
 def _chain(tmp_path, c2_length_ft, c2_size):
     document = {
         "facility": {"name": "Mitigation chain (invented)"},
-        "buses": [{"id": "MV", "nominal_kv": 13.8, "equipment_class": "switchgear-15kv"},
-                  {"id": "LV", "nominal_kv": 0.48, "equipment_class": "switchgear-lv"},
-                  {"id": "MCC", "nominal_kv": 0.48, "equipment_class": "mcc-lv-deep"},
-                  {"id": "END", "nominal_kv": 0.48, "equipment_class": "panelboard-deep"}],
-        "utilities": [{"id": "U", "bus": "MV", "kv": 13.8, "max": {"fault": "20 kA", "x_over_r": 10},
-                       "min": {"fault": "10 kA", "x_over_r": 8}}],
-        "transformers": [{"id": "T", "primary_bus": "MV", "secondary_bus": "LV", "kva": 1500, "primary_kv": 13.8,
-                          "secondary_kv": 0.48, "z_percent": 5.75, "x_over_r": 6, "z_tolerance_percent": 0}],
+        **lv_substation(("MCC", "mcc-lv-deep"), ("END", "panelboard-deep")),
         "cables": [{"id": "C1", "from_bus": "LV", "to_bus": "MCC", "length": "50 ft", "size": "500",
                     "material": "copper", "conduit": "steel", "sets": 2},
                    {"id": "C2", "from_bus": "MCC", "to_bus": "END", "length": f"{c2_length_ft} ft", "size": c2_size,

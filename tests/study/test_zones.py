@@ -63,17 +63,11 @@ def test_zone_interlocking_clears_its_own_bus_fast_and_keeps_its_delay_beyond_th
 def _motor_chain(tmp_path, feeder_rating_a, feeder_short_time):
     # an invented 480 V chain: MAIN (short-time delay 0.4 s, zone-selective interlocking at 0.05 s) feeding LV,
     # and feeder FDR from LV to an MCC with a 200 hp motor, whose contribution FDR carries back to a fault at LV
-    from tests.site.helpers import write_site
+    from tests.site.helpers import lv_substation, write_site
 
     document = {
         "facility": {"name": "Zone restraint chain (invented)"},
-        "buses": [{"id": "MV", "nominal_kv": 13.8, "equipment_class": "switchgear-15kv"},
-                  {"id": "LV", "nominal_kv": 0.48, "equipment_class": "switchgear-lv"},
-                  {"id": "MCC", "nominal_kv": 0.48, "equipment_class": "mcc-lv-deep"}],
-        "utilities": [{"id": "U", "bus": "MV", "kv": 13.8, "max": {"fault": "20 kA", "x_over_r": 10},
-                       "min": {"fault": "10 kA", "x_over_r": 8}}],
-        "transformers": [{"id": "T", "primary_bus": "MV", "secondary_bus": "LV", "kva": 1500, "primary_kv": 13.8,
-                          "secondary_kv": 0.48, "z_percent": 5.75, "x_over_r": 6, "z_tolerance_percent": 0}],
+        **lv_substation(("MCC", "mcc-lv-deep")),
         "cables": [{"id": "C1", "from_bus": "LV", "to_bus": "MCC", "length": "30 ft", "size": "500",
                     "material": "copper", "conduit": "steel", "sets": 2}],
         "motors": [{"id": "M1", "bus": "MCC", "size": "200 hp", "kv": 0.46}],
